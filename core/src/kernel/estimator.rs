@@ -1,0 +1,384 @@
+//! Integer coil current estimator: the exact zero-order-hold update of the RL model.
+//!
+//! # Algorithm
+//!
+//! Over one tick of length `T` the applied voltage `u` is held constant, so the RL equation
+//! `L di/dt = u − R i` integrates exactly to
+//!
+//! ```text
+//! i[k+1] = a·i[k] + (1 − a)·u[k]/R,      a = exp(−T·R/L)
+//!        = i[k] + c·(I_t − i[k]),        c = 1 − a,  I_t = u/R (the current the tick heads to)
+//! ```
+//!
+//! (closed form of the first-order step response; not forward Euler, which would use
+//! `c = T·R/L` and run 2.26 % high after ten ticks at `T/τ = 0.06`).
+//!
+//! - **On**: `u = V_supply − V_switch`, `R = R_on` (winding plus series resistances).
+//! - **Off**: the current freewheels through the clamp: `u = k·V_supply − V_clamp` with
+//!   `k = 0` for a clamp across the coil (diode, diode plus zener, resistor plus diode) and
+//!   `k = 1` for a clamp across the switch; `R = R_off`. The diode blocks at zero: once the
+//!   update reaches zero or below, the current is zero and stays there while off.
+//!
+//! # Fixed point
+//!
+//! State: the current in microamps (`i32`) and the fraction below one microamp carried from the
+//! last tick (`u32`, units of 2⁻³¹ µA). Carrying the fraction (error feedback) removes the dead
+//! band a plain rounded IIR update has near its target (`0.5/c` µA, half an ampere at
+//! `c = 10⁻⁶`); the remaining bias is below 1 µA.
+//!
+//! Coefficients: `c` in Q31, the loop conductance `1/R` in Q16 µA per mV. One tick costs two
+//! 32×32→64 multiplies, shifts and compares: no float, no division.
+//!
+//! # Ranges
+//!
+//! Documented and checked by the plan constructor: loop resistance 0.05 Ω ..= 50 kΩ,
+//! `T/τ` 10⁻⁶ ..= 1000. At run time the target and the state saturate at ±[`CURRENT_LIMIT_UA`]
+//! (about ±1073 A) and supply readings below zero count as 0 V.
+
+use super::q::{clamp_i64, mul_q16_round, q16_from_f32, q31_from_f32};
+use crate::coil::Coil;
+use crate::error::{Error, in_range, non_negative, positive};
+
+/// Saturation limit of estimator currents, µA (2³⁰ µA ≈ 1073.7 A).
+pub const CURRENT_LIMIT_UA: i32 = 1 << 30;
+
+const LOOP_R_MIN_OHM: f32 = 0.05;
+const LOOP_R_MAX_OHM: f32 = 50_000.0;
+const STEP_RATIO_MIN: f32 = 1.0e-6;
+const STEP_RATIO_MAX: f32 = 1.0e3;
+const MV_PER_V: f32 = 1000.0;
+/// `1/R` in A/V is `1000/R` in µA/mV.
+const UA_PER_MV_PER_SIEMENS: f32 = 1000.0;
+
+/// The freewheel (switch-off) path of the estimator.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct OffPath {
+    /// `1 − exp(−T·R_off/L)`, Q31.
+    pub step_q31: i32,
+    /// `1/R_off`, µA per mV, Q16.
+    pub conductance_q16: i32,
+    /// Constant voltage of the clamp opposing the current, mV.
+    pub clamp_mv: i32,
+    /// `true` for a clamp across the switch: the supply keeps driving the coil while off.
+    pub supply_coupled: bool,
+}
+
+/// Estimator coefficients for one coil, temperature and tick period (shared by channels).
+///
+/// # Examples
+///
+/// ```
+/// # use lenz::{CoilParams, kernel::{EstimatorConfig, EstimatorState}};
+/// let coil = CoilParams::new(0.040, 24.0).validate()?;
+/// let cfg = EstimatorConfig::new(&coil, 20.0, 100e-6)?;
+/// let mut s = EstimatorState::new();
+/// for _ in 0..10 {
+///     cfg.update(&mut s, true, 12_000);
+/// }
+/// // 12 V step into 40 mH / 24 Ω: 0.225594182 A after 1 ms (closed form).
+/// assert!((s.current_ua() - 225_594).abs() <= 30);
+/// # Ok::<(), lenz::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct EstimatorConfig {
+    on_step_q31: i32,
+    on_conductance_q16: i32,
+    switch_drop_mv: i32,
+    off: OffPath,
+}
+
+/// Per-channel estimator state: 8 bytes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct EstimatorState {
+    current_ua: i32,
+    frac: u32,
+}
+
+impl EstimatorState {
+    /// Zero current.
+    #[must_use]
+    pub const fn new() -> Self {
+        Self {
+            current_ua: 0,
+            frac: 0,
+        }
+    }
+
+    /// Starts from a known current (for example a measured one), saturated to the estimator's
+    /// range.
+    #[must_use]
+    pub const fn with_current_ua(current_ua: i32) -> Self {
+        Self {
+            current_ua: clamp_i64(current_ua as i64, 0, CURRENT_LIMIT_UA as i64) as i32,
+            frac: 0,
+        }
+    }
+
+    /// Estimated current, µA.
+    #[must_use]
+    pub const fn current_ua(&self) -> i32 {
+        self.current_ua
+    }
+}
+
+fn step_q31(tick_s: f32, r_ohm: f32, l_h: f32, param: &'static str) -> Result<i32, Error> {
+    let x = tick_s * r_ohm / l_h;
+    in_range(param, x, STEP_RATIO_MIN, STEP_RATIO_MAX)?;
+    Ok(q31_from_f32(-libm::expm1f(-x)))
+}
+
+fn conductance_q16(r_ohm: f32, param: &'static str) -> Result<i32, Error> {
+    in_range(param, r_ohm, LOOP_R_MIN_OHM, LOOP_R_MAX_OHM)?;
+    Ok(q16_from_f32(UA_PER_MV_PER_SIEMENS / r_ohm))
+}
+
+fn volts_to_mv(param: &'static str, v: f32) -> Result<i32, Error> {
+    let v = in_range(param, non_negative(param, v)?, 0.0, 2.0e6)?;
+    Ok(libm::roundf(v * MV_PER_V) as i32)
+}
+
+impl EstimatorConfig {
+    /// Coefficients for `coil` at `temp_c`, ticking every `tick_s` seconds, freewheeling
+    /// through the coil's diode (drop `diode_drop_v`) when off.
+    ///
+    /// # Errors
+    ///
+    /// Bad temperature or tick, or a loop resistance or `tick/τ` outside the documented ranges
+    /// (module docs), named as `loop_resistance_ohm` or `tick_s`.
+    pub fn new(coil: &Coil, temp_c: f32, tick_s: f32) -> Result<Self, Error> {
+        let diode_v = coil.params().diode_drop_v;
+        Self::with_clamp(coil, temp_c, tick_s, 0.0, diode_v, false)
+    }
+
+    /// Coefficients with a general off path: `extra_off_resistance_ohm` in series with the
+    /// winding while off (a resistor clamp), a constant `clamp_v` opposing the current, and
+    /// `supply_coupled` for a clamp across the switch (the coil then sees `V_clamp − V_supply`).
+    ///
+    /// # Errors
+    ///
+    /// As [`EstimatorConfig::new`], plus a negative or non-finite resistance or clamp voltage.
+    pub fn with_clamp(
+        coil: &Coil,
+        temp_c: f32,
+        tick_s: f32,
+        extra_off_resistance_ohm: f32,
+        clamp_v: f32,
+        supply_coupled: bool,
+    ) -> Result<Self, Error> {
+        let tick = positive("tick_s", tick_s)?;
+        let extra = non_negative("extra_off_resistance_ohm", extra_off_resistance_ohm)?;
+        let l = coil.inductance_h();
+        let r_on = coil.on_loop_resistance_ohm(temp_c)?;
+        let r_off = coil.off_loop_resistance_ohm(temp_c)? + extra;
+        Ok(Self {
+            on_step_q31: step_q31(tick, r_on, l, "tick_s")?,
+            on_conductance_q16: conductance_q16(r_on, "loop_resistance_ohm")?,
+            switch_drop_mv: volts_to_mv("switch_drop_v", coil.params().switch_drop_v)?,
+            off: OffPath {
+                step_q31: step_q31(tick, r_off, l, "tick_s")?,
+                conductance_q16: conductance_q16(r_off, "loop_resistance_ohm")?,
+                clamp_mv: volts_to_mv("clamp_v", clamp_v)?,
+                supply_coupled,
+            },
+        })
+    }
+
+    /// Coefficients from raw fixed-point values (for constants emitted by the host tool).
+    /// The caller is responsible for their validity; the update still cannot overflow or panic.
+    #[must_use]
+    pub const fn from_raw(
+        on_step_q31: i32,
+        on_conductance_q16: i32,
+        switch_drop_mv: i32,
+        off: OffPath,
+    ) -> Self {
+        Self {
+            on_step_q31,
+            on_conductance_q16,
+            switch_drop_mv,
+            off,
+        }
+    }
+
+    /// The off path.
+    #[must_use]
+    pub const fn off_path(&self) -> &OffPath {
+        &self.off
+    }
+
+    /// `1 − a` of the on path, Q31.
+    #[must_use]
+    pub const fn on_step_q31(&self) -> i32 {
+        self.on_step_q31
+    }
+
+    /// `1/R_on`, µA per mV, Q16.
+    #[must_use]
+    pub const fn on_conductance_q16(&self) -> i32 {
+        self.on_conductance_q16
+    }
+
+    /// Switch drop, mV.
+    #[must_use]
+    pub const fn switch_drop_mv(&self) -> i32 {
+        self.switch_drop_mv
+    }
+
+    /// Advances the estimate by one tick and returns the new estimate, µA.
+    ///
+    /// # Arguments
+    ///
+    /// - `switch_on`: the switch state held during the tick that ends now.
+    /// - `supply_mv`: the measured (or nominal) supply during that tick, mV; negative readings
+    ///   count as 0 V.
+    ///
+    /// # Returns
+    ///
+    /// The estimated current at the end of the tick, µA, in `0 ..= CURRENT_LIMIT_UA`.
+    #[inline]
+    pub fn update(&self, state: &mut EstimatorState, switch_on: bool, supply_mv: i32) -> i32 {
+        let supply = if supply_mv > 0 { supply_mv } else { 0 };
+        let lim = CURRENT_LIMIT_UA as i64;
+        let (step, target) = if switch_on {
+            let u = supply.saturating_sub(self.switch_drop_mv);
+            let u = if u > 0 { u } else { 0 };
+            (
+                self.on_step_q31,
+                clamp_i64(mul_q16_round(u, self.on_conductance_q16), 0, lim),
+            )
+        } else {
+            let coupled = if self.off.supply_coupled { supply } else { 0 };
+            let u = coupled.saturating_sub(self.off.clamp_mv);
+            (
+                self.off.step_q31,
+                clamp_i64(mul_q16_round(u, self.off.conductance_q16), -lim, lim),
+            )
+        };
+        // state and target lie in ±2^30, so the difference fits an i32 product operand.
+        let diff = target - state.current_ua as i64;
+        let acc = diff * step as i64 + state.frac as i64;
+        let whole = acc >> 31;
+        let mut frac = (acc - (whole << 31)) as u32;
+        let mut i = state.current_ua as i64 + whole;
+        if i <= 0 {
+            // The switch or the freewheel diode blocks reverse current.
+            i = 0;
+            frac = 0;
+        }
+        let i = clamp_i64(i, 0, lim) as i32;
+        debug_assert!(frac < (1u32 << 31));
+        state.current_ua = i;
+        state.frac = frac;
+        i
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::CoilParams;
+    use proptest::prelude::*;
+
+    fn reference_coil() -> Coil {
+        CoilParams::new(0.040, 24.0).validate().unwrap()
+    }
+
+    #[test]
+    fn exact_not_euler() {
+        // CHECKS C1.2 (computed: closed form, ODE difference 1e-13): 40 mH, 24 Ω, 12 V step,
+        // Ts = 100 µs, after 10 exact steps i = 0.225594182 A; forward Euler gives 0.230692443 A.
+        let cfg = EstimatorConfig::new(&reference_coil(), 20.0, 100e-6).unwrap();
+        let mut s = EstimatorState::new();
+        for _ in 0..10 {
+            cfg.update(&mut s, true, 12_000);
+        }
+        assert!((s.current_ua() - 225_594).abs() <= 25, "{}", s.current_ua());
+        assert!((s.current_ua() - 230_692).abs() > 4_000);
+        // a = exp(-Ts/tau) = 0.9417645336 (CHECKS C1.2), as Q31 1 - a.
+        let c = 1.0 - 0.9417645336f64;
+        assert!((cfg.on_step_q31() as f64 / (1u64 << 31) as f64 - c).abs() < 1e-8);
+    }
+
+    #[test]
+    fn no_dead_band_at_tiny_steps() {
+        // T/tau = 1e-5: a plain rounded update would stall 50 mA short of the target.
+        let coil = CoilParams::new(10.0, 10.0).validate().unwrap();
+        let cfg = EstimatorConfig::new(&coil, 20.0, 10e-6).unwrap();
+        let mut s = EstimatorState::new();
+        // 20 time constants at 1e5 ticks per tau.
+        for _ in 0..2_000_000 {
+            cfg.update(&mut s, true, 10_000);
+        }
+        assert!(
+            (s.current_ua() - 1_000_000).abs() <= 20,
+            "{}",
+            s.current_ua()
+        );
+    }
+
+    #[test]
+    fn off_state_stops_at_zero() {
+        let coil = CoilParams::new(0.120, 32.0)
+            .with_diode_drop_v(0.7)
+            .validate()
+            .unwrap();
+        let cfg = EstimatorConfig::new(&coil, 20.0, 100e-6).unwrap();
+        let mut s = EstimatorState::with_current_ua(750_000);
+        let mut ticks = 0;
+        while cfg.update(&mut s, false, 24_000) > 0 {
+            ticks += 1;
+            assert!(ticks < 1000);
+        }
+        // Freewheel with Vf = 0.7 V reaches zero after 13.3630432 ms (CHECKS C2.1, computed).
+        assert!((133..=134).contains(&ticks), "{ticks}");
+        for _ in 0..10 {
+            assert_eq!(cfg.update(&mut s, false, 24_000), 0);
+        }
+    }
+
+    #[test]
+    fn rejects_out_of_range_coefficients() {
+        let coil = reference_coil();
+        assert_eq!(
+            EstimatorConfig::new(&coil, 20.0, 0.0).unwrap_err().param(),
+            "tick_s"
+        );
+        // tick/tau = 1e-8 is below the documented range.
+        assert_eq!(
+            EstimatorConfig::new(&coil, 20.0, 1.6e-11)
+                .unwrap_err()
+                .param(),
+            "tick_s"
+        );
+        let tiny = CoilParams::new(0.01, 0.01).validate().unwrap();
+        assert_eq!(
+            EstimatorConfig::new(&tiny, 20.0, 1e-4).unwrap_err().param(),
+            "loop_resistance_ohm"
+        );
+    }
+
+    proptest! {
+        #[test]
+        fn update_never_overflows(
+            on_step in any::<i32>(), g in any::<i32>(), drop in any::<i32>(),
+            off_step in any::<i32>(), g_off in any::<i32>(), clamp in any::<i32>(),
+            coupled in any::<bool>(), start in any::<i32>(),
+            seq in proptest::collection::vec((any::<bool>(), any::<i32>()), 1..50),
+        ) {
+            let cfg = EstimatorConfig::from_raw(on_step, g, drop, OffPath {
+                step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp, supply_coupled: coupled,
+            });
+            let mut s = EstimatorState::with_current_ua(start);
+            for (on, v) in seq {
+                let i = cfg.update(&mut s, on, v);
+                prop_assert!((0..=CURRENT_LIMIT_UA).contains(&i));
+            }
+        }
+    }
+}

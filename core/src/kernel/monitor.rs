@@ -1,0 +1,395 @@
+//! Plausibility monitor: compares the estimator's current with a measured current sample and
+//! raises distinct faults after a stated persistence.
+//!
+//! # Decisions, per sample, in this order
+//!
+//! 1. **Sensor out of range**: the reading lies outside `min_valid_counts ..= max_valid_counts`
+//!    (a shorted or open sense line, an ADC stuck at a rail). Such a reading is never taken as
+//!    zero current; after `persistence` consecutive such readings the fault is raised.
+//! 2. **Sensor stuck**: the reading has not changed for `stuck_samples` consecutive samples
+//!    while the estimate moved by more than `stuck_min_change_ua` since it froze.
+//! 3. **Open coil**: the estimate is at least `open_min_estimate_ua` but the measured current is
+//!    at most `open_max_ua`, for `persistence` consecutive samples.
+//! 4. **Low resistance** (shorted turns, shorted coil): the measured current exceeds the estimate
+//!    by more than the tolerance band `abs_tol_ua + rel_tol·|estimate|`, for `persistence`
+//!    consecutive samples. Shorted turns lower both L and R, so the current rises faster and
+//!    settles higher than the model of the healthy coil predicts.
+//!
+//! A measured current below the estimate (a hot coil) is not a fault by itself. The first fault
+//! raised is latched until [`MonitorState::reset`].
+//!
+//! Measured current: `(counts − offset_counts) · ua_per_count_q16 >> 16`, µA. No division, no
+//! float, saturating. State: 16 bytes per channel.
+
+use super::q::{clamp_i64, q16_from_f32};
+use crate::error::{Error, in_range, non_negative, positive};
+
+/// A fault found by the plausibility monitor.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub enum Fault {
+    /// Current expected but none measured.
+    OpenCoil,
+    /// More current than the healthy coil can draw: shorted turns or a shorted coil.
+    LowResistance,
+    /// The reading does not change while the current should.
+    SensorStuck,
+    /// The reading lies outside the valid ADC window.
+    SensorOutOfRange,
+}
+
+impl Fault {
+    const fn code(self) -> u8 {
+        match self {
+            Fault::OpenCoil => 1,
+            Fault::LowResistance => 2,
+            Fault::SensorStuck => 3,
+            Fault::SensorOutOfRange => 4,
+        }
+    }
+
+    const fn from_code(code: u8) -> Option<Fault> {
+        match code {
+            1 => Some(Fault::OpenCoil),
+            2 => Some(Fault::LowResistance),
+            3 => Some(Fault::SensorStuck),
+            4 => Some(Fault::SensorOutOfRange),
+            _ => None,
+        }
+    }
+}
+
+/// Conversion of ADC counts to microamps, and the valid window of readings.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct SenseScale {
+    /// Reading at zero current, counts.
+    pub offset_counts: i32,
+    /// Current per count, µA, Q16.
+    pub ua_per_count_q16: i32,
+    /// Lowest valid reading, counts.
+    pub min_valid_counts: u16,
+    /// Highest valid reading, counts.
+    pub max_valid_counts: u16,
+}
+
+impl SenseScale {
+    /// Plan side: `amps_per_count` A per count, zero current at `offset_counts`, valid readings
+    /// `min_valid_counts ..= max_valid_counts`.
+    ///
+    /// # Errors
+    ///
+    /// `amps_per_count` not positive or above 0.03 A (the Q16 µA range), `offset_counts` outside
+    /// 0 ..= 65535, or an empty valid window.
+    pub fn new(
+        amps_per_count: f32,
+        offset_counts: f32,
+        min_valid_counts: u16,
+        max_valid_counts: u16,
+    ) -> Result<Self, Error> {
+        let a = in_range(
+            "amps_per_count",
+            positive("amps_per_count", amps_per_count)?,
+            1.0e-9,
+            0.03,
+        )?;
+        let off = in_range("offset_counts", offset_counts, 0.0, 65535.0)?;
+        if min_valid_counts > max_valid_counts {
+            return Err(Error::OutOfRange {
+                param: "min_valid_counts",
+                value: min_valid_counts as f32,
+                min: 0.0,
+                max: max_valid_counts as f32,
+            });
+        }
+        Ok(Self {
+            offset_counts: libm::roundf(off) as i32,
+            ua_per_count_q16: q16_from_f32(a * 1.0e6),
+            min_valid_counts,
+            max_valid_counts,
+        })
+    }
+
+    /// The current a valid reading stands for, µA (saturating).
+    #[inline]
+    #[must_use]
+    pub fn to_ua(&self, counts: u16) -> i32 {
+        let d = counts as i64 - self.offset_counts as i64;
+        clamp_i64(
+            (d * self.ua_per_count_q16 as i64) >> 16,
+            i32::MIN as i64,
+            i32::MAX as i64,
+        ) as i32
+    }
+}
+
+/// Thresholds and persistence of the plausibility monitor.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct MonitorConfig {
+    /// Sense scaling and valid window.
+    pub scale: SenseScale,
+    /// Absolute part of the tolerance band, µA.
+    pub abs_tol_ua: i32,
+    /// Relative part of the tolerance band, Q16 (65536 = 100 %).
+    pub rel_tol_q16: i32,
+    /// Estimates at or above this expect a measurable current, µA.
+    pub open_min_estimate_ua: i32,
+    /// Measured currents at or below this count as none, µA.
+    pub open_max_ua: i32,
+    /// Consecutive samples before a fault is raised.
+    pub persistence: u16,
+    /// Consecutive unchanged readings before the sensor counts as stuck.
+    pub stuck_samples: u16,
+    /// Change of the estimate during a frozen reading that proves it stuck, µA.
+    pub stuck_min_change_ua: i32,
+}
+
+/// Plan-side description of the monitor, in SI units.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct MonitorParams {
+    /// Absolute tolerance between estimate and measurement, A.
+    pub abs_tol_a: f32,
+    /// Relative tolerance between estimate and measurement (0.2 = 20 %).
+    pub rel_tol: f32,
+    /// Estimates at or above this expect a measurable current, A.
+    pub open_min_estimate_a: f32,
+    /// Measured currents at or below this count as none, A.
+    pub open_max_a: f32,
+    /// Consecutive samples before a fault is raised.
+    pub persistence: u16,
+    /// Consecutive unchanged readings before the sensor counts as stuck.
+    pub stuck_samples: u16,
+    /// Change of the estimate during a frozen reading that proves it stuck, A.
+    pub stuck_min_change_a: f32,
+}
+
+impl MonitorConfig {
+    /// Plan side: builds the integer configuration.
+    ///
+    /// # Errors
+    ///
+    /// A negative or non-finite tolerance or threshold, a relative tolerance above 10, a
+    /// current above 2000 A, or a zero persistence or stuck count.
+    pub fn new(scale: SenseScale, p: &MonitorParams) -> Result<Self, Error> {
+        let ua = |name: &'static str, a: f32| -> Result<i32, Error> {
+            let a = in_range(name, non_negative(name, a)?, 0.0, 2000.0)?;
+            Ok(libm::roundf(a * 1.0e6) as i32)
+        };
+        let rel = in_range("rel_tol", non_negative("rel_tol", p.rel_tol)?, 0.0, 10.0)?;
+        if p.persistence == 0 {
+            return Err(Error::NotPositive {
+                param: "persistence",
+            });
+        }
+        if p.stuck_samples == 0 {
+            return Err(Error::NotPositive {
+                param: "stuck_samples",
+            });
+        }
+        Ok(Self {
+            scale,
+            abs_tol_ua: ua("abs_tol_a", p.abs_tol_a)?,
+            rel_tol_q16: q16_from_f32(rel),
+            open_min_estimate_ua: ua("open_min_estimate_a", p.open_min_estimate_a)?,
+            open_max_ua: ua("open_max_a", p.open_max_a)?,
+            persistence: p.persistence,
+            stuck_samples: p.stuck_samples,
+            stuck_min_change_ua: ua("stuck_min_change_a", p.stuck_min_change_a)?,
+        })
+    }
+
+    /// Checks one sample and returns the latched fault, if any.
+    ///
+    /// # Arguments
+    ///
+    /// - `estimate_ua`: the estimator's current for the sampling instant, µA.
+    /// - `counts`: the raw current reading.
+    ///
+    /// # Returns
+    ///
+    /// `None` while plausible; the first fault raised, from then on until reset.
+    pub fn check(&self, s: &mut MonitorState, estimate_ua: i32, counts: u16) -> Option<Fault> {
+        if let Some(f) = Fault::from_code(s.fault) {
+            return Some(f);
+        }
+        let raised = self.decide(s, estimate_ua, counts);
+        if let Some(f) = raised {
+            s.fault = f.code();
+        }
+        raised
+    }
+
+    fn decide(&self, s: &mut MonitorState, estimate_ua: i32, counts: u16) -> Option<Fault> {
+        let p = self.persistence;
+        if counts < self.scale.min_valid_counts || counts > self.scale.max_valid_counts {
+            s.range_count = s.range_count.saturating_add(1);
+            return (s.range_count >= p).then_some(Fault::SensorOutOfRange);
+        }
+        s.range_count = 0;
+
+        if counts == s.last_counts {
+            s.same_count = s.same_count.saturating_add(1);
+            let moved = (estimate_ua as i64 - s.estimate_at_freeze_ua as i64).abs();
+            if s.same_count >= self.stuck_samples && moved > self.stuck_min_change_ua as i64 {
+                return Some(Fault::SensorStuck);
+            }
+        } else {
+            s.same_count = 0;
+            s.last_counts = counts;
+            s.estimate_at_freeze_ua = estimate_ua;
+        }
+
+        let measured = self.scale.to_ua(counts) as i64;
+        let est = estimate_ua as i64;
+        let open = est >= self.open_min_estimate_ua as i64 && measured <= self.open_max_ua as i64;
+        s.open_count = if open {
+            s.open_count.saturating_add(1)
+        } else {
+            0
+        };
+        if s.open_count >= p {
+            return Some(Fault::OpenCoil);
+        }
+        let band = self.abs_tol_ua as i64 + ((est.abs() * self.rel_tol_q16 as i64) >> 16);
+        let high = measured > est + band;
+        s.low_r_count = if high {
+            s.low_r_count.saturating_add(1)
+        } else {
+            0
+        };
+        if s.low_r_count >= p {
+            return Some(Fault::LowResistance);
+        }
+        None
+    }
+}
+
+/// Per-channel monitor state: 16 bytes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct MonitorState {
+    estimate_at_freeze_ua: i32,
+    range_count: u16,
+    same_count: u16,
+    open_count: u16,
+    low_r_count: u16,
+    last_counts: u16,
+    fault: u8,
+}
+
+impl MonitorState {
+    /// No fault, no history.
+    #[must_use]
+    pub const fn new() -> Self {
+        Self {
+            estimate_at_freeze_ua: 0,
+            range_count: 0,
+            same_count: 0,
+            open_count: 0,
+            low_r_count: 0,
+            last_counts: u16::MAX,
+            fault: 0,
+        }
+    }
+
+    /// The latched fault.
+    #[must_use]
+    pub const fn fault(&self) -> Option<Fault> {
+        Fault::from_code(self.fault)
+    }
+
+    /// Clears the latched fault and the history.
+    pub fn reset(&mut self) {
+        *self = Self::new();
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Demo sense chain (invented): 12-bit ADC, 4.028 mA per count, zero current at 100 counts,
+    /// readings outside 10 ..= 4085 invalid.
+    fn monitor() -> MonitorConfig {
+        let scale = SenseScale::new(4.028e-3, 100.0, 10, 4085).unwrap();
+        MonitorConfig::new(
+            scale,
+            &MonitorParams {
+                abs_tol_a: 0.05,
+                rel_tol: 0.2,
+                open_min_estimate_a: 0.1,
+                open_max_a: 0.02,
+                persistence: 3,
+                stuck_samples: 20,
+                stuck_min_change_a: 0.1,
+            },
+        )
+        .unwrap()
+    }
+
+    fn counts_for(a: f32) -> u16 {
+        (100.0 + a / 4.028e-3).round() as u16
+    }
+
+    #[test]
+    fn healthy_coil_raises_nothing() {
+        let m = monitor();
+        let mut s = MonitorState::new();
+        for k in 0..200 {
+            let i = 0.75 * (1.0 - (-(k as f32) / 30.0).exp());
+            assert_eq!(
+                m.check(&mut s, (i * 1e6) as i32, counts_for(i * 0.95)),
+                None
+            );
+        }
+    }
+
+    #[test]
+    fn each_fault_is_distinct_and_persistent() {
+        let m = monitor();
+        // Open coil: estimate 0.5 A, reading at zero current.
+        let mut s = MonitorState::new();
+        assert_eq!(m.check(&mut s, 500_000, 100), None);
+        assert_eq!(m.check(&mut s, 500_000, 101), None);
+        assert_eq!(m.check(&mut s, 500_000, 100), Some(Fault::OpenCoil));
+        assert_eq!(s.fault(), Some(Fault::OpenCoil));
+        // Low resistance: measured 1.0 A against an estimate of 0.5 A.
+        let mut s = MonitorState::new();
+        let c = counts_for(1.0);
+        assert_eq!(m.check(&mut s, 500_000, c), None);
+        assert_eq!(m.check(&mut s, 500_000, c + 1), None);
+        assert_eq!(m.check(&mut s, 500_000, c), Some(Fault::LowResistance));
+        // Out of range: a reading at the rail is a fault, not zero current.
+        let mut s = MonitorState::new();
+        for _ in 0..2 {
+            assert_eq!(m.check(&mut s, 0, 0), None);
+        }
+        assert_eq!(m.check(&mut s, 0, 0), Some(Fault::SensorOutOfRange));
+        let mut s = MonitorState::new();
+        for _ in 0..2 {
+            assert_eq!(m.check(&mut s, 0, 4095), None);
+        }
+        assert_eq!(m.check(&mut s, 0, 4095), Some(Fault::SensorOutOfRange));
+        // Stuck: the reading freezes at 0.3 A while the estimate rises to 0.6 A.
+        let mut s = MonitorState::new();
+        let frozen = counts_for(0.3);
+        let mut raised = None;
+        for k in 0..40 {
+            let est = 300_000 + k * 10_000;
+            raised = m.check(&mut s, est, frozen);
+            if raised.is_some() {
+                break;
+            }
+        }
+        assert_eq!(raised, Some(Fault::SensorStuck));
+        s.reset();
+        assert_eq!(s.fault(), None);
+    }
+}

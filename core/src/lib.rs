@@ -1,0 +1,13 @@
+#![doc = include_str!("../README.md")]
+#![cfg_attr(not(test), no_std)]
+
+pub mod bounds;
+pub mod coil;
+mod error;
+pub mod kernel;
+#[cfg(test)]
+mod testing;
+
+pub use bounds::{Bound, Range};
+pub use coil::{Coil, CoilParams, PwmSteadyState};
+pub use error::Error;
