@@ -1,1 +1,5 @@
-fn main() {}
+//! The `lenz` command-line tool.
+
+fn main() -> std::process::ExitCode {
+    lenz_harness::cli::main()
+}

@@ -14,4 +14,4 @@ mod monitor;
 pub mod q;
 
 pub use estimator::{EstimatorConfig, EstimatorState, OffPath};
-pub use monitor::{Fault, MonitorConfig, MonitorState, SenseScale};
+pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};

@@ -1,0 +1,5 @@
+//! One module per `lenz` subcommand.
+
+pub mod coil;
+pub mod demo;
+pub mod table;

@@ -1,0 +1,159 @@
+//! Values with SI prefixes and optional unit symbols, as typed on the command line and in
+//! scenario files: `120m`, `120mH`, `4.7u`, `4.7µF`, `2k`, `2kohm`, `1e-3`, `-40`.
+
+use std::fmt;
+
+/// Why a value could not be read.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct SiError {
+    /// The text that was given.
+    pub text: String,
+    /// What was wrong with it.
+    pub problem: String,
+}
+
+impl fmt::Display for SiError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "'{}' {}", self.text, self.problem)
+    }
+}
+
+impl std::error::Error for SiError {}
+
+/// Unit symbols accepted after the prefix, per quantity.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Unit {
+    /// Henry: `H`.
+    Henry,
+    /// Ohm: `ohm`, `Ohm`, `Ω`, `R`.
+    Ohm,
+    /// Volt: `V`.
+    Volt,
+    /// Ampere: `A`.
+    Ampere,
+    /// Second: `s`.
+    Second,
+    /// Hertz: `Hz`.
+    Hertz,
+    /// Farad: `F`.
+    Farad,
+    /// Joule: `J`.
+    Joule,
+    /// Watt: `W`.
+    Watt,
+    /// Degree Celsius: `C`, `°C` (no prefixes).
+    Celsius,
+    /// A plain number (ratios, multipliers, counts).
+    None,
+}
+
+impl Unit {
+    fn symbols(self) -> &'static [&'static str] {
+        match self {
+            Unit::Henry => &["H"],
+            Unit::Ohm => &["ohm", "Ohm", "ohms", "Ω", "R"],
+            Unit::Volt => &["V"],
+            Unit::Ampere => &["A"],
+            Unit::Second => &["s"],
+            Unit::Hertz => &["Hz"],
+            Unit::Farad => &["F"],
+            Unit::Joule => &["J"],
+            Unit::Watt => &["W"],
+            Unit::Celsius => &["°C", "C"],
+            Unit::None => &[],
+        }
+    }
+}
+
+fn prefix_factor(p: &str) -> Option<f64> {
+    Some(match p {
+        "" => 1.0,
+        "p" => 1e-12,
+        "n" => 1e-9,
+        "u" | "µ" | "μ" => 1e-6,
+        "m" => 1e-3,
+        "k" => 1e3,
+        "M" => 1e6,
+        "G" => 1e9,
+        _ => return None,
+    })
+}
+
+/// Reads `text` as a value in `unit`: a number, then an optional SI prefix (p n u µ m k M G),
+/// then an optional unit symbol. Temperatures take no prefix.
+///
+/// # Errors
+///
+/// Text that is not of that form, or whose value is not finite.
+pub fn parse(text: &str, unit: Unit) -> Result<f64, SiError> {
+    let err = |problem: &str| SiError {
+        text: text.to_string(),
+        problem: problem.to_string(),
+    };
+    let t = text.trim();
+    let mut body = t;
+    for sym in unit.symbols() {
+        if let Some(stripped) = t.strip_suffix(sym) {
+            if !stripped.is_empty() {
+                body = stripped;
+                break;
+            }
+        }
+    }
+    // Split the number from the prefix: the longest leading part that parses as a number.
+    let split = (1..=body.len())
+        .rev()
+        .filter(|&k| body.is_char_boundary(k))
+        .find(|&k| {
+            let head = &body[..k];
+            // Reject forms Rust accepts but people do not type as values.
+            !head.eq_ignore_ascii_case("inf")
+                && !head.eq_ignore_ascii_case("nan")
+                && !head.eq_ignore_ascii_case("infinity")
+                && head.parse::<f64>().is_ok()
+        })
+        .ok_or_else(|| err("is not a number"))?;
+    let number: f64 = body[..split].parse().map_err(|_| err("is not a number"))?;
+    let prefix = &body[split..];
+    if unit == Unit::Celsius && !prefix.is_empty() {
+        return Err(err("is not a temperature in °C"));
+    }
+    let factor = prefix_factor(prefix).ok_or_else(|| err("has an unknown prefix or unit"))?;
+    let value = number * factor;
+    if value.is_finite() {
+        Ok(value)
+    } else {
+        Err(err("is not finite"))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn prefixes_and_units() {
+        let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * b.abs().max(1.0);
+        assert!(close(parse("120m", Unit::Henry).unwrap(), 0.12));
+        assert!(close(parse("120mH", Unit::Henry).unwrap(), 0.12));
+        assert!(close(parse("4.7u", Unit::Farad).unwrap(), 4.7e-6));
+        assert!(close(parse("4.7µF", Unit::Farad).unwrap(), 4.7e-6));
+        assert!(close(parse("2k", Unit::Ohm).unwrap(), 2000.0));
+        assert!(close(parse("2kohm", Unit::Ohm).unwrap(), 2000.0));
+        assert!(close(parse("10ms", Unit::Second).unwrap(), 0.01));
+        assert!(close(parse("1MHz", Unit::Hertz).unwrap(), 1e6));
+        assert!(close(parse("1e-3", Unit::Second).unwrap(), 1e-3));
+        assert!(close(parse("-40", Unit::Celsius).unwrap(), -40.0));
+        assert!(close(parse("85C", Unit::Celsius).unwrap(), 85.0));
+        assert!(close(parse("24", Unit::Volt).unwrap(), 24.0));
+        assert!(close(parse("24V", Unit::Volt).unwrap(), 24.0));
+    }
+
+    #[test]
+    fn rejects_garbage() {
+        for bad in ["", "abc", "12x", "nan", "inf", "1e999", "12 m H", "mH"] {
+            assert!(parse(bad, Unit::Henry).is_err(), "{bad}");
+        }
+        assert!(parse("1k", Unit::Celsius).is_err());
+    }
+}
