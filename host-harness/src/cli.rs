@@ -86,6 +86,23 @@ unit_parsers! {
     plain => Unit::None,
 }
 
+/// Folds clap's multi-line message into one line: the text up to the usage section.
+fn one_line(rendered: &str) -> String {
+    let parts: Vec<&str> = rendered
+        .lines()
+        .map(str::trim)
+        .take_while(|l| !l.starts_with("Usage:") && !l.starts_with("For more information"))
+        .filter(|l| !l.is_empty())
+        .collect();
+    let text = parts.join(" ");
+    let text = text.trim_start_matches("error: ");
+    if text.is_empty() {
+        "invalid arguments".to_string()
+    } else {
+        text.to_string()
+    }
+}
+
 /// Runs the `lenz` binary with the process arguments.
 #[must_use]
 pub fn main() -> ExitCode {
@@ -107,12 +124,7 @@ where
                     ExitCode::SUCCESS
                 }
                 _ => {
-                    let rendered = e.render().to_string();
-                    let line = rendered
-                        .lines()
-                        .find(|l| !l.trim().is_empty())
-                        .unwrap_or("invalid arguments");
-                    eprintln!("lenz: {}", line.trim_start_matches("error: "));
+                    eprintln!("lenz: {}", one_line(&e.render().to_string()));
                     ExitCode::from(2)
                 }
             };

@@ -13,5 +13,5 @@ mod estimator;
 mod monitor;
 pub mod q;
 
-pub use estimator::{EstimatorConfig, EstimatorState, OffPath};
+pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorState, OffPath};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
