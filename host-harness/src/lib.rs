@@ -4,4 +4,5 @@
 pub mod cli;
 mod cmd;
 pub mod demo;
+pub mod plant;
 pub mod si;
