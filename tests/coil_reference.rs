@@ -14,8 +14,18 @@ fn c1_1_rl_step_time_constant_table() {
     // Source: first-order step table 63.2 / 86.5 / 95.0 / 98.2 / 99.3 % at 1..5 τ (RLT,
     // published in many circuit texts; exact 1 − e^−n), values computed for this coil.
     let c = reference_coil();
-    assert_close("tau", c.time_constant_s(20.0).unwrap() as f64, 1.666666667e-3, 1e-7);
-    assert_close("I_inf", c.steady_current_a(12.0, 20.0).unwrap() as f64, 0.5, 1e-7);
+    assert_close(
+        "tau",
+        c.time_constant_s(20.0).unwrap() as f64,
+        1.666666667e-3,
+        1e-7,
+    );
+    assert_close(
+        "I_inf",
+        c.steady_current_a(12.0, 20.0).unwrap() as f64,
+        0.5,
+        1e-7,
+    );
     let tau = 1.666666667e-3f64;
     for (n, want) in [
         (1.0, 0.3160602794),
@@ -24,7 +34,9 @@ fn c1_1_rl_step_time_constant_table() {
         (4.0, 0.4908421806),
         (5.0, 0.4966310265),
     ] {
-        let got = c.current_after_a(12.0, 20.0, 0.0, (n * tau) as f32).unwrap() as f64;
+        let got = c
+            .current_after_a(12.0, 20.0, 0.0, (n * tau) as f32)
+            .unwrap() as f64;
         assert_close(&format!("i({n} tau)"), got, want, 1e-6);
         // And the published percentage, rounded as printed (RLT).
         let pct = (got / 0.5 * 1000.0).round() / 10.0;
@@ -101,7 +113,12 @@ fn c1_4_copper_resistance() {
         (85.0, 30.1308),
         (125.0, 33.9036),
     ] {
-        assert_close(&format!("R({t})"), c.resistance_ohm(t).unwrap() as f64, want, 1e-6);
+        assert_close(
+            &format!("R({t})"),
+            c.resistance_ohm(t).unwrap() as f64,
+            want,
+            1e-6,
+        );
     }
     // Same coil specified as 24 Ω at 25 °C (computed from IEC 60028).
     let c25 = CoilParams::new(0.1, 24.0)
@@ -169,7 +186,9 @@ fn c1_5_pull_in() {
     }
     // 125 °C: I_inf 70.789 mA < 75 mA: never pulls in, and the error reports the steady current.
     match relay.pull_in_time_s(12.0, 125.0, 0.075) {
-        Err(Error::Unreachable { limit, .. }) => assert_close("limit", limit as f64, 0.070789, 1e-4),
+        Err(Error::Unreachable { limit, .. }) => {
+            assert_close("limit", limit as f64, 0.070789, 1e-4)
+        }
         other => panic!("expected unreachable, got {other:?}"),
     }
     // Minimum supply for pull-in at 125 °C: 12.71385 V (computed) — just below it fails,
@@ -200,5 +219,8 @@ fn c1_2_estimator_exact_update_and_not_euler() {
     }
     let i = s.current_ua() as f64 * 1e-6;
     assert_close("10 exact steps", i, 0.225594182, 1e-4);
-    assert!((i - 0.230692443).abs() > 0.004, "the estimator must not be forward Euler");
+    assert!(
+        (i - 0.230692443).abs() > 0.004,
+        "the estimator must not be forward Euler"
+    );
 }

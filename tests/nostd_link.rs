@@ -7,7 +7,9 @@ use std::path::{Path, PathBuf};
 use std::process::Command;
 
 fn probe_dir() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests").join("nostd-probe")
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests")
+        .join("nostd-probe")
 }
 
 fn build(features: &str) -> std::process::Output {
@@ -52,7 +54,10 @@ fn lenz_links_into_a_no_std_binary_and_runs() {
 #[test]
 fn the_check_fails_when_std_is_linked() {
     let out = build("leak-std");
-    assert!(!out.status.success(), "linking std must break the no_std probe");
+    assert!(
+        !out.status.success(),
+        "linking std must break the no_std probe"
+    );
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("panic_impl"), "unexpected failure:\n{err}");
 }

@@ -61,7 +61,16 @@ fn reference_coil_json() {
     assert!(close(num(&v, "current_at_a"), 0.3160602794, 1e-5));
     assert!(close(num(&v, "time_to_target_s"), 1.155245301e-3, 1e-5));
     // Keys only present when asked for.
-    let v = json(&["coil", "--inductance", "40mH", "--resistance", "24", "--supply", "12", "--json"]);
+    let v = json(&[
+        "coil",
+        "--inductance",
+        "40mH",
+        "--resistance",
+        "24",
+        "--supply",
+        "12",
+        "--json",
+    ]);
     assert!(v.get("current_at_a").is_none() && v.get("time_to_target_s").is_none());
 }
 
@@ -108,7 +117,15 @@ fn temperature_and_initial_current() {
 
 #[test]
 fn bad_and_unreachable_input() {
-    let base = ["coil", "--inductance", "40m", "--resistance", "24", "--supply", "12"];
+    let base = [
+        "coil",
+        "--inductance",
+        "40m",
+        "--resistance",
+        "24",
+        "--supply",
+        "12",
+    ];
     let with = |extra: &[&'static str]| -> Vec<&'static str> {
         base.iter().copied().chain(extra.iter().copied()).collect()
     };
@@ -118,25 +135,60 @@ fn bad_and_unreachable_input() {
     let err = String::from_utf8_lossy(&lenz(&args).stderr).to_string();
     assert!(err.contains("0.5"), "{err}");
     assert_bad(
-        &["coil", "--inductance", "-1", "--resistance", "24", "--supply", "12"],
+        &[
+            "coil",
+            "--inductance",
+            "-1",
+            "--resistance",
+            "24",
+            "--supply",
+            "12",
+        ],
         "--inductance",
     );
     assert_bad(
-        &["coil", "--inductance", "40q", "--resistance", "24", "--supply", "12"],
+        &[
+            "coil",
+            "--inductance",
+            "40q",
+            "--resistance",
+            "24",
+            "--supply",
+            "12",
+        ],
         "--inductance",
     );
-    assert_bad(&["coil", "--inductance", "40m", "--supply", "12"], "--resistance");
+    assert_bad(
+        &["coil", "--inductance", "40m", "--supply", "12"],
+        "--resistance",
+    );
     assert_bad(&with(&["--temperature", "900"]), "--temperature");
     assert_bad(&with(&["--at", "-1"]), "--at");
     assert_bad(
-        &["coil", "--inductance", "nan", "--resistance", "24", "--supply", "12"],
+        &[
+            "coil",
+            "--inductance",
+            "nan",
+            "--resistance",
+            "24",
+            "--supply",
+            "12",
+        ],
         "--inductance",
     );
 }
 
 #[test]
 fn human_output_has_table_and_caution() {
-    let out = lenz(&["coil", "--inductance", "120m", "--resistance", "32", "--supply", "24"]);
+    let out = lenz(&[
+        "coil",
+        "--inductance",
+        "120m",
+        "--resistance",
+        "32",
+        "--supply",
+        "24",
+    ]);
     assert!(out.status.success());
     let s = String::from_utf8_lossy(&out.stdout);
     assert!(s.contains("Time constant") && s.contains("3.750 ms"), "{s}");
@@ -148,7 +200,13 @@ fn demo_prints_worst_case_plan() {
     let out = lenz(&["demo"]);
     assert!(out.status.success());
     let s = String::from_utf8_lossy(&out.stdout);
-    for needle in ["irrigation valve", "vent relay", "pull-in time", "stored energy", "invented"] {
+    for needle in [
+        "irrigation valve",
+        "vent relay",
+        "pull-in time",
+        "stored energy",
+        "invented",
+    ] {
         assert!(s.contains(needle), "demo output lacks '{needle}'");
     }
     // The relay's longest pull-in: 11.4 V, 70 °C, L +10 %, R +5 % (closed form, computed here).
@@ -162,5 +220,9 @@ fn demo_prints_worst_case_plan() {
     let r: f64 = 126.0 * (1.0 + 0.00393 * 50.0);
     let i_inf = 11.4 / r;
     let want = 0.33 / r * (i_inf / (i_inf - 0.075)).ln();
-    assert!(close(relay_pull_in["bound"]["max"].as_f64().unwrap(), want, 1e-3));
+    assert!(close(
+        relay_pull_in["bound"]["max"].as_f64().unwrap(),
+        want,
+        1e-3
+    ));
 }
