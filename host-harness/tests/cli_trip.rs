@@ -82,7 +82,10 @@ fn trip_time_curve_table() {
         for (m, w) in ["2", "5", "10"].iter().zip(want) {
             let t = trip_time(curve, "1", "1", m);
             // Published to 4 decimals: half a unit of the last digit.
-            assert!((t - w).abs() <= 5.5e-5 + 2e-5 * w, "{curve} M={m}: {t} vs {w}");
+            assert!(
+                (t - w).abs() <= 5.5e-5 + 2e-5 * w,
+                "{curve} M={m}: {t} vs {w}"
+            );
         }
     }
 }

@@ -384,7 +384,7 @@ fn table_m(idx: usize) -> f64 {
 
 /// f64 trip time of an element at multiple `m` (for the table and its error).
 fn curve_time_f64(el: &InverseTime, m: f64) -> Option<f64> {
-    if !(m > 1.0) {
+    if m.is_nan() || m <= 1.0 {
         return None;
     }
     let c = el.curve().constants();
@@ -517,7 +517,7 @@ impl TripConfig {
             Some(el) => {
                 let table = InverseTable::new(el, ts, apc)?;
                 let err = measure_table_error(&table, el, ts, apc);
-                if !(err <= f64::from(INVERSE_TABLE_ERROR_MAX)) {
+                if err.is_nan() || err > f64::from(INVERSE_TABLE_ERROR_MAX) {
                     return Err(Error::Unreachable {
                         param: "sample_period_s",
                         target: err as f32,

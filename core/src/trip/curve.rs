@@ -157,12 +157,12 @@ impl Curve {
     /// (`m ≤ 1`) or for a non-finite `m`.
     #[must_use]
     pub fn unit_time_s(self, m: f32) -> Option<f32> {
-        if !(m > 1.0) || !m.is_finite() {
+        if !m.is_finite() || m <= 1.0 {
             return None;
         }
         let c = self.constants();
         let denom = libm::expm1f(c.alpha * libm::logf(m));
-        if !(denom > 0.0) {
+        if denom.is_nan() || denom <= 0.0 {
             return None;
         }
         let t = c.k_s / denom + c.c_s;

@@ -150,7 +150,7 @@ impl SenseChain {
     pub fn code_for_a(&self, current_a: f32) -> Result<u32, Error> {
         let i = positive("current_a", current_a)?;
         let code = libm::ceilf(i / self.amps_per_lsb());
-        if !(code <= self.max_code() as f32) {
+        if code.is_nan() || code > self.max_code() as f32 {
             return Err(Error::Unreachable {
                 param: "current_a",
                 target: i,

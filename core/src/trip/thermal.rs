@@ -127,7 +127,7 @@ impl Thermal {
         let level = self.trip_level_a();
         let x = i / level;
         let theta_inf = x * x;
-        if !(theta_inf > 1.0) || !theta_inf.is_finite() {
+        if !theta_inf.is_finite() || theta_inf <= 1.0 {
             return Err(Error::Unreachable {
                 param: "current_a",
                 target: i,

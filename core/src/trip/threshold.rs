@@ -405,7 +405,7 @@ impl ThresholdParams {
             Some(s) if s < load_thr => (s, LimitedBy::ShortedLoad),
             _ => (load_thr, LimitedBy::Load),
         };
-        if !(threshold > 0.0) {
+        if threshold.is_nan() || threshold <= 0.0 {
             return Err(Error::Unreachable {
                 param: "delay_s",
                 target: t,
@@ -419,7 +419,7 @@ impl ThresholdParams {
         let peak = finite_result("delay_s", peak)?;
         let margin = normal.map(|n| threshold - n);
         if let (Some(n), Some(m)) = (normal, margin) {
-            if !(m > 0.0) {
+            if m.is_nan() || m <= 0.0 {
                 return Err(Error::Unreachable {
                     param: "normal_peak_a",
                     target: n,
@@ -464,7 +464,7 @@ impl ThresholdParams {
     pub fn remedy(&self) -> Result<Remedy, Error> {
         let (lim, v, l, t, normal) = self.validate()?;
         let n = normal.unwrap_or(0.0);
-        if !(n < lim) {
+        if n.is_nan() || n >= lim {
             return Err(Error::Unreachable {
                 param: "normal_peak_a",
                 target: n,

@@ -93,13 +93,13 @@ pub fn run_time(a: &TimeArgs) -> Result<ExitCode, CliError> {
     let mut tab = new_table(&["Quantity", "Value"]);
     tab.add_row(vec![
         "Curve".to_string(),
-        format!(
-            "{} (k {}, α {}, c {})",
-            r.curve, k.k_s, k.alpha, k.c_s
-        ),
+        format!("{} (k {}, α {}, c {})", r.curve, k.k_s, k.alpha, k.c_s),
     ]);
     tab.add_row(vec!["Pickup".to_string(), si(r.pickup_a.into(), "A")]);
-    tab.add_row(vec!["Time multiplier".to_string(), format!("{}", r.multiplier)]);
+    tab.add_row(vec![
+        "Time multiplier".to_string(),
+        format!("{}", r.multiplier),
+    ]);
     tab.add_row(vec![
         "Current (multiple of pickup)".to_string(),
         format!("{} ({:.4})", si(r.current_a.into(), "A"), r.multiple),
