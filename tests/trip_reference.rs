@@ -322,6 +322,48 @@ fn c4_3_blanking_vs_minimum_pulse() {
     );
 }
 
+#[test]
+fn c4_3_kernel_short_at_switch_on_stays_within_blanking_worst_case() {
+    // The shorted cable at switch-on, sampled every 0.5 µs with 3 µs blanking, 8 A threshold
+    // (1986 counts of the C4.2 chain), and 0.5 µs conversion plus turn-off: the current when
+    // the switch opens stays within the plan's blanking worst case for t_blank + t_det
+    // (t_det = one sample + 0.5 µs).
+    let s = shorted_cable();
+    let chain = demo_chain();
+    let apc = f64::from(chain.amps_per_lsb());
+    let ts = 0.5e-6f64;
+    let other = 0.5e-6f64;
+    let mut p = kernel_params(ts as f32, apc as f32);
+    p.instantaneous_counts = 1986;
+    p.full_scale_counts = 4095;
+    p.blanking_s = 3e-6;
+    let cfg = TripConfig::new(&p).unwrap();
+    let worst = blanking_check(&s, 3e-6, (ts + other) as f32, 30.0, 1.0).unwrap();
+    for phase in [0.0, 0.25, 0.5, 0.75, 0.999] {
+        let mut st = TripState::new();
+        let mut k = 0u32;
+        let t_open = loop {
+            let t = (phase + f64::from(k)) * ts;
+            let i = ode_rl(12.0, 2e-6, 0.08, 0.0, t.max(1e-15));
+            let reading = (i / apc).floor().min(65_535.0) as u16;
+            if let Verdict::Trip(e) = cfg.sample(&mut st, reading, true) {
+                assert_eq!(e.cause, Cause::Instantaneous);
+                break t + other;
+            }
+            k += 1;
+            assert!(k < 100, "no trip");
+        };
+        let i_open = ode_rl(12.0, 2e-6, 0.08, 0.0, t_open);
+        assert!(
+            i_open <= f64::from(worst.peak_a) * (1.0 + 1e-5),
+            "phase {phase}: {i_open} A above the blanking worst case {} A",
+            worst.peak_a
+        );
+        // Blanking held the trip off for at least the blanking time.
+        assert!(t_open >= 3e-6);
+    }
+}
+
 // ---------------------------------------------------------------------------------------------
 // C4.4 inverse-time curves, TMS = TD = 1.
 
@@ -650,6 +692,11 @@ proptest! {
             if let Ok(t) = el.trip_time_s(c) { prop_assert!(t.is_finite()); }
             let mut p = kernel_params(d, c);
             p.inverse = Some(el);
+            p.thermal = Thermal::new(b, 1.05, a).ok();
+            p.blanking_s = a;
+            p.retry_delay_s = b;
+            p.persistence_n = r as u8;
+            p.persistence_m = (r >> 8) as u8;
             if let Ok(cfg) = TripConfig::new(&p) {
                 let mut s = TripState::new();
                 let _ = cfg.sample(&mut s, r, on);
