@@ -32,6 +32,10 @@ enum Command {
     Coil(cmd::coil::Args),
     /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
     Demo(cmd::demo::Args),
+    /// Inverse-time trip time at a constant current (IEC 60255-151, IEEE C37.112 curves).
+    TripTime(cmd::trip::TimeArgs),
+    /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
+    TripThreshold(cmd::trip::ThresholdArgs),
 }
 
 /// An error that ends a command with exit code 2.
@@ -133,6 +137,8 @@ where
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
+        Command::TripTime(a) => cmd::trip::run_time(&a),
+        Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
     };
     match result {
         Ok(code) => code,
