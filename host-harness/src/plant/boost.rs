@@ -289,8 +289,12 @@ impl Boost {
         }
     }
 
-    /// Advances to `t_s` with the switch as commanded.
+    /// Advances to `t_s` with the switch as commanded. A time not after the present one, or
+    /// not finite, leaves the stage unchanged.
     pub fn advance_to(&mut self, t_s: f64) {
+        if !t_s.is_finite() {
+            return;
+        }
         let mut guard = 0u32;
         while self.t < t_s && guard < 1_000_000 {
             guard += 1;

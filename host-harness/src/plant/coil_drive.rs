@@ -989,8 +989,12 @@ impl CoilDrive {
         (span, None, x)
     }
 
-    /// Advances the plant to `t_s` with the switch as commanded.
+    /// Advances the plant to `t_s` with the switch as commanded. A time not after the present
+    /// one, or not finite, leaves the plant unchanged.
     pub fn advance_to(&mut self, t_s: f64) {
+        if !t_s.is_finite() {
+            return;
+        }
         let mut guard = 0u32;
         while self.t < t_s {
             guard += 1;
