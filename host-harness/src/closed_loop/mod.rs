@@ -158,7 +158,7 @@ pub trait Plant {
     fn inject(&mut self, fault: &Fault) -> bool;
     /// Highest switch voltage so far, V.
     fn peak_switch_v(&self) -> f64;
-    /// Highest current so far, A.
+    /// Highest current through the switch so far, A.
     fn peak_current_a(&self) -> f64;
     /// Switch-offs so far (empty for a plant that does not record them).
     fn switch_offs(&self) -> &[SwitchOff] {
@@ -251,7 +251,7 @@ impl Plant for Boost {
         Boost::peak_switch_v(self)
     }
     fn peak_current_a(&self) -> f64 {
-        Boost::peak_current_a(self)
+        Boost::peak_switch_current_a(self)
     }
 }
 
