@@ -1,0 +1,242 @@
+//! Unit tests of the switch-off plan: errors, verdicts, comparison and worst-case corners.
+//! The reference values of CHECKS.md, the ODE cross-check and the property tests live in the
+//! root package's `tests/turnoff_reference.rs`.
+
+use super::*;
+use crate::coil::CoilParams;
+use crate::testing::isclose;
+
+fn valve(clamp: Clamp) -> SwitchOff {
+    // Demo valve (invented): 120 mH, 32 Ω, 24 V, 0.75 A.
+    SwitchOff::new(0.120, 32.0, 24.0, 0.75, clamp).unwrap()
+}
+
+#[test]
+fn switch_clamp_must_exceed_supply() {
+    for vcl in [24.0f32, 12.0] {
+        let e = SwitchOff::new(0.12, 32.0, 24.0, 0.75, Clamp::Switch { clamp_v: vcl }).unwrap_err();
+        assert_eq!(e.param(), "clamp_v");
+    }
+    assert!(SwitchOff::new(0.12, 32.0, 24.0, 0.75, Clamp::Switch { clamp_v: 24.01 }).is_ok());
+}
+
+#[test]
+fn bad_inputs_name_the_parameter() {
+    let cases: [(f32, f32, f32, f32, Clamp, &str); 6] = [
+        (
+            f32::NAN,
+            32.0,
+            24.0,
+            0.75,
+            Clamp::Diode { forward_v: 0.7 },
+            "inductance_h",
+        ),
+        (
+            0.12,
+            0.0,
+            24.0,
+            0.75,
+            Clamp::Diode { forward_v: 0.7 },
+            "resistance_ohm",
+        ),
+        (
+            0.12,
+            32.0,
+            -1.0,
+            0.75,
+            Clamp::Diode { forward_v: 0.7 },
+            "supply_v",
+        ),
+        (
+            0.12,
+            32.0,
+            24.0,
+            -0.1,
+            Clamp::Diode { forward_v: 0.7 },
+            "initial_current_a",
+        ),
+        (
+            0.12,
+            32.0,
+            24.0,
+            0.75,
+            Clamp::Zener {
+                zener_v: 0.0,
+                forward_v: 0.7,
+            },
+            "zener_v",
+        ),
+        (
+            0.12,
+            32.0,
+            24.0,
+            0.75,
+            Clamp::Unclamped {
+                capacitance_f: f32::INFINITY,
+            },
+            "capacitance_f",
+        ),
+    ];
+    for (l, r, v, i, c, name) in cases {
+        assert_eq!(SwitchOff::new(l, r, v, i, c).unwrap_err().param(), name);
+    }
+    let off = valve(Clamp::Diode { forward_v: 0.7 });
+    assert_eq!(
+        off.time_to_current_s(0.0).unwrap_err().param(),
+        "target_current_a"
+    );
+    assert_eq!(off.current_a(-1.0).unwrap_err().param(), "t_s");
+}
+
+#[test]
+fn ideal_diode_decay_is_exponential_only() {
+    let off = valve(Clamp::Diode { forward_v: 0.0 });
+    match off.decay_end().unwrap() {
+        DecayEnd::Exponential { fraction, time_s } => {
+            assert_eq!(fraction, TAIL_FRACTION);
+            // tau ln(100), computed.
+            assert!(isclose(time_s as f64, 3.75e-3 * 100f64.ln(), 1e-6, 0.0));
+        }
+        other => panic!("{other:?}"),
+    }
+    // All the stored energy goes into the winding.
+    assert!(isclose(
+        off.resistance_energy_j().unwrap() as f64,
+        33.75e-3,
+        1e-6,
+        0.0
+    ));
+    assert_eq!(off.clamp_energy_j().unwrap(), 0.0);
+}
+
+#[test]
+fn verdicts_catch_each_rating() {
+    let zener = valve(Clamp::Zener {
+        zener_v: 47.0,
+        forward_v: 0.7,
+    });
+    let ok = zener
+        .verdicts(&Ratings {
+            switch_breakdown_v: Some(100.0),
+            avalanche_energy_j: Some(0.1),
+            clamp_energy_j: Some(0.05),
+            clamp_peak_power_w: Some(100.0),
+        })
+        .unwrap();
+    assert!(ok.all_pass(), "{ok:?}");
+    assert!(!ok.switch_avalanches);
+    assert!(ok.avalanche_energy.is_none());
+    // A 60 V switch is below the 71.7 V peak: it avalanches first.
+    let low = zener
+        .verdicts(&Ratings {
+            switch_breakdown_v: Some(60.0),
+            avalanche_energy_j: Some(0.01),
+            ..Ratings::default()
+        })
+        .unwrap();
+    assert!(!low.switch_voltage.unwrap().passes());
+    assert!(low.switch_avalanches);
+    let av = low.avalanche_energy.unwrap();
+    let at_bv = valve(Clamp::Switch { clamp_v: 60.0 })
+        .clamp_energy_j()
+        .unwrap();
+    assert_eq!(av.value, at_bv);
+    assert!(!av.passes());
+    assert!(!low.all_pass());
+    // Clamp part ratings.
+    let small = zener
+        .verdicts(&Ratings {
+            clamp_energy_j: Some(0.02),
+            clamp_peak_power_w: Some(30.0),
+            ..Ratings::default()
+        })
+        .unwrap();
+    assert!(!small.clamp_energy.unwrap().passes());
+    // 47.7 V * 0.75 A = 35.8 W peak.
+    assert!(!small.clamp_peak_power.unwrap().passes());
+}
+
+#[test]
+fn comparison_orders_the_trade_off() {
+    let base = valve(Clamp::Diode { forward_v: 0.7 });
+    let clamps = [
+        Clamp::Diode { forward_v: 0.7 },
+        Clamp::Zener {
+            zener_v: 24.0,
+            forward_v: 0.7,
+        },
+        Clamp::Zener {
+            zener_v: 47.0,
+            forward_v: 0.7,
+        },
+        Clamp::Switch { clamp_v: 65.0 },
+    ];
+    let s = compare(&base, &clamps, 0.075).unwrap();
+    // Faster release costs switch voltage and clamp energy.
+    for w in s.windows(2).take(2) {
+        assert!(w[1].time_to_target_s < w[0].time_to_target_s);
+        assert!(w[1].peak_switch_voltage_v > w[0].peak_switch_voltage_v);
+        assert!(w[1].clamp_energy_j > w[0].clamp_energy_j);
+    }
+    assert_eq!(s[3].clamp, clamps[3]);
+    assert!(compare(&base, &[Clamp::Switch { clamp_v: 20.0 }], 0.075).is_err());
+}
+
+#[test]
+fn worst_case_initial_current_at_high_supply_and_cold_coil() {
+    // Demo valve (invented): 24 V ±10 %, -20..85 °C, L ±10 %, R ±5 %.
+    let spread = TurnOffSpread {
+        spread: CoilSpread::new(
+            CoilParams::new(0.120, 32.0),
+            crate::Range::tolerance("supply_v", 24.0, 0.1).unwrap(),
+            crate::Range::new("temp_c", -20.0, 85.0).unwrap(),
+            0.1,
+            0.05,
+        )
+        .unwrap(),
+        clamp: Clamp::Zener {
+            zener_v: 24.0,
+            forward_v: 0.7,
+        },
+    };
+    let i = spread.initial_current_a().unwrap();
+    assert_eq!(i.max_at.supply_v, spread.spread.supply_v.max());
+    assert_eq!(i.max_at.temp_c, -20.0);
+    let e = spread.clamp_energy_j().unwrap();
+    assert_eq!(e.max_at.supply_v, spread.spread.supply_v.max());
+    assert!((e.max_at.temp_c + 20.0).abs() < 1e-3, "{:?}", e.max_at);
+    assert!(isclose(e.max_at.inductance_h as f64, 0.132, 1e-6, 0.0));
+    // Release to a fixed drop-out current: longest where the current is highest and the
+    // inductance largest; compare against a direct evaluation at that corner.
+    let rel = spread.release_time_s(Some(0.075)).unwrap();
+    let c = rel.max_at;
+    let coil = CoilParams::new(c.inductance_h, c.resistance_ohm)
+        .validate()
+        .unwrap();
+    let direct = SwitchOff::from_coil(&coil, c.supply_v, c.temp_c, spread.clamp)
+        .unwrap()
+        .time_to_current_s(0.075)
+        .unwrap();
+    assert!(isclose(rel.max as f64, direct as f64, 1e-6, 0.0));
+    // Default drop-out: 10 % of the nominal 0.75 A (common practice).
+    let nominal = spread.nominal_current_a().unwrap();
+    assert!(isclose(nominal as f64, 0.75, 1e-6, 0.0));
+    let default = spread.release_time_s(None).unwrap();
+    assert!(isclose(default.max as f64, rel.max as f64, 1e-5, 0.0));
+}
+
+#[test]
+fn release_states_its_source() {
+    let off = valve(Clamp::Diode { forward_v: 0.7 });
+    let r = off.release_time_s(0.75, None).unwrap();
+    assert_eq!(
+        r.source,
+        DropoutSource::CommonPractice {
+            fraction: RELEASE_FRACTION_COMMON_PRACTICE
+        }
+    );
+    assert!(isclose(r.dropout_a as f64, 0.075, 1e-6, 0.0));
+    let given = off.release_time_s(0.75, Some(0.2)).unwrap();
+    assert_eq!(given.source, DropoutSource::Given);
+    assert!(given.time_s < r.time_s);
+}
