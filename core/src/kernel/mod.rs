@@ -11,7 +11,9 @@
 
 mod estimator;
 mod monitor;
+mod offtimer;
 pub mod q;
 
 pub use estimator::{EstimatorConfig, EstimatorState, OffPath};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
+pub use offtimer::{OffStatus, OffTimerState, PLANNED_POINTS, PlannedOffTimer, TrackingOffTimer};
