@@ -3,6 +3,8 @@
 //! Every reference here is written independently of the f32 plan routines, from the formulas
 //! in the cited sources, so the tests compare two implementations.
 
+pub mod turnoff64;
+
 /// `true` when `|a − b| ≤ atol + rtol·|b|`.
 #[must_use]
 pub fn isclose(a: f64, b: f64, rtol: f64, atol: f64) -> bool {
