@@ -32,6 +32,8 @@ enum Command {
     Coil(cmd::coil::Args),
     /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
     Demo(cmd::demo::Args),
+    /// Switch-off through a clamp: decay times, peak switch voltage, energy split, verdicts.
+    Turnoff(cmd::turnoff::Args),
 }
 
 /// An error that ends a command with exit code 2.
@@ -121,6 +123,7 @@ where
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
+        Command::Turnoff(a) => cmd::turnoff::run(&a),
     };
     match result {
         Ok(code) => code,

@@ -3,3 +3,4 @@
 pub mod coil;
 pub mod demo;
 pub mod table;
+pub mod turnoff;
