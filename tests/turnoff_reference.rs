@@ -205,7 +205,7 @@ fn c2_3_clamp_across_the_switch() {
         );
         assert_close(
             &what("E_AS R = 0 form (TOSH)"),
-            turnoff::avalanche_energy_lossless_j(0.120, 0.75, vcl as f32, 24.0).unwrap() as f64,
+            turnoff::avalanche_energy_lossless_j(0.120, 0.75, vcl, 24.0).unwrap() as f64,
             e_as * MJ,
             1e-6,
         );

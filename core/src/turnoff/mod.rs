@@ -585,13 +585,10 @@ impl SwitchOff {
                 let a = c.vc / c.loop_r;
                 (self.inductance_h / c.loop_r) * libm::log1pf((i0 - ix) / (ix + a))
             }
-            None => match self
+            None => self
                 .ring()
                 .and_then(|r| r.time_to_current_s(ix, TIME_MAX_S))
-            {
-                Some(t) => t,
-                None => f32::INFINITY,
-            },
+                .unwrap_or(f32::INFINITY),
         };
         if t.is_finite() && t <= TIME_MAX_S {
             Ok(t)
