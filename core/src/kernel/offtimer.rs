@@ -335,8 +335,8 @@ impl PlannedOffTimer {
     /// # Errors
     ///
     /// `threshold_a` not positive or `max_current_a` not above it,
-    /// either beyond the kernel range (about 1073 A); `tick_s` not positive; a decay time that
-    /// does not fit the tick counter (`tick_s` out of range) or cannot be computed.
+    /// either beyond the kernel range (about 1073 A); `tick_s` not positive; a decay time of
+    /// 2³¹ ticks or more (`tick_s` out of range) or one that cannot be computed.
     pub fn new(
         plan: &SwitchOff,
         threshold_a: f32,
@@ -380,11 +380,13 @@ impl PlannedOffTimer {
                 .with_initial_current_a(from_a)?
                 .time_to_current_s(thr)?;
             let count = libm::ceilf(t * (1.0 + 1.0e-5) / tick) + 1.0;
-            if !(count.is_finite() && count < (NEVER - 1) as f32) {
+            // Counts stay below 2^31, far from the `NEVER` marker.
+            let count_max = (1u32 << 31) as f32;
+            if !(count.is_finite() && count < count_max) {
                 return Err(Error::OutOfRange {
                     param: "tick_s",
                     value: tick,
-                    min: t / (NEVER - 2) as f32,
+                    min: t / count_max,
                     max: f32::INFINITY,
                 });
             }

@@ -210,6 +210,10 @@ fn worst_case_initial_current_at_high_supply_and_cold_coil() {
     // inductance largest; compare against a direct evaluation at that corner.
     let rel = spread.release_time_s(Some(0.075)).unwrap();
     let c = rel.max_at;
+    // t = (L/R) ln((V + Vc)/(Ix R + Vc)): both factors fall with R, so the cold end is the
+    // slow one here.
+    assert!((c.temp_c + 20.0).abs() < 1e-3, "{c:?}");
+    assert_eq!(c.supply_v, spread.spread.supply_v.max());
     let coil = CoilParams::new(c.inductance_h, c.resistance_ohm)
         .validate()
         .unwrap();
