@@ -244,3 +244,76 @@ fn release_states_its_source() {
     assert_eq!(given.source, DropoutSource::Given);
     assert!(given.time_s < r.time_s);
 }
+
+#[test]
+fn spread_with_switch_clamp_needs_clamp_above_every_supply() {
+    let spread = |clamp_v| TurnOffSpread {
+        spread: CoilSpread::new(
+            CoilParams::new(0.120, 32.0),
+            crate::Range::tolerance("supply_v", 24.0, 0.1).unwrap(),
+            crate::Range::new("temp_c", -20.0, 85.0).unwrap(),
+            0.1,
+            0.05,
+        )
+        .unwrap(),
+        clamp: Clamp::Switch { clamp_v },
+    };
+    // 25 V lies above the nominal 24 V but below the 26.4 V corner.
+    assert_eq!(
+        spread(25.0).peak_switch_voltage_v().unwrap_err().param(),
+        "clamp_v"
+    );
+    let ok = spread(45.0);
+    let e = ok.clamp_energy_j().unwrap();
+    // The switch energy grows with the supply (more current, and the supply feeds the decay).
+    assert_eq!(e.max_at.supply_v, ok.spread.supply_v.max());
+    assert!(e.min < e.max);
+    let t = ok.decay_time_s().unwrap();
+    assert!(t.min > 0.0 && t.max > t.min);
+}
+
+mod props {
+    use super::*;
+    use proptest::prelude::*;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(32))]
+
+        /// Worst-case evaluation never panics on any input; what succeeds is ordered.
+        #[test]
+        fn spread_never_panics(
+            l in prop_oneof![1 => any::<f32>(), 4 => 1e-3f32..1.0],
+            r in prop_oneof![1 => any::<f32>(), 4 => 1.0f32..100.0],
+            v in prop_oneof![1 => any::<f32>(), 4 => 1.0f32..50.0],
+            tol in prop_oneof![1 => any::<f32>(), 4 => 0.0f32..0.3],
+            a in prop_oneof![1 => any::<f32>(), 4 => 0.0f32..100.0],
+            kind in 0u8..5,
+        ) {
+            let clamp = match kind {
+                0 => Clamp::Diode { forward_v: a },
+                1 => Clamp::Zener { zener_v: a, forward_v: 0.7 },
+                2 => Clamp::Switch { clamp_v: a },
+                3 => Clamp::Resistor { resistance_ohm: a, forward_v: 0.7 },
+                _ => Clamp::Unclamped { capacitance_f: a * 1e-12 },
+            };
+            let Ok(supply) = crate::Range::tolerance("supply_v", v, 0.1) else { return Ok(()); };
+            let Ok(temp) = crate::Range::new("temp_c", -20.0, 85.0) else { return Ok(()); };
+            let Ok(spread) = CoilSpread::new(CoilParams::new(l, r), supply, temp, tol, tol) else {
+                return Ok(());
+            };
+            let s = TurnOffSpread { spread, clamp };
+            for b in [
+                s.initial_current_a(),
+                s.peak_switch_voltage_v(),
+                s.clamp_energy_j(),
+                s.release_time_s(None),
+                s.time_to_current_s(a),
+            ]
+            .into_iter()
+            .flatten()
+            {
+                prop_assert!(b.min <= b.max && b.min.is_finite() && b.max.is_finite());
+            }
+        }
+    }
+}
