@@ -89,9 +89,12 @@
 //!
 //! SI units. Accepted: `L` and `R` as for [`crate::coil`], supply `0 ..= 10 kV`, currents
 //! `0 ..= 100 kA`, clamp voltages `0 ..= 100 kV`, `C_p` `1 fF ..= 1 F`. The f32 results agree
-//! with an f64 evaluation to 1e-4 relative over the ranges stated in the property tests
-//! (`L` 10 µH..10 H, `R` 0.1 Ω..10 kΩ, `V_c` 10 mV..1 kV, `I₀` 1 mA..100 A); a current near the
-//! end of its decay to 1e-4 of `I₀` absolute.
+//! with an f64 evaluation to 1e-4 relative over the ranges of the property tests: clamped,
+//! `L` 10 µH..10 H, `R` 0.1 Ω..10 kΩ, supply 0..100 V, `I₀` 1 mA..100 A, diode drops 0..2 V,
+//! zener 1..200 V, a switch clamp 1..300 V above the supply, clamp resistors 0..1 kΩ (a current
+//! near the end of its decay to 1e-4 of `I₀` absolute); unclamped and underdamped
+//! (`Z₀ ≥ 5 R`), `L` 1 µH..1 H, `C_p` 1 pF..1 µF, `I₀` 1 mA..10 A (currents to 1e-4 of the ring
+//! amplitude absolute).
 
 mod ring;
 pub mod stable;
