@@ -1,7 +1,11 @@
-//! Support for the cross-crate checks of lenz: tolerances and f64 reference formulas.
+#![doc = include_str!("../README.md")]
 //!
-//! Every reference here is written independently of the f32 plan routines, from the formulas
-//! in the cited sources, so the tests compare two implementations.
+//! ## This package
+//!
+//! `lenz-checks` holds the cross-crate checks in `tests/` and the benches in `benches/`. Its
+//! library is test support: tolerances and f64 reference formulas, each written independently
+//! of the f32 plan routines from the formulas in the cited sources, so the tests compare two
+//! implementations. (The README above is compiled as this package's doctest.)
 
 pub mod turnoff64;
 

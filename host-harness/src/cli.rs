@@ -34,6 +34,10 @@ enum Command {
     Demo(cmd::demo::Args),
     /// Switch-off through a clamp: decay times, peak switch voltage, energy split, verdicts.
     Turnoff(cmd::turnoff::Args),
+    /// Inverse-time trip time at a constant current (IEC 60255-151, IEEE C37.112 curves).
+    TripTime(cmd::trip::TimeArgs),
+    /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
+    TripThreshold(cmd::trip::ThresholdArgs),
 }
 
 /// An error that ends a command with exit code 2.
@@ -88,6 +92,23 @@ unit_parsers! {
     plain => Unit::None,
 }
 
+/// Folds clap's multi-line message into one line: the text up to the usage section.
+fn one_line(rendered: &str) -> String {
+    let parts: Vec<&str> = rendered
+        .lines()
+        .map(str::trim)
+        .take_while(|l| !l.starts_with("Usage:") && !l.starts_with("For more information"))
+        .filter(|l| !l.is_empty())
+        .collect();
+    let text = parts.join(" ");
+    let text = text.trim_start_matches("error: ");
+    if text.is_empty() {
+        "invalid arguments".to_string()
+    } else {
+        text.to_string()
+    }
+}
+
 /// Runs the `lenz` binary with the process arguments.
 #[must_use]
 pub fn main() -> ExitCode {
@@ -109,12 +130,7 @@ where
                     ExitCode::SUCCESS
                 }
                 _ => {
-                    let rendered = e.render().to_string();
-                    let line = rendered
-                        .lines()
-                        .find(|l| !l.trim().is_empty())
-                        .unwrap_or("invalid arguments");
-                    eprintln!("lenz: {}", line.trim_start_matches("error: "));
+                    eprintln!("lenz: {}", one_line(&e.render().to_string()));
                     ExitCode::from(2)
                 }
             };
@@ -124,6 +140,8 @@ where
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
         Command::Turnoff(a) => cmd::turnoff::run(&a),
+        Command::TripTime(a) => cmd::trip::run_time(&a),
+        Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
     };
     match result {
         Ok(code) => code,

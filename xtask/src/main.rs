@@ -1,5 +1,96 @@
 //! `cargo xtask test`: runs every check of the workspace and fails when any fails.
+//!
+//! Steps, in order, each a separate process whose failure stops the run:
+//! 1. `cargo fmt --all -- --check`
+//! 2. `cargo clippy --workspace --all-targets -- -D warnings`
+//! 3. `cargo clippy -p lenz --features defmt,serde -- -D warnings` (the optional features)
+//! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe)
+//!
+//! `cargo test --workspace` alone stays the quick host-only run.
 
-fn main() -> std::process::ExitCode {
-    std::process::ExitCode::SUCCESS
+use std::path::{Path, PathBuf};
+use std::process::{Command, ExitCode};
+use std::time::Instant;
+
+/// The workspace root (the parent of this package's folder).
+fn root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .parent()
+        .map_or_else(|| PathBuf::from("."), Path::to_path_buf)
+}
+
+fn cargo() -> String {
+    std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string())
+}
+
+/// Runs `cargo args…` in the workspace root; `Err` names the step that failed.
+fn step(name: &str, args: &[&str]) -> Result<(), String> {
+    let t = Instant::now();
+    println!("xtask: {name}: cargo {}", args.join(" "));
+    let status = Command::new(cargo())
+        .args(args)
+        .current_dir(root())
+        .status()
+        .map_err(|e| format!("{name}: could not start cargo: {e}"))?;
+    if status.success() {
+        println!("xtask: {name}: ok ({:.1} s)", t.elapsed().as_secs_f64());
+        Ok(())
+    } else {
+        Err(format!("{name} failed ({status})"))
+    }
+}
+
+fn test() -> Result<(), String> {
+    step("format", &["fmt", "--all", "--", "--check"])?;
+    step(
+        "clippy",
+        &[
+            "clippy",
+            "--workspace",
+            "--all-targets",
+            "--",
+            "-D",
+            "warnings",
+        ],
+    )?;
+    step(
+        "clippy (features)",
+        &[
+            "clippy",
+            "-p",
+            "lenz",
+            "--features",
+            "defmt,serde",
+            "--",
+            "-D",
+            "warnings",
+        ],
+    )?;
+    step("host tests", &["test", "--workspace"])?;
+    Ok(())
+}
+
+fn main() -> ExitCode {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let result = match args.first().map(String::as_str) {
+        Some("test") => {
+            let t = Instant::now();
+            let r = test();
+            if r.is_ok() {
+                println!(
+                    "xtask: all checks passed in {:.1} s",
+                    t.elapsed().as_secs_f64()
+                );
+            }
+            r
+        }
+        _ => Err("usage: cargo xtask test".to_string()),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("xtask: {e}");
+            ExitCode::FAILURE
+        }
+    }
 }

@@ -12,13 +12,13 @@ use crate::cli::{CAUTION, CliError, ampere, celsius, henry, ohm, second, volt};
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// Coil inductance, H (SI prefixes accepted: 120m, 120mH).
-    #[arg(long, value_name = "H", value_parser = henry)]
+    #[arg(long, value_name = "H", value_parser = henry, allow_hyphen_values = true)]
     inductance: f64,
     /// Winding resistance at 20 °C, Ω.
-    #[arg(long, value_name = "OHM", value_parser = ohm)]
+    #[arg(long, value_name = "OHM", value_parser = ohm, allow_hyphen_values = true)]
     resistance: f64,
     /// Supply voltage across the coil while on, V.
-    #[arg(long, value_name = "V", value_parser = volt)]
+    #[arg(long, value_name = "V", value_parser = volt, allow_hyphen_values = true)]
     supply: f64,
     /// Coil (winding) temperature, °C; default 20.
     #[arg(long, value_name = "C", value_parser = celsius, allow_hyphen_values = true)]

@@ -3,4 +3,5 @@
 pub mod coil;
 pub mod demo;
 pub mod table;
+pub mod trip;
 pub mod turnoff;

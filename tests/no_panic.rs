@@ -1,0 +1,105 @@
+//! No public function of the plan side panics, whatever f32 it is given: NaN, ±inf,
+//! subnormals, zero, negatives and huge values. Every `Ok` result is finite.
+
+use lenz::bounds::{CoilSpread, worst_case};
+use lenz::kernel::{EstimatorConfig, MonitorConfig, MonitorParams, SenseScale};
+use lenz::{CoilParams, Range};
+use proptest::prelude::*;
+
+/// Arbitrary f32 with the edge cases drawn often.
+fn wild() -> impl Strategy<Value = f32> {
+    prop_oneof![
+        3 => any::<f32>(),
+        1 => Just(f32::NAN),
+        1 => Just(f32::INFINITY),
+        1 => Just(f32::NEG_INFINITY),
+        1 => Just(0.0f32),
+        1 => Just(-0.0f32),
+        1 => Just(f32::MIN_POSITIVE / 2.0),
+        1 => Just(f32::MAX),
+        1 => Just(-1.0f32),
+        2 => 1e-3f32..1e3,
+    ]
+}
+
+fn ok_finite(r: Result<f32, lenz::Error>) -> Result<(), TestCaseError> {
+    if let Ok(v) = r {
+        prop_assert!(v.is_finite(), "Ok({v}) is not finite");
+    }
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 2000, ..ProptestConfig::default() })]
+
+    #[test]
+    fn coil_routines(
+        l in wild(), r in wild(), tref in wild(), alpha in wild(), rs in wild(), vd in wild(),
+        v in wild(), t in wild(), i0 in wild(), x in wild(), d in wild(), f in wild(),
+    ) {
+        let p = CoilParams::new(l, r)
+            .with_reference_temp_c(tref)
+            .with_alpha20_per_k(alpha)
+            .with_switch_resistance_ohm(rs)
+            .with_diode_drop_v(vd)
+            .with_switch_drop_v(vd);
+        // Also a valid coil, so the routines themselves see the wild arguments.
+        let valid = CoilParams::new(0.12, 32.0).with_diode_drop_v(0.7).validate().unwrap();
+        let coils: Vec<_> = [p.validate().ok(), Some(valid)].into_iter().flatten().collect();
+        for c in coils {
+            ok_finite(c.resistance_ohm(t))?;
+            ok_finite(c.time_constant_s(t))?;
+            ok_finite(c.steady_current_a(v, t))?;
+            ok_finite(c.stored_energy_j(i0))?;
+            ok_finite(c.current_after_a(v, t, i0, x))?;
+            ok_finite(c.time_to_current_s(v, t, i0, x))?;
+            ok_finite(c.pull_in_time_s(v, t, x))?;
+            ok_finite(c.temperature_from_resistance_c(x))?;
+            ok_finite(c.temperature_from_steady_current_c(v, x))?;
+            if let Ok(s) = c.pwm_steady_state(v, t, d, f) {
+                prop_assert!(s.min_a.is_finite() && s.max_a.is_finite() && s.mean_a.is_finite());
+                prop_assert!(s.min_a <= s.max_a);
+            }
+            let _ = EstimatorConfig::new(&c, t, x);
+            let _ = EstimatorConfig::with_clamp(&c, t, x, rs, vd, true);
+        }
+    }
+
+    #[test]
+    fn ranges_and_bounds(a in wild(), b in wild(), tol in wild()) {
+        let _ = Range::new("x", a, b);
+        let _ = Range::exact("x", a);
+        let _ = Range::tolerance("x", a, tol);
+        if let Ok(r) = Range::new("x", a, b) {
+            let w = worst_case(&[r], |p| Ok(p[0] * 2.0));
+            if let Ok(bound) = w {
+                prop_assert!(bound.min <= bound.max);
+            }
+        }
+    }
+
+    #[test]
+    fn coil_spread(v0 in wild(), v1 in wild(), t0 in wild(), t1 in wild(), tol in wild(), ip in wild()) {
+        let coil = CoilParams::new(0.3, 120.0);
+        if let (Ok(sv), Ok(st)) = (Range::new("supply_v", v0, v1), Range::new("temp_c", t0, t1)) {
+            if let Ok(s) = CoilSpread::new(coil, sv, st, tol, tol) {
+                for b in [s.steady_current_a(), s.time_constant_s(), s.stored_energy_j(), s.pull_in_time_s(ip)]
+                    .into_iter()
+                    .flatten()
+                {
+                    prop_assert!(b.min.is_finite() && b.max.is_finite() && b.min <= b.max);
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn monitor_plan(a in wild(), off in wild(), tol in wild(), rel in wild(), p in any::<u16>(), lo in any::<u16>(), hi in any::<u16>()) {
+        if let Ok(scale) = SenseScale::new(a, off, lo, hi) {
+            let _ = MonitorConfig::new(scale, &MonitorParams {
+                abs_tol_a: tol, rel_tol: rel, open_min_estimate_a: tol, open_max_a: a,
+                persistence: p, stuck_samples: p, stuck_min_change_a: tol,
+            });
+        }
+    }
+}
