@@ -303,7 +303,7 @@ fn bad_input_exits_2_with_one_line() {
         ],
         "--current",
     );
-    // A missing required flag is clap's own error: exit 2 and one line.
+    // A missing required flag: clap's error, exit 2, one line naming the flag.
     expect_exit_2(
         &[
             "--inductance",
@@ -313,6 +313,6 @@ fn bad_input_exits_2_with_one_line() {
             "--clamp",
             "diode:0.7",
         ],
-        "required",
+        "--current",
     );
 }
