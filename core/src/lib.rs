@@ -8,6 +8,7 @@ pub mod kernel;
 #[cfg(test)]
 mod testing;
 pub mod trip;
+pub mod turnoff;
 
 pub use bounds::{Bound, Range};
 pub use coil::{Coil, CoilParams, PwmSteadyState};

@@ -32,6 +32,8 @@ enum Command {
     Coil(cmd::coil::Args),
     /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
     Demo(cmd::demo::Args),
+    /// Switch-off through a clamp: decay times, peak switch voltage, energy split, verdicts.
+    Turnoff(cmd::turnoff::Args),
     /// Inverse-time trip time at a constant current (IEC 60255-151, IEEE C37.112 curves).
     TripTime(cmd::trip::TimeArgs),
     /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
@@ -137,6 +139,7 @@ where
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
+        Command::Turnoff(a) => cmd::turnoff::run(&a),
         Command::TripTime(a) => cmd::trip::run_time(&a),
         Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
     };

@@ -4,3 +4,4 @@ pub mod coil;
 pub mod demo;
 pub mod table;
 pub mod trip;
+pub mod turnoff;
