@@ -102,7 +102,8 @@ pub fn nominal(ch: &AdcChannel) -> AdcChannel {
 }
 
 /// The driver plan for a coil of `l_h`, `r20_ohm` (the firmware's model: winding plus switch
-/// and shunt; it measures the supply at the terminal, after the source resistance).
+/// and shunt; it measures the supply at the terminal, after the source resistance), with the
+/// demo's freewheel diode, releasing below `release_a`.
 ///
 /// # Errors
 ///
@@ -114,6 +115,7 @@ pub fn driver_plan(
     pull_in_a: f32,
     hold_duty: f32,
     trip_threshold_a: f32,
+    release_a: f32,
 ) -> Result<ValveDriverConfig, Error> {
     let coil = lenz::CoilParams::new(l_h, r20_ohm)
         .with_switch_resistance_ohm(0.1)
@@ -125,7 +127,8 @@ pub fn driver_plan(
         coil,
         temp_c,
         tick_s: TICK_NS as f32 * 1e-9,
-        clamp_v: 0.7,
+        clamp: lenz::turnoff::Clamp::Diode { forward_v: 0.7 },
+        release_a,
         pull_in_a,
         pull_in_min_s: 0.030,
         hold_duty,
@@ -146,23 +149,23 @@ pub fn driver_plan(
 
 /// The valve driver planned at `temp_c`: pull-in ends at 0.54 A (the 0.45 A pull-in current
 /// with 20 % margin) after at least 30 ms, hold at 45 % duty (about 0.33 A), instantaneous
-/// trip at 2 A.
+/// trip at 2 A, re-energize only after the off-timer confirms 75 mA.
 ///
 /// # Errors
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn valve_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45, 2.0)
+    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45, 2.0, 0.075)
 }
 
 /// The relay driver planned at `temp_c`: pull-in to 90 mA (75 mA must-operate plus 20 %),
-/// hold at 55 % duty, instantaneous trip at 0.5 A.
+/// hold at 55 % duty, instantaneous trip at 0.5 A, release below 10 mA.
 ///
 /// # Errors
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55, 0.5)
+    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55, 0.5, 0.010)
 }
 
 /// The valve's limits: switch rated 60 V and 10 mJ per switch-off, clamp diode 100 mJ, 10 A
