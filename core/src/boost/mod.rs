@@ -128,7 +128,7 @@ mod spread;
 pub use spread::{BoostCorner, BoostSpread};
 
 use crate::error::{Error, finite_result, in_range, non_negative, positive};
-use model::{DUTY_TOP, Point, Stage64, first_crossing};
+use model::{DUTY_TOP, Point, Stage64, first_crossing, monotone_crossing};
 
 /// Smallest inductance accepted, H.
 pub const INDUCTANCE_MIN_H: f32 = 1.0e-9;
@@ -693,7 +693,8 @@ impl BoostStage {
         });
         let light_load = o.light.and_then(|(r_ll, vmax)| {
             let top = s.gain_peak(o.vg, r_ll).map_or(DUTY_TOP, |(d, _)| d);
-            first_crossing(top, |d| s.at_duty(d, o.vg, r_ll).v <= vmax)
+            // The output rises with the duty up to the gain peak at that load, in DCM and CCM.
+            monotone_crossing(top, |d| s.at_duty(d, o.vg, r_ll).v <= vmax)
         });
         let min_off = 1.0 - self.p.min_off_time_s as f64 * fs;
         let min_on = self.p.min_on_time_s as f64 * fs;

@@ -96,6 +96,19 @@ pub(crate) fn bisect(mut lo: f64, mut hi: f64, below: impl Fn(f64) -> bool) -> f
     lo
 }
 
+/// The largest `x` in `0 ..= top` with `ok(x)`, for an `ok` that holds up to one crossing and
+/// fails beyond it (a monotonic figure against its limit). `None` when `ok(top)` holds;
+/// `Some(0)` when `ok(0)` fails.
+pub(crate) fn monotone_crossing(top: f64, ok: impl Fn(f64) -> bool) -> Option<f64> {
+    if !ok(0.0) {
+        return Some(0.0);
+    }
+    if ok(top) {
+        return None;
+    }
+    Some(bisect(0.0, top, ok))
+}
+
 /// The largest `x` in `0 ..= top` such that `ok(y)` holds for every grid point `y ≤ x` and the
 /// bisection refinement of the first failing grid cell: the first crossing from the bottom.
 /// `None` when `ok` holds over the whole interval; `Some(0)` when it fails at zero.
@@ -296,11 +309,11 @@ impl Stage64 {
         }
     }
 
-    /// Peak inductor current at duty `d` into `r` (without solving the DCM output: in DCM the
-    /// peak depends on the on interval only).
+    /// Peak inductor current at duty `d` into `r`, the mode taken from the CCM valley (without
+    /// solving the DCM output: in DCM the peak depends on the on interval only).
     pub fn peak_at(&self, d: f64, vg: f64, r: f64) -> f64 {
         let ccm = self.ccm_point(d, vg, r);
-        if ccm.valley <= 0.0 && self.dcm_output(d, vg, r).is_some() {
+        if ccm.valley <= 0.0 {
             self.dcm_peak(d, vg)
         } else {
             ccm.ipk
