@@ -36,6 +36,8 @@ enum Command {
     TripTime(cmd::trip::TimeArgs),
     /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
     TripThreshold(cmd::trip::ThresholdArgs),
+    /// Boost stage: mode, duty, inductor currents, output ripple and duty limits with reasons.
+    Boost(cmd::boost::Args),
 }
 
 /// An error that ends a command with exit code 2.
@@ -139,6 +141,7 @@ where
         Command::Demo(a) => cmd::demo::run(&a),
         Command::TripTime(a) => cmd::trip::run_time(&a),
         Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
+        Command::Boost(a) => cmd::boost::run(&a),
     };
     match result {
         Ok(code) => code,
