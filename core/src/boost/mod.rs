@@ -923,27 +923,75 @@ mod tests {
         assert!(isclose(p.duty as f64, 0.2366431913, 1e-6, 0.0));
     }
 
+    /// A draw in `0..1` (scaled into a parameter's range), or an arbitrary f32, or a special
+    /// value (NaN, ±inf, subnormal, zero, negative, huge), kept as it is.
+    #[derive(Debug, Clone, Copy)]
+    enum Draw {
+        Unit(f32),
+        Raw(f32),
+    }
+
+    fn draw() -> impl Strategy<Value = Draw> {
+        prop_oneof![
+            28 => (0.0f32..1.0).prop_map(Draw::Unit),
+            1 => any::<f32>().prop_map(Draw::Raw),
+            1 => proptest::sample::select(std::vec![
+                0.0f32, -0.0, f32::NAN, f32::INFINITY, f32::NEG_INFINITY,
+                f32::MIN_POSITIVE / 4.0, -1.0, f32::MAX,
+            ]).prop_map(Draw::Raw),
+        ]
+    }
+
+    fn val(d: Draw, lo: f32, hi: f32) -> f32 {
+        match d {
+            Draw::Unit(u) => lo + (hi - lo) * u,
+            Draw::Raw(x) => x,
+        }
+    }
+
     proptest! {
+        #![proptest_config(ProptestConfig::with_cases(400))]
         #[test]
-        fn plan_never_panics(
-            l in any::<f32>(), f in any::<f32>(), rl in any::<f32>(), ron in any::<f32>(),
-            vd in any::<f32>(), vg in any::<f32>(), v in any::<f32>(), i in any::<f32>(),
-            isat in any::<f32>(), toff in any::<f32>(),
-        ) {
+        fn plan_never_panics(d in proptest::collection::vec(draw(), 15)) {
+            let [l, f, rl, ron, vd, vg, v, i, isat, toff, ton, cap, esr, ll, vmax] = [
+                val(d[0], 1e-6, 1e-4), val(d[1], 1e4, 1e6), val(d[2], 0.0, 0.2),
+                val(d[3], 0.0, 0.2), val(d[4], 0.0, 1.0), val(d[5], 1.0, 30.0),
+                val(d[6], 1.1, 5.0), val(d[7], 1e-3, 2.0), val(d[8], 1.0, 20.0),
+                val(d[9], 0.0, 1e-7), val(d[10], 0.0, 1e-7), val(d[11], 1e-6, 1e-3),
+                val(d[12], 0.0, 0.1), val(d[13], 0.01, 1.0), val(d[14], 1.0, 2.0),
+            ];
             let stage = BoostStageParams::new(l, f)
                 .with_inductor_resistance_ohm(rl)
                 .with_switch_resistance_ohm(ron)
                 .with_diode_drop_v(vd)
                 .with_saturation_current_a(isat)
                 .with_min_off_time_s(toff)
-                .with_output_capacitor(1e-5, 0.01);
+                .with_min_on_time_s(ton)
+                .with_output_capacitor(cap, esr);
             if let Ok(s) = stage.validate() {
-                let op = OperatingPoint::with_load_current(vg, v, i).with_light_load(i * 0.1, v * 1.1);
-                if let Ok(p) = s.plan(&op) {
-                    prop_assert!(p.duty.is_finite() && p.duty >= 0.0 && p.duty <= p.limits.duty_max);
-                    prop_assert!(p.peak_inductor_current_a.is_finite());
+                // Output as a multiple of the input; the light-load condition in a third of cases.
+                let v = v * vg;
+                let mut op = OperatingPoint::with_load_current(vg, v, i);
+                if matches!(d[13], Draw::Raw(_)) || ll < 0.3 {
+                    op = op.with_light_load(i * ll, v * vmax);
                 }
-                let _ = s.duty_limits(&op);
+                match s.plan(&op) {
+                    Ok(p) => {
+                        let lim = p.limits;
+                        prop_assert!(p.duty >= lim.min_on_time && p.duty <= lim.duty_max);
+                        for x in [p.k, p.k_crit, p.average_inductor_current_a,
+                                  p.ripple_current_a, p.peak_inductor_current_a, p.efficiency] {
+                            prop_assert!(x.is_finite() && x >= 0.0);
+                        }
+                        prop_assert!(p.peak_inductor_current_a >= p.average_inductor_current_a * 0.999);
+                        prop_assert!(p.efficiency <= 1.0 + 1e-5);
+                    }
+                    Err(Error::Unreachable { limit, .. }) => prop_assert!(limit.is_finite()),
+                    Err(e) => prop_assert!(!e.param().is_empty()),
+                }
+                if let Ok(l) = s.duty_limits(&op) {
+                    prop_assert!(l.duty_max >= 0.0 && l.duty_max <= 1.0);
+                }
                 let _ = s.at_duty(vg, 0.5, v);
             }
         }

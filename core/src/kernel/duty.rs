@@ -550,7 +550,7 @@ mod tests {
         let c = cfg();
         let r = c.raw();
         let mut worst = 0.0f64;
-        assert_eq!((r.vin_lo_counts, r.shift), (2483, 6));
+        assert_eq!((r.vin_lo_counts, r.vin_hi_counts, r.shift), (2483, 3723, 6));
         for vin in r.vin_lo_counts..=r.vin_hi_counts {
             let want = plan_limit(vin) * f64::from(FS);
             let got = f64::from(c.limit_q8(vin)) / 256.0;
@@ -620,7 +620,7 @@ mod tests {
     proptest! {
         #[test]
         fn tick_within_limits_and_one_lsb_of_the_plan(
-            vin in 2482u16..=3724, request in any::<i32>(),
+            vin in 2483u16..=3723, request in any::<i32>(),
         ) {
             let c = cfg();
             let mut s = DutyLimiterState::new();
@@ -673,6 +673,59 @@ mod tests {
             for (req, vin, vout) in seq {
                 let out = c.tick(&mut s, req, vin, vout);
                 prop_assert!(out <= fs);
+            }
+        }
+    }
+
+    proptest! {
+        // Each case builds the tables (a few hundred plan evaluations): fewer cases.
+        #![proptest_config(ProptestConfig::with_cases(24))]
+        #[test]
+        fn constructor_never_panics(
+            d in proptest::collection::vec(
+                prop_oneof![
+                    10 => (0.0f32..1.0).prop_map(|u| (true, u)),
+                    1 => any::<f32>().prop_map(|x| (false, x)),
+                    1 => proptest::sample::select(std::vec![
+                        f32::NAN, f32::INFINITY, -1.0, 0.0, f32::MIN_POSITIVE / 2.0,
+                    ]).prop_map(|x| (false, x)),
+                ],
+                10,
+            ),
+            fs in any::<u16>(), adc in any::<u16>(),
+        ) {
+            let v = |k: usize, lo: f32, hi: f32| match d[k] {
+                (true, u) => lo + (hi - lo) * u,
+                (false, x) => x,
+            };
+            let (a, b) = (v(0, 2.0, 8.0), v(1, 2.0, 8.0));
+            let Ok(input_v) = Range::new("input_v", a.min(b), a.max(b)) else {
+                return Ok(());
+            };
+            let p = DutyLimiterParams {
+                input_v,
+                output_v: v(2, 8.0, 16.0),
+                max_load_current_a: v(3, 0.01, 1.0),
+                light_load: Some(LightLoad {
+                    min_load_current_a: v(4, 0.001, 0.1),
+                    max_output_v: v(5, 10.0, 30.0),
+                }),
+                input_v_per_count: v(6, 1e-3, 1e-2),
+                output_v_per_count: v(7, 5e-3, 2e-2),
+                adc_max_counts: adc,
+                duty_full_scale: fs,
+                soft_start_s: v(8, 0.0, 0.1),
+                tick_s: v(9, 1e-5, 1e-3),
+                overvoltage_v: v(5, 10.0, 30.0) + 1.0,
+                resume_v: v(5, 10.0, 30.0),
+            };
+            if let Ok(c) = DutyLimiterConfig::new(&stage(), &p) {
+                let r = *c.raw();
+                prop_assert!(r.vin_lo_counts <= r.vin_hi_counts);
+                prop_assert!(r.ov_resume_counts < r.ov_trip_counts);
+                let mut s = DutyLimiterState::new();
+                let out = c.tick(&mut s, i32::MAX, r.vin_lo_counts, r.ov_resume_counts);
+                prop_assert!(out <= r.full_scale);
             }
         }
     }
