@@ -38,6 +38,8 @@ pub(crate) fn bench(c: &mut Criterion) {
             tick_s: 100e-6,
             overvoltage_v: 21.0,
             resume_v: 19.5,
+            inductance_tol: 0.2,
+            resistance_tol: 0.3,
         },
     )
     .expect("demo limiter is valid");

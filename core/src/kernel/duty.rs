@@ -31,7 +31,10 @@
 //! the nodes and at interior points of every segment and lowers the nodes until the chord lies
 //! at or below every evaluated point; node values are rounded down to 1/256 count. A limit
 //! that a node does not have (no saturation current, no resistive loss, no light-load
-//! condition) is stored as full scale.
+//! condition) is stored as full scale. With part tolerances given (`inductance_tol`,
+//! `resistance_tol`) each node holds the lowest limit over the four corners `L·(1 ± tol_L)`,
+//! `R·(1 ± tol_R)`; every limit is monotonic in each of them, and a unit test checks the corners
+//! against the general worst-case search of [`crate::bounds::worst_case`].
 //!
 //! Accuracy, measured at every reading of a 4 ..= 6 V window (1242 counts, 64 per segment,
 //! full scale 1000 counts; the unit tests below): the table limit never lies above the plan's
@@ -94,6 +97,11 @@ pub struct DutyLimiterParams {
     pub overvoltage_v: f32,
     /// Output voltage at or below which switching resumes after a cut. Units: V.
     pub resume_v: f32,
+    /// Relative tolerance of the inductance, `0 ..= 0.99`: each table holds the lowest limit over
+    /// the corners `L·(1 ± tol)`.
+    pub inductance_tol: f32,
+    /// Relative tolerance of the inductor and switch resistances together, `0 ..= 0.99`.
+    pub resistance_tol: f32,
 }
 
 /// The raw coefficients of a [`DutyLimiterConfig`], for constants emitted by the host tool.
@@ -167,6 +175,8 @@ pub struct DutyLimiterRaw {
 ///     tick_s: 100e-6,
 ///     overvoltage_v: 14.0,
 ///     resume_v: 13.0,
+///     inductance_tol: 0.2,
+///     resistance_tol: 0.3,
 /// })?;
 /// let mut s = DutyLimiterState::new();
 /// let mut d = 0;
@@ -286,6 +296,27 @@ impl DutyLimiterConfig {
         let pass_v = p.input_v.min() - stage.params().diode_drop_v;
         let vout_lo = libm::floorf((0.5 * pass_v / vpc_out).max(0.0)) as u16;
 
+        // Tolerance corners: every limit falls monotonically with the inductance (more ripple:
+        // saturation; smaller K: light load) or with the resistances (gain peak falls with
+        // more loss, saturation and light load with less), so its lowest value over the box
+        // sits at one of the four corners (checked against the general worst-case search in
+        // the unit tests).
+        let tl = in_range("inductance_tol", p.inductance_tol, 0.0, 0.99)?;
+        let tr = in_range("resistance_tol", p.resistance_tol, 0.0, 0.99)?;
+        let nominal = *stage.params();
+        let mut corners = [nominal; 4];
+        for (k, c) in corners.iter_mut().enumerate() {
+            let lf = if k & 1 == 0 { 1.0 - tl } else { 1.0 + tl };
+            let rf = if k & 2 == 0 { 1.0 - tr } else { 1.0 + tr };
+            c.inductance_h = nominal.inductance_h * lf;
+            c.inductor_resistance_ohm = nominal.inductor_resistance_ohm * rf;
+            c.switch_resistance_ohm = nominal.switch_resistance_ohm * rf;
+        }
+        let n_corners = if tl == 0.0 && tr == 0.0 { 1 } else { 4 };
+        let mut stages = [*stage; 4];
+        for (st, c) in stages.iter_mut().zip(corners).take(n_corners) {
+            *st = c.validate()?;
+        }
         let limits_at = |counts_in: f64| -> Result<[f64; LIMIT_TABLES], Error> {
             let op = OperatingPoint {
                 light_load: p.light_load,
@@ -295,12 +326,18 @@ impl DutyLimiterConfig {
                     p.max_load_current_a,
                 )
             };
-            let l = stage.duty_limits(&op)?;
-            Ok([
-                f64::from(l.saturation.unwrap_or(1.0)),
-                f64::from(l.gain_peak.map_or(1.0, |g| g.duty)),
-                f64::from(l.light_load.unwrap_or(1.0)),
-            ])
+            let mut out = [1.0f64; LIMIT_TABLES];
+            for st in stages.iter().take(n_corners) {
+                let l = st.duty_limits(&op)?;
+                for (o, v) in out.iter_mut().zip([
+                    l.saturation.unwrap_or(1.0),
+                    l.gain_peak.map_or(1.0, |g| g.duty),
+                    l.light_load.unwrap_or(1.0),
+                ]) {
+                    *o = o.min(f64::from(v));
+                }
+            }
+            Ok(out)
         };
         let step = f64::from(1u32 << shift);
         let mut nodes = [[0.0f64; TABLE_LEN]; LIMIT_TABLES];
@@ -518,6 +555,8 @@ mod tests {
             tick_s: 100e-6,
             overvoltage_v: 21.0,
             resume_v: 19.5,
+            inductance_tol: 0.0,
+            resistance_tol: 0.0,
         }
     }
 
@@ -572,6 +611,48 @@ mod tests {
         // counts, far below one duty count, so the output stays within one count of the floor
         // of the plan's limit.
         assert!(worst < 0.1, "worst table error {worst} counts");
+    }
+
+    #[test]
+    fn tolerance_tables_hold_the_worst_case_over_l_and_r() {
+        // L ±20 %, R ±30 %: each table node must lie at or below the lowest limit that the
+        // general worst-case search (corners plus interior extrema) finds over the box.
+        use crate::bounds::worst_case;
+        let mut p = params();
+        p.inductance_tol = 0.2;
+        p.resistance_tol = 0.3;
+        let c = DutyLimiterConfig::new(&stage(), &p).unwrap();
+        let nominal = *stage().params();
+        for vin in [2483u16, 2900, 3300, 3650] {
+            let op = OperatingPoint {
+                light_load: p.light_load,
+                ..OperatingPoint::with_load_current(f32::from(vin) * VPC_IN, 12.0, 0.5)
+            };
+            let ranges = [
+                Range::tolerance("inductance_h", nominal.inductance_h, 0.2).unwrap(),
+                Range::tolerance("resistance", 1.0, 0.3).unwrap(),
+            ];
+            let b = worst_case(&ranges, |x| {
+                let st = BoostStageParams {
+                    inductance_h: x[0],
+                    inductor_resistance_ohm: nominal.inductor_resistance_ohm * x[1],
+                    switch_resistance_ohm: nominal.switch_resistance_ohm * x[1],
+                    ..nominal
+                }
+                .validate()?;
+                Ok(st.duty_limits(&op)?.duty_max)
+            })
+            .unwrap();
+            let want = f64::from(b.min) * f64::from(FS);
+            let got = f64::from(c.limit_q8(vin)) / 256.0;
+            assert!(got <= want, "{vin}: table {got} above worst case {want}");
+            assert!(
+                got >= want - 0.2,
+                "{vin}: table {got} far below worst case {want}"
+            );
+            // And the tolerance really lowers the limit against the nominal stage.
+            assert!(got < f64::from(cfg().limit_q8(vin)) / 256.0 - 1.0);
+        }
     }
 
     #[test]
@@ -727,6 +808,8 @@ mod tests {
                 tick_s: v(9, 1e-5, 1e-3),
                 overvoltage_v: v(5, 10.0, 30.0) + 1.0,
                 resume_v: v(5, 10.0, 30.0),
+                inductance_tol: v(6, 0.0, 0.3),
+                resistance_tol: v(7, 0.0, 0.3),
             };
             if let Ok(c) = DutyLimiterConfig::new(&stage(), &p) {
                 let r = *c.raw();
