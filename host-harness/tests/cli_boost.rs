@@ -293,3 +293,33 @@ fn human_output_shows_the_caution() {
         "{text}"
     );
 }
+
+#[test]
+fn output_below_the_input_is_refused_with_the_lowest_output() {
+    // Common practice, no source: at zero duty a boost stage passes its input less the diode
+    // drop (5 V − 0.35 V = 4.65 V); it cannot make less.
+    let out = lenz(&[
+        "boost",
+        "--vin",
+        "5",
+        "--vout",
+        "3",
+        "--iout",
+        "1",
+        "--inductance",
+        "10u",
+        "--frequency",
+        "500k",
+        "--diode-drop",
+        "0.35",
+        "--json",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(out.stdout.is_empty());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(
+        err.contains("--vout") && err.contains("reachable output is 4.6500 V"),
+        "{err}"
+    );
+}

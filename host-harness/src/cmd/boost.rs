@@ -111,14 +111,20 @@ fn compute(a: &Args) -> Result<BoostPlan, CliError> {
     let op = OperatingPoint::with_load_current(a.vin as f32, a.vout as f32, a.iout as f32);
     stage.plan(&op).map_err(|e| match e {
         Error::Unreachable { target, limit, .. } => {
-            // Name the limit that binds, so the line says why the output is out of reach.
-            let why = stage.duty_limits(&op).map_or(String::new(), |l| {
-                format!(
-                    " (duty_max {:.4}, {})",
-                    l.duty_max,
-                    l.duty_max_reason.as_str()
-                )
-            });
+            // Name what binds, so the line says why the output is out of reach.
+            let why = if target < limit {
+                " (the lowest output: a boost stage cannot go below its input less the drops, \
+                 nor below the minimum on time)"
+                    .to_string()
+            } else {
+                stage.duty_limits(&op).map_or(String::new(), |l| {
+                    format!(
+                        " (duty_max {:.4}, {})",
+                        l.duty_max,
+                        l.duty_max_reason.as_str()
+                    )
+                })
+            };
             CliError(format!(
                 "--vout: {target} V cannot be reached; the reachable output is {limit:.4} V{why}"
             ))
