@@ -38,6 +38,8 @@ enum Command {
     TripTime(cmd::trip::TimeArgs),
     /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
     TripThreshold(cmd::trip::ThresholdArgs),
+    /// Boost stage: mode, duty, inductor currents, output ripple and duty limits with reasons.
+    Boost(cmd::boost::Args),
 }
 
 /// An error that ends a command with exit code 2.
@@ -142,6 +144,7 @@ where
         Command::Turnoff(a) => cmd::turnoff::run(&a),
         Command::TripTime(a) => cmd::trip::run_time(&a),
         Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
+        Command::Boost(a) => cmd::boost::run(&a),
     };
     match result {
         Ok(code) => code,

@@ -1,5 +1,6 @@
 //! One module per `lenz` subcommand.
 
+pub mod boost;
 pub mod coil;
 pub mod demo;
 pub mod table;
