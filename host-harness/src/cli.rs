@@ -32,6 +32,8 @@ enum Command {
     Coil(cmd::coil::Args),
     /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
     Demo(cmd::demo::Args),
+    /// Cost per kernel call on Cortex-M0/M3/M4F under emulation, beside the f32/libm version.
+    Cost(cmd::cost::Args),
 }
 
 /// An error that ends a command with exit code 2.
@@ -121,6 +123,7 @@ where
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
+        Command::Cost(a) => cmd::cost::run(&a),
     };
     match result {
         Ok(code) => code,
