@@ -1,6 +1,6 @@
 //! The target checks of `cargo xtask test`, after the host tests:
 //!
-//! 1. prerequisites: the firmware toolchain, installed with apt-get when missing and running
+//! 1. the format of the target-only crate, and the prerequisites: the firmware toolchain, installed with apt-get when missing and running
 //!    as root on Debian, otherwise a stop with the exact packages to install (never skipped);
 //! 2. `lenz` built for thumbv6m-none-eabi, thumbv7m-none-eabi and thumbv7em-none-eabihf,
 //!    with no features and with `defmt`;
@@ -71,8 +71,28 @@ fn prerequisites() -> Result<Toolchain, String> {
     Toolchain::detect(&TARGETS).map_err(|m| m.to_string())
 }
 
+/// `cargo fmt --check` of the target-only crate (outside the workspace, so `cargo fmt --all`
+/// does not see it).
+fn format_images() -> Result<(), String> {
+    let manifest = lenz_harness::firmware::images_dir().join("Cargo.toml");
+    let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string());
+    let status = Command::new(cargo)
+        .args(["fmt", "--check", "--manifest-path"])
+        .arg(manifest)
+        .status()
+        .map_err(|e| format!("could not start cargo fmt: {e}"))?;
+    if status.success() {
+        Ok(())
+    } else {
+        Err(format!(
+            "not formatted ({status}); run cargo fmt in benches/target"
+        ))
+    }
+}
+
 /// Runs every target check; `Err` names what failed.
 pub fn checks() -> Result<(), String> {
+    timed("format of benches/target", format_images)?;
     let tc = timed("firmware tools", prerequisites)?;
     for t in TARGETS {
         println!("xtask: {}", tc.describe(t));

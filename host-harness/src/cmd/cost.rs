@@ -106,3 +106,23 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         _ => ExitCode::SUCCESS,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::cli::Cli;
+    use clap::Parser;
+
+    #[test]
+    fn target_flag_takes_the_three_cores_only() {
+        assert_eq!(target("m0"), Ok(Target::M0));
+        assert_eq!(target("m4f"), Ok(Target::M4f));
+        let e = target("m7").unwrap_err();
+        assert!(e.contains("m0, m3, m4f"), "{e}");
+        let e = Cli::try_parse_from(["lenz", "cost", "--target", "m7"]).unwrap_err();
+        assert!(e.to_string().contains("--target"), "{e}");
+        assert!(Cli::try_parse_from(["lenz", "cost", "--target", "m3", "--json"]).is_ok());
+        // The budget is written for every core at once.
+        assert!(Cli::try_parse_from(["lenz", "cost", "--target", "m3", "--write-budget"]).is_err());
+    }
+}
