@@ -107,7 +107,7 @@ pub fn checks() -> Result<(), String> {
             timed(&name, || build(&tc, t, Build::Lenz { defmt }))?;
         }
     }
-    let mut kernels = Vec::new();
+    let mut kernels = std::collections::BTreeMap::new();
     for t in TARGETS {
         let name = format!("on-target test on {} ({})", t.core(), t.machine());
         let checked = timed(&name, || check_on_target(&tc, t))?;
@@ -117,7 +117,7 @@ pub fn checks() -> Result<(), String> {
                 k.name, k.vectors, k.state_bytes
             );
         }
-        kernels = checked.into_iter().map(|k| k.name).collect();
+        kernels.insert(t, checked.into_iter().map(|k| k.name).collect::<Vec<_>>());
     }
     for t in TARGETS {
         let name = format!("disassembly check on {}", t.triple());
@@ -125,7 +125,7 @@ pub fn checks() -> Result<(), String> {
             let image = target_dir().join(t.triple()).join("release").join("check");
             let dis = Disassembly::of(&tc, &image)?;
             let mut problems = Vec::new();
-            for k in &kernels {
+            for k in kernels.get(&t).into_iter().flatten() {
                 let g = dis.graph(&format!("lenz_kernel_{k}"))?;
                 println!(
                     "xtask:   {}: calls {} ({} code bytes)",
