@@ -4,4 +4,5 @@
 pub mod cli;
 mod cmd;
 pub mod demo;
+pub mod firmware;
 pub mod si;
