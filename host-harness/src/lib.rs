@@ -7,5 +7,6 @@ mod cmd;
 pub mod controllers;
 pub mod demo;
 pub mod faults;
+pub mod firmware;
 pub mod plant;
 pub mod si;

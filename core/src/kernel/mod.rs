@@ -9,12 +9,17 @@
 //! Coefficient formats are in the field names (`_q31`: signed, 31 fractional bits;
 //! `_q16`: 16 fractional bits).
 
+mod duty;
 mod estimator;
 mod monitor;
 mod offtimer;
 pub mod q;
 mod trip;
 
+pub use duty::{
+    DutyLimiterConfig, DutyLimiterParams, DutyLimiterRaw, DutyLimiterState,
+    TABLE_LEN as DUTY_TABLE_LEN,
+};
 pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorState, OffPath};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
 pub use offtimer::{OffStatus, OffTimerState, PLANNED_POINTS, PlannedOffTimer, TrackingOffTimer};

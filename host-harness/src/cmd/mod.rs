@@ -1,6 +1,8 @@
 //! One module per `lenz` subcommand.
 
+pub mod boost;
 pub mod coil;
+pub mod cost;
 pub mod demo;
 pub mod table;
 pub mod trip;
