@@ -141,10 +141,19 @@ fn faults_that_must_trip() {
 #[test]
 fn faults_that_must_not_trip() {
     let cases = [
-        ("supply sag to 18 V", Fault::SupplySag { supply_v: 18.0 }),
+        (
+            "supply sag to 18 V (step)",
+            Fault::SupplySag {
+                supply_v: 18.0,
+                ramp_s: 0.0,
+            },
+        ),
         (
             "supply surge to 30 V",
-            Fault::SupplySurge { supply_v: 30.0 },
+            Fault::SupplySurge {
+                supply_v: 30.0,
+                ramp_s: 0.0,
+            },
         ),
         (
             "noisy current sensor (4 LSB)",
