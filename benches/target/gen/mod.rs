@@ -7,6 +7,8 @@
 
 mod estimator;
 mod monitor;
+mod offtimer;
+mod trip;
 
 use std::fmt::Write as _;
 use std::path::Path;
@@ -15,6 +17,9 @@ use std::path::Path;
 const GENERATORS: &[(&str, fn() -> String)] = &[
     ("estimator", estimator::generate),
     ("monitor", monitor::generate),
+    ("offtimer", offtimer::generate),
+    ("offtimer_planned", offtimer::generate_planned),
+    ("trip", trip::generate),
 ];
 
 /// Writes every kernel's vectors and `generated.rs` (the list of names) into `out`.

@@ -632,6 +632,12 @@ impl TripConfig {
         self.thermal_step_q32
     }
 
+    /// Thermal input scale `2³²/(k I_B in counts)` (zero: no thermal element).
+    #[must_use]
+    pub const fn x_scale_q32(&self) -> u32 {
+        self.x_scale_q32
+    }
+
     /// Largest relative error of the inverse-time increment over the documented range of
     /// multiples, as measured by [`TripConfig::new`] (0 for a `from_raw` configuration or
     /// without an inverse-time element).
