@@ -5,6 +5,7 @@
 //! configurations, driven by a fixed-seed generator; the expected results are what the host
 //! build of lenz computes for the same calls.
 
+mod duty;
 mod estimator;
 mod monitor;
 mod offtimer;
@@ -16,6 +17,7 @@ use std::path::Path;
 /// Every kernel with vectors: name and generator (returns the Rust source to include).
 const GENERATORS: &[(&str, fn() -> String)] = &[
     ("estimator", estimator::generate),
+    ("duty", duty::generate),
     ("monitor", monitor::generate),
     ("offtimer", offtimer::generate),
     ("offtimer_planned", offtimer::generate_planned),

@@ -106,7 +106,7 @@ fn tracking_cases(rng: &mut Rng) -> (Vec<TrackingCase>, usize) {
         let timer =
             TrackingOffTimer::new(&coil, 20.0, 100e-6, &clamp, thr).expect("demo timer is valid");
         let starts = [750_000, 500_000, 80_000, 0, -5, i32::MAX, 1 << 30];
-        let steps = tracking_steps(rng, supply_mv, &starts, 60);
+        let steps = tracking_steps(rng, supply_mv, &starts, 45);
         cases.push(TrackingCase { timer, steps });
     }
     let demos = cases.len();

@@ -14,6 +14,7 @@ use core::fmt::Debug;
 
 use crate::println;
 
+pub mod duty;
 pub mod estimator;
 pub mod monitor;
 pub mod offtimer;
@@ -24,6 +25,7 @@ pub mod trip;
 pub static KERNELS: &[Kernel] = &[
     estimator::KERNEL,
     monitor::KERNEL,
+    duty::KERNEL,
     offtimer::KERNEL,
     offtimer_planned::KERNEL,
     trip::KERNEL,
