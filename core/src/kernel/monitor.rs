@@ -21,7 +21,7 @@
 //! Measured current: `(counts − offset_counts) · ua_per_count_q16 >> 16`, µA. No division, no
 //! float, saturating. State: 16 bytes per channel.
 
-use super::q::{clamp_i64, q16_from_f32};
+use super::q::{mul_wide, q16_from_f32};
 use crate::error::{Error, in_range, non_negative, positive};
 
 /// A fault found by the plausibility monitor.
@@ -57,6 +57,19 @@ impl Fault {
             4 => Some(Fault::SensorOutOfRange),
             _ => None,
         }
+    }
+}
+
+/// `x` saturated to the `i32` range (the high word must be the sign of the low word).
+#[inline(always)]
+const fn saturate_i32(x: i64) -> i32 {
+    let lo = x as i32;
+    if (x >> 32) as i32 == lo >> 31 {
+        lo
+    } else if x < 0 {
+        i32::MIN
+    } else {
+        i32::MAX
     }
 }
 
@@ -116,12 +129,13 @@ impl SenseScale {
     #[inline]
     #[must_use]
     pub fn to_ua(&self, counts: u16) -> i32 {
-        let d = counts as i64 - self.offset_counts as i64;
-        clamp_i64(
-            (d * self.ua_per_count_q16 as i64) >> 16,
-            i32::MIN as i64,
-            i32::MAX as i64,
-        ) as i32
+        // `counts − offset` fits an i32 unless the offset lies within 2¹⁶ of `i32::MIN`; then
+        // the (rare, raw-configuration) difference is formed in i64 as before.
+        let wide = match (counts as i32).checked_sub(self.offset_counts) {
+            Some(d) => mul_wide(d, self.ua_per_count_q16),
+            None => (counts as i64 - self.offset_counts as i64) * self.ua_per_count_q16 as i64,
+        };
+        saturate_i32(wide >> 16)
     }
 }
 
@@ -235,8 +249,10 @@ impl MonitorConfig {
 
         if counts == s.last_counts {
             s.same_count = s.same_count.saturating_add(1);
-            let moved = (estimate_ua as i64 - s.estimate_at_freeze_ua as i64).abs();
-            if s.same_count >= self.stuck_samples && moved > self.stuck_min_change_ua as i64 {
+            // |estimate − frozen| is exact as a u32; any move exceeds a negative threshold.
+            let change = self.stuck_min_change_ua;
+            let moved = estimate_ua.abs_diff(s.estimate_at_freeze_ua);
+            if s.same_count >= self.stuck_samples && (change < 0 || moved > change as u32) {
                 return Some(Fault::SensorStuck);
             }
         } else {
@@ -245,9 +261,8 @@ impl MonitorConfig {
             s.estimate_at_freeze_ua = estimate_ua;
         }
 
-        let measured = self.scale.to_ua(counts) as i64;
-        let est = estimate_ua as i64;
-        let open = est >= self.open_min_estimate_ua as i64 && measured <= self.open_max_ua as i64;
+        let measured = self.scale.to_ua(counts);
+        let open = estimate_ua >= self.open_min_estimate_ua && measured <= self.open_max_ua;
         s.open_count = if open {
             s.open_count.saturating_add(1)
         } else {
@@ -256,8 +271,16 @@ impl MonitorConfig {
         if s.open_count >= p {
             return Some(Fault::OpenCoil);
         }
-        let band = self.abs_tol_ua as i64 + ((est.abs() * self.rel_tol_q16 as i64) >> 16);
-        let high = measured > est + band;
+        // |estimate|·rel with one 32×32→64 product; |i32::MIN| = 2³¹ is a shift. The sums stay
+        // in i64 (any raw tolerances), where they are exact.
+        let rel = self.rel_tol_q16;
+        let prod = if estimate_ua == i32::MIN {
+            (rel as i64) << 31
+        } else {
+            mul_wide(estimate_ua.abs(), rel)
+        };
+        let band = self.abs_tol_ua as i64 + (prod >> 16);
+        let high = measured as i64 > estimate_ua as i64 + band;
         s.low_r_count = if high {
             s.low_r_count.saturating_add(1)
         } else {
@@ -338,6 +361,107 @@ mod tests {
                 }
                 // Once raised, the same fault stays.
                 prop_assert!(first.is_none() || f == first);
+            }
+        }
+    }
+
+    /// The decisions as first written, with every product and sum in i64 (the reference for
+    /// the narrowed arithmetic of [`MonitorConfig::check`]).
+    fn check_i64(
+        m: &MonitorConfig,
+        s: &mut MonitorState,
+        estimate_ua: i32,
+        counts: u16,
+    ) -> Option<Fault> {
+        if let Some(f) = Fault::from_code(s.fault) {
+            return Some(f);
+        }
+        let p = m.persistence;
+        let raised = 'd: {
+            if counts < m.scale.min_valid_counts || counts > m.scale.max_valid_counts {
+                s.range_count = s.range_count.saturating_add(1);
+                break 'd (s.range_count >= p).then_some(Fault::SensorOutOfRange);
+            }
+            s.range_count = 0;
+            if counts == s.last_counts {
+                s.same_count = s.same_count.saturating_add(1);
+                let moved = (estimate_ua as i64 - s.estimate_at_freeze_ua as i64).abs();
+                if s.same_count >= m.stuck_samples && moved > m.stuck_min_change_ua as i64 {
+                    break 'd Some(Fault::SensorStuck);
+                }
+            } else {
+                s.same_count = 0;
+                s.last_counts = counts;
+                s.estimate_at_freeze_ua = estimate_ua;
+            }
+            let d = counts as i64 - m.scale.offset_counts as i64;
+            let measured = ((d * m.scale.ua_per_count_q16 as i64) >> 16)
+                .clamp(i32::MIN as i64, i32::MAX as i64);
+            let est = estimate_ua as i64;
+            let open = est >= m.open_min_estimate_ua as i64 && measured <= m.open_max_ua as i64;
+            s.open_count = if open {
+                s.open_count.saturating_add(1)
+            } else {
+                0
+            };
+            if s.open_count >= p {
+                break 'd Some(Fault::OpenCoil);
+            }
+            let band = m.abs_tol_ua as i64 + ((est.abs() * m.rel_tol_q16 as i64) >> 16);
+            s.low_r_count = if measured > est + band {
+                s.low_r_count.saturating_add(1)
+            } else {
+                0
+            };
+            if s.low_r_count >= p {
+                break 'd Some(Fault::LowResistance);
+            }
+            None
+        };
+        if let Some(f) = raised {
+            s.fault = f.code();
+        }
+        raised
+    }
+
+    /// An i32 that is often an edge value.
+    fn edgy_i32() -> impl Strategy<Value = i32> {
+        prop_oneof![
+            any::<i32>(),
+            Just(i32::MIN),
+            Just(i32::MAX),
+            Just(i32::MIN + 1),
+            Just(0),
+            Just(-1),
+            -70_000i32..70_000,
+            (i32::MIN..i32::MIN + 70_000),
+        ]
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(2000))]
+        /// Same results and same state as the 64-bit formulation, on any configuration and
+        /// samples (computed: exact integer identity, checked on edges and random values).
+        #[test]
+        fn same_as_the_64_bit_formulation(
+            off in edgy_i32(), scale in edgy_i32(), lo in prop_oneof![any::<u16>(), 0u16..2],
+            hi in any::<u16>(), abs in edgy_i32(), rel in edgy_i32(), omin in edgy_i32(),
+            omax in edgy_i32(), p in 0u16..5, stuck in 0u16..5, change in edgy_i32(),
+            samples in proptest::collection::vec(
+                (prop_oneof![edgy_i32(), 0i32..3], prop_oneof![any::<u16>(), 0u16..4]), 1..60),
+        ) {
+            let m = MonitorConfig {
+                scale: SenseScale { offset_counts: off, ua_per_count_q16: scale, min_valid_counts: lo.min(hi), max_valid_counts: lo.max(hi) },
+                abs_tol_ua: abs, rel_tol_q16: rel, open_min_estimate_ua: omin, open_max_ua: omax,
+                persistence: p, stuck_samples: stuck, stuck_min_change_ua: change,
+            };
+            let (mut a, mut b) = (MonitorState::new(), MonitorState::new());
+            for (est, counts) in samples {
+                prop_assert_eq!(m.check(&mut a, est, counts), check_i64(&m, &mut b, est, counts));
+                prop_assert_eq!(a, b);
+                let d = counts as i64 - off as i64;
+                let want = ((d * scale as i64) >> 16).clamp(i32::MIN as i64, i32::MAX as i64);
+                prop_assert_eq!(m.scale.to_ua(counts) as i64, want);
             }
         }
     }
