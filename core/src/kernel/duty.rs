@@ -443,16 +443,20 @@ impl DutyLimiterConfig {
             return 0;
         }
         let off = u32::from(vin_counts - self.r.vin_lo_counts);
+        // Written out rather than a loop over the three tables: the loop over an array of
+        // references was left as an iterator call on the thumb targets.
         let mut lim = i64::from(self.r.min_off_q8);
-        for t in [
-            &self.r.saturation_q8,
-            &self.r.gain_peak_q8,
-            &self.r.light_load_q8,
-        ] {
-            let v = self.interp(t, off);
-            if v < lim {
-                lim = v;
-            }
+        let sat = self.interp(&self.r.saturation_q8, off);
+        if sat < lim {
+            lim = sat;
+        }
+        let peak = self.interp(&self.r.gain_peak_q8, off);
+        if peak < lim {
+            lim = peak;
+        }
+        let light = self.interp(&self.r.light_load_q8, off);
+        if light < lim {
+            lim = light;
         }
         let fs_q8 = i64::from(self.r.full_scale) << 8;
         clamp_i64(lim, 0, fs_q8) as i32
