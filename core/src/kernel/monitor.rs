@@ -273,16 +273,23 @@ impl MonitorConfig {
         if s.open_count >= p {
             return Some(Fault::OpenCoil);
         }
-        // |estimate|·rel with one 32×32→64 product; |i32::MIN| = 2³¹ is a shift. The sums stay
-        // in i64 (any raw tolerances), where they are exact.
+        // |estimate|·rel with one 32×32→64 product; |i32::MIN| = 2³¹ is a shift.
         let rel = self.rel_tol_q16;
         let prod = if estimate_ua == i32::MIN {
             (rel as i64) << 31
         } else {
             mul_wide(estimate_ua.abs(), rel)
         };
-        let band = self.abs_tol_ua as i64 + (prod >> 16);
-        let high = measured as i64 > estimate_ua as i64 + band;
+        // measured > est + abs + ⌊prod/2¹⁶⌋ ⇔ ⌊prod/2¹⁶⌋ < L with L = measured − est − abs
+        // ⇔ prod < L·2¹⁶ (L an integer): no shift of the product, and L is an i32 unless the
+        // raw tolerances are extreme.
+        let high = match measured
+            .checked_sub(estimate_ua)
+            .and_then(|x| x.checked_sub(self.abs_tol_ua))
+        {
+            Some(l) => prod < (l as i64) << 16,
+            None => measured as i64 > estimate_ua as i64 + self.abs_tol_ua as i64 + (prod >> 16),
+        };
         s.low_r_count = if high {
             s.low_r_count.saturating_add(1)
         } else {
