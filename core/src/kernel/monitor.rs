@@ -231,7 +231,10 @@ impl MonitorConfig {
     ///
     /// `None` while plausible; the first fault raised, from then on until reset.
     pub fn check(&self, s: &mut MonitorState, estimate_ua: i32, counts: u16) -> Option<Fault> {
-        if let Some(f) = Fault::from_code(s.fault) {
+        // Test the byte first: the common case (no fault) is then one compare.
+        if s.fault != 0
+            && let Some(f) = Fault::from_code(s.fault)
+        {
             return Some(f);
         }
         let raised = self.decide(s, estimate_ua, counts);
@@ -273,13 +276,10 @@ impl MonitorConfig {
         if s.open_count >= p {
             return Some(Fault::OpenCoil);
         }
-        // |estimate|·rel with one 32×32→64 product; |i32::MIN| = 2³¹ is a shift.
-        let rel = self.rel_tol_q16;
-        let prod = if estimate_ua == i32::MIN {
-            (rel as i64) << 31
-        } else {
-            mul_wide(estimate_ua.abs(), rel)
-        };
+        // |estimate|·rel as ±(estimate·rel): one 32×32→64 product, exact for every i32
+        // (|i32::MIN·rel| ≤ 2⁶², so the negation cannot overflow).
+        let signed = mul_wide(estimate_ua, self.rel_tol_q16);
+        let prod = if estimate_ua < 0 { -signed } else { signed };
         // measured > est + abs + ⌊prod/2¹⁶⌋ ⇔ ⌊prod/2¹⁶⌋ < L with L = measured − est − abs
         // ⇔ prod < L·2¹⁶ (L an integer): no shift of the product, and L is an i32 unless the
         // raw tolerances are extreme.
