@@ -20,6 +20,13 @@
 //!
 //! Measured current: `(counts − offset_counts) · ua_per_count_q16 >> 16`, µA. No division, no
 //! float, saturating. State: 16 bytes per channel.
+//!
+//! Arithmetic: the two products are 32×32→64 ([`super::q::mul_wide`], four 32-bit multiplies
+//! on Cortex-M0 instead of the 64-bit library multiply) and the compares are in `i32` wherever
+//! that is exact; only raw configurations at the ends of the `i32` range take a 64-bit path.
+//! The results equal those of the all-`i64` formulation for every input (unit test
+//! `same_as_the_64_bit_formulation`). Measured under emulation (`lenz cost`): about 166
+//! instructions per sample on Cortex-M0, 76 on Cortex-M3, 77 on Cortex-M4F.
 
 use super::q::{mul_wide, q16_from_f32};
 use crate::error::{Error, in_range, non_negative, positive};
