@@ -70,7 +70,7 @@ fn plans() -> Vec<Plan> {
     ]
 }
 
-fn config_expr(c: &EstimatorConfig) -> String {
+pub fn config_expr(c: &EstimatorConfig) -> String {
     let off = c.off_path();
     format!(
         "EstimatorConfig::from_raw({}, {}, {}, OffPath {{ step_q31: {}, conductance_q16: {}, clamp_mv: {}, supply_coupled: {} }})",

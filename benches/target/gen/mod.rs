@@ -5,8 +5,11 @@
 //! configurations, driven by a fixed-seed generator; the expected results are what the host
 //! build of lenz computes for the same calls.
 
+mod duty;
 mod estimator;
 mod monitor;
+mod offtimer;
+mod trip;
 
 use std::fmt::Write as _;
 use std::path::Path;
@@ -14,7 +17,11 @@ use std::path::Path;
 /// Every kernel with vectors: name and generator (returns the Rust source to include).
 const GENERATORS: &[(&str, fn() -> String)] = &[
     ("estimator", estimator::generate),
+    ("duty", duty::generate),
     ("monitor", monitor::generate),
+    ("offtimer", offtimer::generate),
+    ("offtimer_planned", offtimer::generate_planned),
+    ("trip", trip::generate),
 ];
 
 /// Writes every kernel's vectors and `generated.rs` (the list of names) into `out`.

@@ -47,7 +47,7 @@
 //! Three interpolations (three 32×32→64 multiplies), compares, shifts. State: 8 bytes per
 //! channel (last duty in Q8, overvoltage latch).
 
-use super::q::clamp_i64;
+use super::q::{clamp_i64, mul_wide};
 use crate::boost::{BoostStage, LightLoad, OperatingPoint};
 use crate::bounds::Range;
 use crate::error::{Error, in_range, positive};
@@ -424,7 +424,16 @@ impl DutyLimiterConfig {
             Some(b) => i64::from(*b),
             None => a,
         };
-        a + (((b - a) * frac) >> shift)
+        // frac < 2¹⁶: |(b − a)·frac| < 2⁴⁹. The difference fits an i32 for any table a plan
+        // builds (duties in Q8), so the product is one `mul_wide` (no 64-bit library multiply
+        // on Cortex-M0); raw tables at the extremes take the i64 product.
+        let d = b - a;
+        let prod = if d >= i32::MIN as i64 && d <= i32::MAX as i64 {
+            mul_wide(d as i32, frac as i32)
+        } else {
+            d * frac
+        };
+        a + (prod >> shift)
     }
 
     /// The duty limit at input reading `vin_counts`, duty counts Q8 (0 outside the window).
@@ -434,16 +443,20 @@ impl DutyLimiterConfig {
             return 0;
         }
         let off = u32::from(vin_counts - self.r.vin_lo_counts);
+        // Written out rather than a loop over the three tables: the loop over an array of
+        // references was left as an iterator call on the thumb targets.
         let mut lim = i64::from(self.r.min_off_q8);
-        for t in [
-            &self.r.saturation_q8,
-            &self.r.gain_peak_q8,
-            &self.r.light_load_q8,
-        ] {
-            let v = self.interp(t, off);
-            if v < lim {
-                lim = v;
-            }
+        let sat = self.interp(&self.r.saturation_q8, off);
+        if sat < lim {
+            lim = sat;
+        }
+        let peak = self.interp(&self.r.gain_peak_q8, off);
+        if peak < lim {
+            lim = peak;
+        }
+        let light = self.interp(&self.r.light_load_q8, off);
+        if light < lim {
+            lim = light;
         }
         let fs_q8 = i64::from(self.r.full_scale) << 8;
         clamp_i64(lim, 0, fs_q8) as i32
@@ -704,6 +717,37 @@ mod tests {
             let want = f64::from(l.duty_max) * f64::from(FS);
             let got = f64::from(c.limit_counts(vin));
             assert!(got <= want && got >= want - 1.0, "{v} V: {got} vs {want}");
+        }
+    }
+
+    proptest! {
+        /// The interpolation through `mul_wide` equals the i64 product on any table values
+        /// and offsets (computed: exact integer identity).
+        #[test]
+        fn interpolation_same_as_i64(a in any::<i32>(), b in any::<i32>(), off in any::<u32>(),
+                                     shift in 0u8..20) {
+            let mut raw = DutyLimiterConfig::from_raw(DutyLimiterRaw {
+                vin_lo_counts: 0, vin_hi_counts: u16::MAX, shift,
+                saturation_q8: [a; TABLE_LEN], gain_peak_q8: [0; TABLE_LEN],
+                light_load_q8: [0; TABLE_LEN], min_off_q8: 0, min_on_counts: 0,
+                full_scale: 1, slew_q8: 0, vout_lo_counts: 0, vout_hi_counts: 0,
+                ov_trip_counts: 0, ov_resume_counts: 0,
+            }).r;
+            raw.saturation_q8[1] = b;
+            let cfg = DutyLimiterConfig::from_raw(raw);
+            let sh = u32::from(shift.min(16));
+            let off = off & ((2u32 << sh) - 1);
+            let t = &cfg.r.saturation_q8;
+            let idx = (off >> sh) as usize;
+            let frac = i64::from(off & ((1u32 << sh) - 1));
+            let want = match t.get(idx) {
+                None => 0,
+                Some(&x) => {
+                    let y = i64::from(*t.get(idx + 1).unwrap_or(&x));
+                    i64::from(x) + (((y - i64::from(x)) * frac) >> sh)
+                }
+            };
+            prop_assert_eq!(cfg.interp(t, off), want);
         }
     }
 

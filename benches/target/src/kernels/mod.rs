@@ -14,11 +14,22 @@ use core::fmt::Debug;
 
 use crate::println;
 
+pub mod duty;
 pub mod estimator;
 pub mod monitor;
+pub mod offtimer;
+pub mod offtimer_planned;
+pub mod trip;
 
 /// Every kernel the target images check and measure.
-pub static KERNELS: &[Kernel] = &[estimator::KERNEL, monitor::KERNEL];
+pub static KERNELS: &[Kernel] = &[
+    estimator::KERNEL,
+    monitor::KERNEL,
+    duty::KERNEL,
+    offtimer::KERNEL,
+    offtimer_planned::KERNEL,
+    trip::KERNEL,
+];
 
 /// One kernel in the target images.
 pub struct Kernel {

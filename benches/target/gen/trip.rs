@@ -1,0 +1,336 @@
+//! Vectors of the trip detector: demo protection settings (invented values) through the plan
+//! constructor, driven through blanking, N-of-M persistence, inverse time with both resets,
+//! thermal, stuck sensor, retries and the latch; plus raw edge configurations (any registers
+//! and any table) with any readings.
+
+use std::fmt::Write as _;
+
+use lenz::kernel::{InverseTable, TripConfig, TripParams, TripState, Verdict};
+use lenz::trip::{Curve, InverseTime, Thermal};
+
+use super::Rng;
+
+/// The arguments of [`TripConfig::from_raw`], so a configuration can be emitted as a constant.
+#[derive(Clone, Copy)]
+struct Raw {
+    instantaneous_counts: u16,
+    full_scale_counts: u16,
+    blank_samples: u16,
+    persistence_n: u8,
+    persistence_m: u8,
+    stuck_samples: u16,
+    retries: u8,
+    retry_samples: u16,
+    inverse: InverseTable,
+    x_scale_q32: u32,
+    thermal_step_q32: u32,
+}
+
+impl Raw {
+    fn of(p: &TripParams, c: &TripConfig) -> Self {
+        Self {
+            instantaneous_counts: p.instantaneous_counts,
+            full_scale_counts: p.full_scale_counts,
+            blank_samples: c.blank_samples(),
+            persistence_n: p.persistence_n,
+            persistence_m: p.persistence_m,
+            stuck_samples: p.stuck_samples,
+            retries: p.retries,
+            retry_samples: c.retry_samples(),
+            inverse: *c.inverse_table(),
+            x_scale_q32: c.x_scale_q32(),
+            thermal_step_q32: c.thermal_step_q32(),
+        }
+    }
+
+    fn config(&self) -> TripConfig {
+        TripConfig::from_raw(
+            self.instantaneous_counts,
+            self.full_scale_counts,
+            self.blank_samples,
+            self.persistence_n,
+            self.persistence_m,
+            self.stuck_samples,
+            self.retries,
+            self.retry_samples,
+            self.inverse,
+            self.x_scale_q32,
+            self.thermal_step_q32,
+        )
+    }
+
+    fn expr(&self) -> String {
+        let t = &self.inverse;
+        let mut table = String::new();
+        for r in &t.rate_q32 {
+            let _ = write!(table, "{r}, ");
+        }
+        format!(
+            "TripConfig::from_raw({}, {}, {}, {}, {}, {}, {}, {}, InverseTable {{ m_scale_q32: {}, rate_q32: [{table}], reset_q32: {}, instant_reset: {} }}, {}, {})",
+            self.instantaneous_counts,
+            self.full_scale_counts,
+            self.blank_samples,
+            self.persistence_n,
+            self.persistence_m,
+            self.stuck_samples,
+            self.retries,
+            self.retry_samples,
+            t.m_scale_q32,
+            t.reset_q32,
+            t.instant_reset,
+            self.x_scale_q32,
+            self.thermal_step_q32
+        )
+    }
+}
+
+/// Demo protection settings (invented values): 1 kHz samples, 4 mA per count, 12-bit ADC.
+fn base() -> TripParams {
+    TripParams {
+        sample_period_s: 1e-3,
+        amps_per_count: 4e-3,
+        instantaneous_counts: 3000,
+        full_scale_counts: 4095,
+        blanking_s: 3e-3,
+        persistence_n: 2,
+        persistence_m: 3,
+        stuck_samples: 40,
+        inverse: None,
+        thermal: None,
+        retries: 2,
+        retry_delay_s: 20e-3,
+    }
+}
+
+fn demo_params() -> Vec<TripParams> {
+    let el = |c, pickup_a, tms| InverseTime::new(c, pickup_a, tms).expect("demo curve is valid");
+    let th = |tau, k, ib| Thermal::new(tau, k, ib).expect("demo thermal element is valid");
+    vec![
+        // Everything on: IEEE very inverse (reset runs back), thermal, stuck sensor.
+        TripParams {
+            inverse: Some(el(Curve::IeeeVeryInverse, 2.0, 0.05)),
+            thermal: Some(th(0.5, 1.05, 2.5)),
+            ..base()
+        },
+        // IEC very inverse (resets at once), no thermal, no stuck detection, one retry.
+        TripParams {
+            inverse: Some(el(Curve::IecVeryInverse, 2.5, 0.05)),
+            stuck_samples: 0,
+            retries: 1,
+            ..base()
+        },
+        // Thermal only, short time constant, fast retries.
+        TripParams {
+            thermal: Some(th(0.05, 1.0, 2.0)),
+            persistence_n: 1,
+            persistence_m: 1,
+            blanking_s: 0.0,
+            retry_delay_s: 5e-3,
+            ..base()
+        },
+        // IEC extremely inverse, persistence 5 of 32, long blanking, no retries.
+        TripParams {
+            inverse: Some(el(Curve::IecExtremelyInverse, 1.5, 0.1)),
+            persistence_n: 5,
+            persistence_m: 32,
+            blanking_s: 10e-3,
+            retries: 0,
+            ..base()
+        },
+    ]
+}
+
+/// Readings of a coil: switched in bursts, levels below pickup, between pickup and the
+/// instantaneous threshold, above it and at full scale, with a few counts of noise, and a
+/// leading stretch (see below).
+fn demo_inputs(rng: &mut Rng, lead: (u16, usize, bool), n: usize) -> Vec<(u16, bool)> {
+    let mut v = Vec::with_capacity(n);
+    // A leading stretch at one level with the switch on: with noise (to reach a slow element
+    // first) or frozen (stuck sensor).
+    let (lead_counts, lead_len, frozen) = lead;
+    for _ in 0..lead_len {
+        let noise = if frozen { 0 } else { rng.range(-3, 3) };
+        v.push(((i32::from(lead_counts) + noise) as u16, true));
+    }
+    let mut level = 0i32;
+    let mut on = true;
+    let mut next = 0;
+    for k in 0..n {
+        if k == next {
+            level = [0, 300, 700, 900, 1500, 2500, 3200, 4095][rng.range(0, 7) as usize];
+            on = rng.range(0, 9) != 0;
+            next = k + rng.range(20, 300) as usize;
+        }
+        let noise = rng.range(-3, 3);
+        let r = if on {
+            (level + noise).clamp(0, 4095)
+        } else {
+            0
+        };
+        v.push((r as u16, on));
+    }
+    v
+}
+
+fn verdict_expr(v: Verdict) -> String {
+    match v {
+        Verdict::Trip(e) => format!(
+            "Verdict::Trip(TripEvent {{ tick: {}, reading_counts: {}, retry: {}, cause: Cause::{:?} }})",
+            e.tick, e.reading_counts, e.retry, e.cause
+        ),
+        other => format!("Verdict::{other:?}"),
+    }
+}
+
+/// Bench inputs: a healthy, noisy coil current around the inverse-time pickup (below it the
+/// IEEE reset runs back, above it the accumulator rises) and below the thermal level, so
+/// every element is evaluated on every sample and nothing trips.
+fn bench_inputs(rng: &mut Rng) -> Vec<(u16, bool)> {
+    (0..256)
+        .map(|k| {
+            let base = if (k / 32) % 2 == 0 { 470 } else { 530 };
+            ((base + rng.range(-6, 6)) as u16, true)
+        })
+        .collect()
+}
+
+pub fn generate() -> String {
+    let mut rng = Rng::new(0x6c65_6e7a_0005);
+    let mut cases: Vec<(Raw, Vec<(u16, bool)>)> = Vec::new();
+    let demos = demo_params();
+    // Per demo: the leading stretch (stuck sensor, inverse time, thermal, inverse time).
+    let leads = [
+        (1234, 80, true),
+        (2500, 260, false),
+        (1500, 200, false),
+        (1200, 300, false),
+    ];
+    for (p, lead) in demos.iter().zip(leads) {
+        let cfg = TripConfig::new(p).expect("demo trip settings are valid");
+        let raw = Raw::of(p, &cfg);
+        let inputs = demo_inputs(&mut rng, lead, 800);
+        // The emitted constant must behave exactly as the plan's configuration.
+        let (mut a, mut b) = (TripState::new(), TripState::new());
+        for &(r, on) in &inputs {
+            assert_eq!(
+                cfg.sample(&mut a, r, on),
+                raw.config().sample(&mut b, r, on)
+            );
+        }
+        cases.push((raw, inputs));
+    }
+    // Raw edge configurations: any registers, any table, any readings.
+    for _ in 0..8 {
+        let mut table = InverseTable::DISABLED;
+        table.m_scale_q32 = rng.any_i32() as u32;
+        for r in table.rate_q32.iter_mut() {
+            *r = rng.any_i32() as u32;
+        }
+        table.reset_q32 = rng.any_i32() as u32;
+        table.instant_reset = rng.bool();
+        let raw = Raw {
+            instantaneous_counts: rng.range(0, 65535) as u16,
+            full_scale_counts: rng.range(0, 65535) as u16,
+            blank_samples: rng.range(0, 20) as u16,
+            persistence_n: rng.range(0, 40) as u8,
+            persistence_m: rng.range(0, 40) as u8,
+            stuck_samples: rng.range(0, 6) as u16,
+            retries: rng.range(0, 4) as u8,
+            retry_samples: rng.range(0, 10) as u16,
+            inverse: table,
+            x_scale_q32: rng.any_i32() as u32,
+            thermal_step_q32: rng.any_i32() as u32,
+        };
+        let inputs = (0..150)
+            .map(|_| {
+                let r = if rng.bool() {
+                    rng.range(0, 3) as u16
+                } else {
+                    rng.range(0, 65535) as u16
+                };
+                (r, rng.range(0, 5) != 0)
+            })
+            .collect();
+        cases.push((raw, inputs));
+    }
+
+    let mut src = String::from("// Generated by gen/trip.rs with the host build of lenz.\n\n");
+    src.push_str("/// Generated sequences.\npub static CASES: &[Case] = &[\n");
+    let mut seen = std::collections::BTreeSet::new();
+    for (raw, inputs) in &cases {
+        let cfg = raw.config();
+        let mut s = TripState::new();
+        let _ = write!(src, "    Case {{ config: {}, steps: &[", raw.expr());
+        for &(r, on) in inputs {
+            let v = cfg.sample(&mut s, r, on);
+            let e = verdict_expr(v);
+            seen.insert(match v {
+                Verdict::Trip(ev) => format!("{:?}", ev.cause),
+                other => format!("{other:?}"),
+            });
+            let _ = write!(src, "({r}, {on}, {e}), ");
+        }
+        src.push_str("] },\n");
+    }
+    src.push_str("];\n\n");
+    // The vectors must reach every verdict and every cause.
+    for want in [
+        "Allow",
+        "Waiting",
+        "Latched",
+        "Instantaneous",
+        "InverseTime",
+        "Thermal",
+        "SensorFault",
+    ] {
+        assert!(seen.contains(want), "trip vectors never give {want}");
+    }
+
+    // The cost run: the first demo setting, every element evaluated, no trip.
+    let bench_p = &demos[0];
+    let bench = Raw::of(bench_p, &TripConfig::new(bench_p).expect("valid"));
+    let inputs = bench_inputs(&mut rng);
+    let cfg = bench.config();
+    let mut s = TripState::new();
+    for k in 0..4096 {
+        let (r, on) = inputs[k % inputs.len()];
+        assert_eq!(
+            cfg.sample(&mut s, r, on),
+            Verdict::Allow,
+            "bench input trips"
+        );
+    }
+    let _ = writeln!(
+        src,
+        "/// Configuration of the cost run (the first demo setting, every element on).\npub static BENCH_CONFIG: TripConfig = {};\n",
+        bench.expr()
+    );
+    src.push_str("/// Inputs of the cost run.\npub static BENCH_INPUTS: &[(u16, bool)] = &[");
+    for (r, on) in &inputs {
+        let _ = write!(src, "({r}, {on}), ");
+    }
+    src.push_str("];\n\n");
+    let el = bench_p.inverse.expect("bench has an inverse element");
+    let th = bench_p.thermal.expect("bench has a thermal element");
+    let c = el.curve().constants();
+    let _ = writeln!(
+        src,
+        "/// The straightforward version's parameters.\npub const NAIVE: Naive = Naive {{ sample_period_s: {:?}, amps_per_count: {:?}, instantaneous_counts: {}, full_scale_counts: {}, blank_samples: {}, persistence_n: {}, persistence_m: {}, pickup_a: {:?}, multiplier: {:?}, k_s: {:?}, alpha: {:?}, c_s: {:?}, reset_s: {:?}, time_constant_s: {:?}, trip_level_a: {:?} }};",
+        bench_p.sample_period_s,
+        bench_p.amps_per_count,
+        bench_p.instantaneous_counts,
+        bench_p.full_scale_counts,
+        bench.blank_samples,
+        bench_p.persistence_n,
+        bench_p.persistence_m,
+        el.pickup_a(),
+        el.multiplier(),
+        c.k_s,
+        c.alpha,
+        c.c_s,
+        c.reset_s.unwrap_or(0.0),
+        th.time_constant_s(),
+        th.trip_level_a()
+    );
+    src
+}
