@@ -5,4 +5,5 @@ pub mod cli;
 mod cmd;
 pub mod demo;
 pub mod plant;
+pub mod scenario;
 pub mod si;

@@ -1,0 +1,278 @@
+//! Scenario files: one TOML file describes a drive system, the controller under test, the
+//! tolerances of a sweep and a list of scenarios with the properties that must hold.
+//!
+//! # Layout of a file
+//!
+//! ```toml
+//! [system]                       # the drive system
+//! name = "irrigation valve"
+//! tick = "100us"                 # control tick
+//! pwm_frequency = "20kHz"
+//! [system.supply]                # min, nominal, max, source_resistance
+//! [system.temperature]           # min, nominal, max (°C)
+//! [system.coil]                  # or [system.boost]
+//! [system.clamp.freewheel]       # one clamp kind: freewheel, diode-zener, across-switch,
+//!                                # resistor-diode, unclamped
+//! [system.switch]                # on_resistance, breakdown
+//! [system.sense]                 # shunt, gain, adc_bits, adc_reference, gain_error, offset,
+//!                                # noise, voltage_divider
+//! [system.ratings]               # switch_voltage, switch_current, switch_energy, clamp_energy
+//! [system.requirements]          # release_time, pull_in_time, output_ripple, saturation_margin
+//! [controller.coil]              # or [controller.boost]: the example controller's parameters
+//! [tolerances]                   # inductance = { dist = "normal", rel = 0.03 }, ...
+//! [[scenario]]                   # name, duration, supply, temperature, noise_seed
+//! [[scenario.event]]             # at = "10ms", then one of command / fault / supply / load
+//! [[scenario.check]]             # property = "peak-switch-voltage", max = "60V"
+//! ```
+//!
+//! Values take SI prefixes and an optional unit symbol as strings (`"120mH"`, `"4.7u"`), or
+//! plain TOML numbers in the base unit. The shipped files in `host-harness/scenarios/` are
+//! commented examples of every table.
+//!
+//! # Errors
+//!
+//! Every problem is reported as `FILE:LINE:COLUMN: key `PATH`: PROBLEM`, where `PATH` is the
+//! dotted key of the value (`system.coil.inductance`, `scenario[1].event[0].at`) and the
+//! position is the value's own (or its table's, for checks across a table's values). Unknown
+//! keys, missing keys, values that are not numbers in the right unit and values out of range
+//! are all errors; nothing is silently ignored or clamped.
+
+pub mod quantity;
+pub mod schema;
+
+use std::fmt;
+use std::path::Path;
+
+pub use schema::{
+    Action, BoostController, BoostStage, Check, ClampSpec, Coil, CoilController, Command,
+    Controller, Dist, Event, Fault, File, Property, Scenario, System,
+};
+
+/// A problem in a scenario file, with its position.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ScenarioError {
+    /// File name as given.
+    pub file: String,
+    /// Line, from 1 (0: no position, e.g. the file could not be read).
+    pub line: usize,
+    /// Column, from 1.
+    pub column: usize,
+    /// Dotted key path of the value (empty: the whole file).
+    pub key: String,
+    /// What is wrong.
+    pub problem: String,
+}
+
+impl fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.line == 0 {
+            write!(f, "{}: ", self.file)?;
+        } else {
+            write!(f, "{}:{}:{}: ", self.file, self.line, self.column)?;
+        }
+        if !self.key.is_empty() {
+            write!(f, "key `{}`: ", self.key)?;
+        }
+        f.write_str(&self.problem)
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+/// Line and column (both from 1) of byte `offset` in `text`.
+fn line_col(text: &str, offset: usize) -> (usize, usize) {
+    let offset = offset.min(text.len());
+    let head = text.get(..offset).unwrap_or(text);
+    let line = head.matches('\n').count() + 1;
+    let col = head.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
+    (line, col)
+}
+
+/// Reads and checks a scenario file.
+///
+/// # Errors
+///
+/// The file cannot be read, or it has a problem (see the module docs).
+pub fn load(path: &Path) -> Result<File, ScenarioError> {
+    let name = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| ScenarioError {
+        file: name.clone(),
+        line: 0,
+        column: 0,
+        key: String::new(),
+        problem: format!("cannot read the file: {e}"),
+    })?;
+    parse(&name, &text)
+}
+
+/// Parses and checks the text of a scenario file; `file` names it in errors.
+///
+/// # Errors
+///
+/// See the module docs.
+pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
+    let at = |offset: usize, key: String, problem: String| {
+        let (line, column) = line_col(text, offset);
+        ScenarioError {
+            file: file.to_string(),
+            line,
+            column,
+            key,
+            problem,
+        }
+    };
+    let de = toml::Deserializer::parse(text).map_err(|e| {
+        let start = e.span().map_or(0, |s| s.start);
+        at(start, String::new(), e.message().trim().to_string())
+    })?;
+    let parsed: File = serde_path_to_error::deserialize(de).map_err(|e| {
+        let key = e.path().to_string();
+        let key = if key == "." { String::new() } else { key };
+        let inner = e.inner();
+        let start = inner.span().map_or(0, |s| s.start);
+        at(start, key, inner.message().trim().to_string())
+    })?;
+    check_consistency(&parsed).map_err(|(key, needle, problem)| {
+        let offset = needle
+            .and_then(|n| text.find(n.as_str()))
+            .unwrap_or(0);
+        at(offset, key, problem)
+    })?;
+    Ok(parsed)
+}
+
+type Inconsistency = (String, Option<String>, String);
+
+/// Checks across tables: controller and system kinds, scenario names, event times, checks
+/// that apply to the kind of system.
+fn check_consistency(f: &File) -> Result<(), Inconsistency> {
+    let is_boost = f.system.boost.is_some();
+    match (&f.controller, is_boost) {
+        (Controller::Coil(_), true) => {
+            return Err((
+                "controller.coil".into(),
+                Some("[controller".into()),
+                "a coil controller cannot drive a boost stage: use [controller.boost]".into(),
+            ));
+        }
+        (Controller::Boost(_), false) => {
+            return Err((
+                "controller.boost".into(),
+                Some("[controller".into()),
+                "a boost controller needs [system.boost]: use [controller.coil]".into(),
+            ));
+        }
+        _ => {}
+    }
+    if f.scenarios.is_empty() {
+        return Err((
+            "scenario".into(),
+            None,
+            "missing key `scenario`: the file needs at least one [[scenario]]".into(),
+        ));
+    }
+    for (k, s) in f.scenarios.iter().enumerate() {
+        let needle = Some(format!("\"{}\"", s.name));
+        if s.name.trim().is_empty() {
+            return Err((format!("scenario[{k}].name"), None, "is empty".into()));
+        }
+        if f.scenarios[..k].iter().any(|o| o.name == s.name) {
+            return Err((
+                format!("scenario[{k}].name"),
+                needle,
+                format!("scenario name '{}' is used twice", s.name),
+            ));
+        }
+        if s.duration.get() > 60.0 {
+            return Err((
+                format!("scenario[{k}].duration"),
+                needle,
+                "longer than 60 s of simulated time".into(),
+            ));
+        }
+        if s.duration.get() / f.system.tick.get() > 2e6 {
+            return Err((
+                format!("scenario[{k}].duration"),
+                needle,
+                "more than 2 000 000 control ticks".into(),
+            ));
+        }
+        if let Some(v) = s.supply {
+            let sup = &f.system.supply;
+            if v.get() < sup.min.get() * 0.5 || v.get() > sup.max.get() * 2.0 {
+                return Err((
+                    format!("scenario[{k}].supply"),
+                    needle,
+                    format!("{} V is far outside the system's supply range", v.get()),
+                ));
+            }
+        }
+        for (j, e) in s.events.iter().enumerate() {
+            let key = format!("scenario[{k}].event[{j}]");
+            if e.at.get() > s.duration.get() {
+                return Err((
+                    format!("{key}.at"),
+                    needle,
+                    format!(
+                        "{} s is after the end of the scenario ({} s)",
+                        e.at.get(),
+                        s.duration.get()
+                    ),
+                ));
+            }
+            let bad = match e.action {
+                Action::Load(_) if !is_boost => Some("a load step applies to a boost stage"),
+                Action::Fault {
+                    fault: Fault::ShortedCoil | Fault::ShortedTurns | Fault::OpenCoil,
+                    ..
+                } if is_boost => Some("coil faults apply to a coil drive"),
+                _ => None,
+            };
+            if let Some(b) = bad {
+                return Err((key, needle, b.into()));
+            }
+        }
+        for (j, c) in s.checks.iter().enumerate() {
+            let key = format!("scenario[{k}].check[{j}].property");
+            let bad = match c.property {
+                Property::OutputBand if !is_boost => Some("output-band applies to a boost stage"),
+                Property::ReleaseTime | Property::ClampEnergy if is_boost => {
+                    Some("applies to a coil drive")
+                }
+                _ => None,
+            };
+            if let Some(b) = bad {
+                return Err((key, needle, b.into()));
+            }
+            if c.after > s.duration.get() {
+                return Err((
+                    format!("scenario[{k}].check[{j}].after"),
+                    needle,
+                    "is after the end of the scenario".into(),
+                ));
+            }
+        }
+        if s.checks.is_empty() {
+            return Err((
+                format!("scenario[{k}].check"),
+                needle,
+                "missing key `check`: a scenario needs at least one [[scenario.check]]".into(),
+            ));
+        }
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::line_col;
+
+    #[test]
+    fn positions() {
+        let t = "a = 1\nbb = 2\n  c = 3";
+        assert_eq!(line_col(t, 0), (1, 1));
+        assert_eq!(line_col(t, 6), (2, 1));
+        assert_eq!(line_col(t, 11), (2, 6));
+        assert_eq!(line_col(t, 16), (3, 3));
+    }
+}

@@ -1,0 +1,823 @@
+//! The types a scenario file deserializes into (see the module docs of [`super`] for the
+//! layout of a file and the shipped examples in `host-harness/scenarios/`).
+//!
+//! Every table rejects unknown keys. Checks that involve one value sit in the value's type
+//! (unit, sign); checks across values of one table (min ≤ nominal ≤ max, exactly one action per
+//! event) sit in a `TryFrom` of that table, so their error points at the table.
+
+use serde::{Deserialize, Serialize};
+
+use super::quantity::{Ampere, Celsius, Farad, Henry, Joule, NonNeg, Ohm, Plain, Pos, Q, Second, Volt};
+
+/// A whole scenario file.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct File {
+    /// The drive system.
+    pub system: System,
+    /// The firmware controller under test and its parameters.
+    pub controller: Controller,
+    /// Spreads for `lenz sweep`; parameters not listed stay at their nominal value.
+    #[serde(default)]
+    pub tolerances: Tolerances,
+    /// The scenarios (`[[scenario]]` tables).
+    #[serde(rename = "scenario", default)]
+    pub scenarios: Vec<Scenario>,
+}
+
+/// The drive system.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawSystem")]
+pub struct System {
+    /// Display name.
+    pub name: String,
+    /// Control tick, s.
+    pub tick: Pos<Second>,
+    /// PWM (switching) frequency, Hz.
+    pub pwm_frequency: Pos<super::quantity::Hertz>,
+    /// Supply range.
+    pub supply: Supply,
+    /// Coil (winding) temperature range, °C.
+    pub temperature: Temperature,
+    /// The switched coil (valve, relay); absent for a boost stage.
+    pub coil: Option<Coil>,
+    /// The clamp network of the coil.
+    pub clamp: Option<ClampSpec>,
+    /// The boost stage; absent for a coil drive.
+    pub boost: Option<BoostStage>,
+    /// The switch.
+    pub switch: Switch,
+    /// The current sense chain and ADC.
+    pub sense: Sense,
+    /// Ratings of the parts, for the verdicts.
+    #[serde(default)]
+    pub ratings: Ratings,
+    /// Requirements of the application.
+    #[serde(default)]
+    pub requirements: Requirements,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSystem {
+    name: String,
+    tick: Pos<Second>,
+    pwm_frequency: Pos<super::quantity::Hertz>,
+    supply: Supply,
+    temperature: Temperature,
+    coil: Option<Coil>,
+    clamp: Option<ClampSpec>,
+    boost: Option<BoostStage>,
+    switch: Switch,
+    sense: Sense,
+    #[serde(default)]
+    ratings: Ratings,
+    #[serde(default)]
+    requirements: Requirements,
+}
+
+impl TryFrom<RawSystem> for System {
+    type Error = String;
+    fn try_from(r: RawSystem) -> Result<Self, String> {
+        match (&r.coil, &r.boost) {
+            (Some(_), Some(_)) => {
+                return Err("give either [system.coil] or [system.boost], not both".into());
+            }
+            (None, None) => {
+                return Err("missing key `coil` or `boost`: the system needs one".into());
+            }
+            (Some(_), None) if r.clamp.is_none() => {
+                return Err("missing key `clamp`: a coil drive needs [system.clamp.KIND]".into());
+            }
+            (None, Some(_)) if r.clamp.is_some() => {
+                return Err("key `clamp` applies to a coil drive, not to a boost stage".into());
+            }
+            _ => {}
+        }
+        if r.tick.get() * r.pwm_frequency.get() < 1.0 - 1e-9 {
+            return Err(format!(
+                "key `tick`: the control tick ({} s) is shorter than one PWM period ({} s)",
+                r.tick.get(),
+                1.0 / r.pwm_frequency.get()
+            ));
+        }
+        Ok(System {
+            name: r.name,
+            tick: r.tick,
+            pwm_frequency: r.pwm_frequency,
+            supply: r.supply,
+            temperature: r.temperature,
+            coil: r.coil,
+            clamp: r.clamp,
+            boost: r.boost,
+            switch: r.switch,
+            sense: r.sense,
+            ratings: r.ratings,
+            requirements: r.requirements,
+        })
+    }
+}
+
+/// Supply range, V.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawSupply")]
+pub struct Supply {
+    /// Lowest supply, V.
+    pub min: Pos<Volt>,
+    /// Nominal supply, V.
+    pub nominal: Pos<Volt>,
+    /// Highest supply, V.
+    pub max: Pos<Volt>,
+    /// Source resistance, Ω.
+    pub source_resistance: NonNeg<Ohm>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSupply {
+    min: Pos<Volt>,
+    nominal: Pos<Volt>,
+    max: Pos<Volt>,
+    #[serde(default = "zero")]
+    source_resistance: NonNeg<Ohm>,
+}
+
+fn zero<U>() -> NonNeg<U> {
+    NonNeg::new(0.0)
+}
+
+fn ordered(what: &str, min: f64, nominal: f64, max: f64) -> Result<(), String> {
+    if min <= nominal && nominal <= max {
+        Ok(())
+    } else {
+        Err(format!(
+            "{what}: needs min ≤ nominal ≤ max (got {min} … {nominal} … {max})"
+        ))
+    }
+}
+
+impl TryFrom<RawSupply> for Supply {
+    type Error = String;
+    fn try_from(r: RawSupply) -> Result<Self, String> {
+        ordered("supply", r.min.get(), r.nominal.get(), r.max.get())?;
+        Ok(Supply {
+            min: r.min,
+            nominal: r.nominal,
+            max: r.max,
+            source_resistance: r.source_resistance,
+        })
+    }
+}
+
+/// Coil temperature range, °C.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawTemperature")]
+pub struct Temperature {
+    /// Coldest, °C.
+    pub min: Q<Celsius>,
+    /// Nominal, °C.
+    pub nominal: Q<Celsius>,
+    /// Hottest, °C.
+    pub max: Q<Celsius>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawTemperature {
+    min: Q<Celsius>,
+    nominal: Q<Celsius>,
+    max: Q<Celsius>,
+}
+
+impl TryFrom<RawTemperature> for Temperature {
+    type Error = String;
+    fn try_from(r: RawTemperature) -> Result<Self, String> {
+        ordered("temperature", r.min.get(), r.nominal.get(), r.max.get())?;
+        if r.min.get() < -273.15 || r.max.get() > 400.0 {
+            return Err("temperature: outside −273.15 … 400 °C".into());
+        }
+        Ok(Temperature {
+            min: r.min,
+            nominal: r.nominal,
+            max: r.max,
+        })
+    }
+}
+
+/// The coil of a valve or relay.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Coil {
+    /// Unsaturated inductance, H.
+    pub inductance: Pos<Henry>,
+    /// Winding resistance at 20 °C, Ω.
+    pub resistance: Pos<Ohm>,
+    /// Relative tolerance of the inductance (0.1 = ±10 %), for the plan.
+    #[serde(default = "zero")]
+    pub inductance_tolerance: NonNeg<Plain>,
+    /// Relative tolerance of the resistance, for the plan.
+    #[serde(default = "zero")]
+    pub resistance_tolerance: NonNeg<Plain>,
+    /// Knee current of a saturating core, A (absent: linear coil).
+    pub knee_current: Option<Pos<Ampere>>,
+    /// Residual (saturated) inductance, H; needed with `knee_current`.
+    pub residual_inductance: Option<Pos<Henry>>,
+    /// Current at which the armature pulls in, A.
+    pub pull_in_current: Pos<Ampere>,
+    /// Current below which the armature is taken as released, A.
+    pub release_current: Pos<Ampere>,
+}
+
+/// The clamp network across the coil or the switch (one kind per file).
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ClampSpec {
+    /// Freewheel diode across the coil.
+    Freewheel {
+        /// Diode forward drop, V.
+        diode_drop: NonNeg<Volt>,
+    },
+    /// Diode in series with a zener across the coil.
+    DiodeZener {
+        /// Diode forward drop, V.
+        diode_drop: NonNeg<Volt>,
+        /// Zener voltage, V.
+        zener: Pos<Volt>,
+    },
+    /// Active clamp across the switch.
+    AcrossSwitch {
+        /// Clamp voltage, V.
+        voltage: Pos<Volt>,
+    },
+    /// Diode in series with a resistor across the coil.
+    ResistorDiode {
+        /// Resistor, Ω.
+        resistor: Pos<Ohm>,
+        /// Diode forward drop, V.
+        diode_drop: NonNeg<Volt>,
+    },
+    /// No clamp: only the switch's own capacitance.
+    Unclamped {
+        /// Capacitance across the switch, F.
+        capacitance: Pos<Farad>,
+    },
+}
+
+/// The boost stage (heater rail).
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct BoostStage {
+    /// Inductance, H.
+    pub inductance: Pos<Henry>,
+    /// Inductor DCR, Ω.
+    pub dcr: NonNeg<Ohm>,
+    /// Inductor saturation current, A.
+    pub saturation_current: Pos<Ampere>,
+    /// Output diode forward drop, V.
+    pub diode_drop: NonNeg<Volt>,
+    /// Output capacitance, F.
+    pub output_capacitance: Pos<Farad>,
+    /// Output capacitor ESR, Ω.
+    pub esr: NonNeg<Ohm>,
+    /// Load resistance, Ω.
+    pub load: Pos<Ohm>,
+    /// Wanted output voltage, V.
+    pub output: Pos<Volt>,
+    /// Minimum off-time of the PWM, s.
+    #[serde(default = "zero")]
+    pub min_off_time: NonNeg<Second>,
+    /// Minimum on-time of the PWM, s.
+    #[serde(default = "zero")]
+    pub min_on_time: NonNeg<Second>,
+}
+
+/// The switch.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Switch {
+    /// On-resistance, Ω.
+    pub on_resistance: NonNeg<Ohm>,
+    /// Breakdown voltage (the switch avalanches above it), V.
+    pub breakdown: Pos<Volt>,
+}
+
+/// Ratings of the parts; a verdict is given for each one present.
+#[derive(Debug, Clone, Copy, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Ratings {
+    /// Highest allowed switch voltage, V.
+    pub switch_voltage: Option<Pos<Volt>>,
+    /// Highest allowed switch current, A.
+    pub switch_current: Option<Pos<Ampere>>,
+    /// Highest single-pulse energy the switch may absorb while clamping, J.
+    pub switch_energy: Option<Pos<Joule>>,
+    /// Highest energy per switch-off the clamp network may absorb, J.
+    pub clamp_energy: Option<Pos<Joule>>,
+}
+
+/// Requirements of the application; a verdict is given for each one present.
+#[derive(Debug, Clone, Copy, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Requirements {
+    /// Longest allowed release time (current part), s.
+    pub release_time: Option<Pos<Second>>,
+    /// Longest allowed pull-in time, s.
+    pub pull_in_time: Option<Pos<Second>>,
+    /// Highest allowed output ripple (boost), V peak to peak.
+    pub output_ripple: Option<Pos<Volt>>,
+    /// Smallest allowed margin below the inductor saturation current (boost), 0 … 1.
+    pub saturation_margin: Option<NonNeg<Plain>>,
+}
+
+/// The current sense chain: shunt, amplifier, ADC.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawSense")]
+pub struct Sense {
+    /// Shunt, Ω.
+    pub shunt: Pos<Ohm>,
+    /// Amplifier gain.
+    pub gain: Pos<Plain>,
+    /// ADC resolution, bits (8 … 16).
+    pub adc_bits: u32,
+    /// ADC reference voltage, V.
+    pub adc_reference: Pos<Volt>,
+    /// Relative gain error of the chain (0.01 = 1 %).
+    pub gain_error: NonNeg<Plain>,
+    /// Offset at the ADC input, V.
+    pub offset: Q<Volt>,
+    /// RMS noise at the ADC input, V.
+    pub noise: NonNeg<Volt>,
+    /// Divider ratio of the supply (or output) voltage sense (V_adc / V_node).
+    pub voltage_divider: Pos<Plain>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSense {
+    shunt: Pos<Ohm>,
+    gain: Pos<Plain>,
+    adc_bits: u32,
+    adc_reference: Pos<Volt>,
+    #[serde(default = "zero")]
+    gain_error: NonNeg<Plain>,
+    #[serde(default = "q0")]
+    offset: Q<Volt>,
+    #[serde(default = "zero")]
+    noise: NonNeg<Volt>,
+    voltage_divider: Pos<Plain>,
+}
+
+fn q0<U>() -> Q<U> {
+    Q::new(0.0)
+}
+
+impl TryFrom<RawSense> for Sense {
+    type Error = String;
+    fn try_from(r: RawSense) -> Result<Self, String> {
+        if !(8..=16).contains(&r.adc_bits) {
+            return Err(format!(
+                "key `adc_bits`: {} is outside 8 … 16",
+                r.adc_bits
+            ));
+        }
+        if r.voltage_divider.get() > 1.0 {
+            return Err("key `voltage_divider`: a divider ratio is at most 1".into());
+        }
+        Ok(Sense {
+            shunt: r.shunt,
+            gain: r.gain,
+            adc_bits: r.adc_bits,
+            adc_reference: r.adc_reference,
+            gain_error: r.gain_error,
+            offset: r.offset,
+            noise: r.noise,
+            voltage_divider: r.voltage_divider,
+        })
+    }
+}
+
+/// The controller under test: one of the example controllers with its parameters.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Controller {
+    /// Valve or relay driver: pull-in at full voltage, PWM hold, estimator, monitor, trip
+    /// detector, off-timer.
+    Coil(CoilController),
+    /// Boost regulator: PI loop behind the duty limiter.
+    Boost(BoostController),
+}
+
+/// Parameters of the valve/relay driver.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawCoilController")]
+pub struct CoilController {
+    /// Full-voltage pull-in time, s.
+    pub pull_in_time: Pos<Second>,
+    /// PWM hold duty, 0 … 1.
+    pub hold_duty: Pos<Plain>,
+    /// Instantaneous trip current, A.
+    pub trip_current: Pos<Ampere>,
+    /// Trip blanking after switch-on, s.
+    pub blanking: NonNeg<Second>,
+    /// Samples above the threshold before tripping.
+    pub persistence: u32,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawCoilController {
+    pull_in_time: Pos<Second>,
+    hold_duty: Pos<Plain>,
+    trip_current: Pos<Ampere>,
+    #[serde(default = "zero")]
+    blanking: NonNeg<Second>,
+    #[serde(default = "one")]
+    persistence: u32,
+}
+
+fn one() -> u32 {
+    1
+}
+
+impl TryFrom<RawCoilController> for CoilController {
+    type Error = String;
+    fn try_from(r: RawCoilController) -> Result<Self, String> {
+        if r.hold_duty.get() > 1.0 {
+            return Err(format!(
+                "key `hold_duty`: {} is above 1",
+                r.hold_duty.get()
+            ));
+        }
+        if r.persistence == 0 || r.persistence > 1000 {
+            return Err("key `persistence`: must be 1 … 1000 samples".into());
+        }
+        Ok(CoilController {
+            pull_in_time: r.pull_in_time,
+            hold_duty: r.hold_duty,
+            trip_current: r.trip_current,
+            blanking: r.blanking,
+            persistence: r.persistence,
+        })
+    }
+}
+
+/// Parameters of the boost regulator.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct BoostController {
+    /// Proportional gain, duty per volt of error.
+    pub kp: NonNeg<Plain>,
+    /// Integral gain, duty per volt-second of error.
+    pub ki: NonNeg<Plain>,
+    /// Highest duty the limiter allows, 0 … 1.
+    pub max_duty: Pos<Plain>,
+    /// Soft-start ramp time of the duty limit, s.
+    pub soft_start: NonNeg<Second>,
+    /// Output voltage at which the limiter cuts the duty to zero, V.
+    pub overvoltage: Pos<Volt>,
+    /// Instantaneous trip current of the inductor, A.
+    pub trip_current: Pos<Ampere>,
+}
+
+/// Distribution of a parameter in a sweep.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Dist {
+    /// Uniform over the range.
+    Uniform,
+    /// Normal: mean at nominal, `rel` is one standard deviation (relative parameters), or the
+    /// range is ±3 standard deviations (supply, temperature); truncated at ±3σ.
+    Normal,
+}
+
+/// A tolerance of a relative parameter: nominal × (1 ± `rel`).
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct RelTolerance {
+    /// Distribution.
+    pub dist: Dist,
+    /// Half-width (uniform) or standard deviation (normal), relative.
+    pub rel: NonNeg<Plain>,
+}
+
+/// A tolerance of a ranged parameter: sampled within the system's own range.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct RangeTolerance {
+    /// Distribution over the system's min … max.
+    pub dist: Dist,
+}
+
+/// Spreads for sweeps.
+#[derive(Debug, Clone, Copy, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Tolerances {
+    /// Coil or inductor inductance.
+    pub inductance: Option<RelTolerance>,
+    /// Coil winding resistance or inductor DCR.
+    pub resistance: Option<RelTolerance>,
+    /// Clamp voltage (diode, zener, clamp) or resistor.
+    pub clamp: Option<RelTolerance>,
+    /// Sense chain gain.
+    pub sense_gain: Option<RelTolerance>,
+    /// Boost load resistance.
+    pub load: Option<RelTolerance>,
+    /// Supply within `[system.supply]` min … max.
+    pub supply: Option<RangeTolerance>,
+    /// Coil temperature within `[system.temperature]` min … max.
+    pub temperature: Option<RangeTolerance>,
+}
+
+/// One scenario: a timeline of events and the properties that must hold.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Scenario {
+    /// Name (unique within the file).
+    pub name: String,
+    /// Simulated time, s.
+    pub duration: Pos<Second>,
+    /// Supply for this scenario (default: nominal), V.
+    pub supply: Option<Pos<Volt>>,
+    /// Coil temperature for this scenario (default: nominal), °C.
+    pub temperature: Option<Q<Celsius>>,
+    /// Seed of the ADC noise (default 1).
+    #[serde(default = "one_u64")]
+    pub noise_seed: u64,
+    /// The events (`[[scenario.event]]`).
+    #[serde(rename = "event", default)]
+    pub events: Vec<Event>,
+    /// The properties that must hold (`[[scenario.check]]`).
+    #[serde(rename = "check", default)]
+    pub checks: Vec<Check>,
+}
+
+fn one_u64() -> u64 {
+    1
+}
+
+/// A firmware command.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Command {
+    /// Energize the coil / enable the regulator.
+    On,
+    /// De-energize / disable.
+    Off,
+    /// Clear a latched trip.
+    Reset,
+}
+
+/// A fault injected into the plant or the sensor.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Fault {
+    /// The coil is shorted: only a residual inductance and the wiring remain.
+    ShortedCoil,
+    /// Shorted turns: inductance and resistance drop by `factor`.
+    ShortedTurns,
+    /// The coil (or its wiring) is open.
+    OpenCoil,
+    /// The switch is stuck on.
+    SwitchStuckOn,
+    /// The current sensor is stuck at its last reading.
+    SensorStuck,
+    /// The current sensor becomes noisy (`noise` V RMS at the ADC).
+    SensorNoisy,
+}
+
+/// One event of a scenario: exactly one of `command`, `fault`, `supply`, `load`.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawEvent")]
+pub struct Event {
+    /// Time, s.
+    pub at: NonNeg<Second>,
+    /// What happens.
+    pub action: Action,
+}
+
+/// What an event does.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub enum Action {
+    /// A firmware command.
+    Command(Command),
+    /// A fault; `factor` (shorted turns, shorted coil) and `noise` (noisy sensor) parameterize it.
+    Fault {
+        /// Which fault.
+        fault: Fault,
+        /// Remaining fraction of L and R (shorted turns; default 0.5) or of L (shorted coil:
+        /// default 0.01), 0 … 1.
+        factor: f64,
+        /// Sensor noise RMS at the ADC, V (noisy sensor; default 50 mV).
+        noise_v: f64,
+    },
+    /// A supply step to this voltage, V.
+    Supply(f64),
+    /// A load step to this resistance, Ω (boost).
+    Load(f64),
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawEvent {
+    at: NonNeg<Second>,
+    command: Option<Command>,
+    fault: Option<Fault>,
+    supply: Option<Pos<Volt>>,
+    load: Option<Pos<Ohm>>,
+    factor: Option<Pos<Plain>>,
+    noise: Option<NonNeg<Volt>>,
+}
+
+impl TryFrom<RawEvent> for Event {
+    type Error = String;
+    fn try_from(r: RawEvent) -> Result<Self, String> {
+        let n = usize::from(r.command.is_some())
+            + usize::from(r.fault.is_some())
+            + usize::from(r.supply.is_some())
+            + usize::from(r.load.is_some());
+        if n != 1 {
+            return Err(
+                "an event needs exactly one of the keys `command`, `fault`, `supply`, `load`"
+                    .into(),
+            );
+        }
+        if r.fault.is_none() && (r.factor.is_some() || r.noise.is_some()) {
+            return Err("keys `factor` and `noise` belong to a `fault` event".into());
+        }
+        let action = match (r.command, r.fault, r.supply, r.load) {
+            (Some(c), ..) => Action::Command(c),
+            (_, Some(fault), ..) => {
+                let factor = r.factor.map(Pos::get).unwrap_or(match fault {
+                    Fault::ShortedCoil => 0.01,
+                    _ => 0.5,
+                });
+                if factor > 1.0 {
+                    return Err(format!("key `factor`: {factor} is above 1"));
+                }
+                Action::Fault {
+                    fault,
+                    factor,
+                    noise_v: r.noise.map_or(0.05, NonNeg::get),
+                }
+            }
+            (_, _, Some(v), _) => Action::Supply(v.get()),
+            (_, _, _, Some(l)) => Action::Load(l.get()),
+            (None, None, None, None) => {
+                return Err("an event needs one of `command`, `fault`, `supply`, `load`".into());
+            }
+        };
+        Ok(Event { at: r.at, action })
+    }
+}
+
+/// A property measured on every run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Property {
+    /// Highest switch voltage, V (limit: `max`).
+    PeakSwitchVoltage,
+    /// Highest clamp-network energy of one switch-off, J (`max`).
+    ClampEnergy,
+    /// Highest switch energy (clamping or avalanche) of one switch-off, J (`max`).
+    SwitchEnergy,
+    /// Highest coil or inductor current, A (`max`).
+    PeakCurrent,
+    /// Time from the first fault to the trip, s (`max`).
+    TripLatency,
+    /// Trips seen (`max`, default 0): no trip in normal operation.
+    NoTrip,
+    /// Longest time from an off command until the current fell below the release current, s
+    /// (`max`).
+    ReleaseTime,
+    /// Output voltage after `after` seconds, V (`min` and `max`).
+    OutputBand,
+    /// Largest difference between the firmware's current estimate and the plant current
+    /// while the coil is on, A (`max`).
+    EstimatorError,
+}
+
+impl Property {
+    /// Name as written in files.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            Property::PeakSwitchVoltage => "peak-switch-voltage",
+            Property::ClampEnergy => "clamp-energy",
+            Property::SwitchEnergy => "switch-energy",
+            Property::PeakCurrent => "peak-current",
+            Property::TripLatency => "trip-latency",
+            Property::NoTrip => "no-trip",
+            Property::ReleaseTime => "release-time",
+            Property::OutputBand => "output-band",
+            Property::EstimatorError => "estimator-error",
+        }
+    }
+
+    /// Unit of the value and the limits.
+    #[must_use]
+    pub fn unit(self) -> crate::si::Unit {
+        use crate::si::Unit;
+        match self {
+            Property::PeakSwitchVoltage | Property::OutputBand => Unit::Volt,
+            Property::ClampEnergy | Property::SwitchEnergy => Unit::Joule,
+            Property::PeakCurrent | Property::EstimatorError => Unit::Ampere,
+            Property::TripLatency | Property::ReleaseTime => Unit::Second,
+            Property::NoTrip => Unit::None,
+        }
+    }
+
+    /// Unit symbol for display.
+    #[must_use]
+    pub fn symbol(self) -> &'static str {
+        match self.unit() {
+            crate::si::Unit::Volt => "V",
+            crate::si::Unit::Joule => "J",
+            crate::si::Unit::Ampere => "A",
+            crate::si::Unit::Second => "s",
+            _ => "",
+        }
+    }
+}
+
+/// A property with its limits.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawCheck")]
+pub struct Check {
+    /// Which property.
+    pub property: Property,
+    /// Lowest allowed value (output band only).
+    pub min: Option<f64>,
+    /// Highest allowed value.
+    pub max: Option<f64>,
+    /// Start of the measurement window, s (output band: settling time; default 0).
+    pub after: f64,
+}
+
+/// A limit as written: a number or a string with an SI prefix.
+#[derive(Deserialize)]
+#[serde(untagged)]
+enum RawLimit {
+    Number(f64),
+    Text(String),
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawCheck {
+    property: Property,
+    min: Option<RawLimit>,
+    max: Option<RawLimit>,
+    #[serde(default = "zero")]
+    after: NonNeg<Second>,
+}
+
+impl TryFrom<RawCheck> for Check {
+    type Error = String;
+    fn try_from(r: RawCheck) -> Result<Self, String> {
+        let p = r.property;
+        let read = |key: &str, raw: Option<RawLimit>| -> Result<Option<f64>, String> {
+            let v = match raw {
+                None => return Ok(None),
+                Some(RawLimit::Number(v)) => v,
+                Some(RawLimit::Text(s)) => crate::si::parse(&s, p.unit()).map_err(|e| {
+                    format!("key `{key}`: {e} (expected a value in {})", p.symbol())
+                })?,
+            };
+            if v.is_finite() {
+                Ok(Some(v))
+            } else {
+                Err(format!("key `{key}`: not finite"))
+            }
+        };
+        let min = read("min", r.min)?;
+        let max = read("max", r.max)?;
+        let max = match (p, max) {
+            (Property::NoTrip, None) => Some(0.0),
+            (_, m) => m,
+        };
+        match p {
+            Property::OutputBand => {
+                let (Some(lo), Some(hi)) = (min, max) else {
+                    return Err("missing key `min` or `max`: output-band needs both".into());
+                };
+                if lo > hi {
+                    return Err(format!("key `min`: {lo} is above `max` {hi}"));
+                }
+            }
+            _ => {
+                if min.is_some() {
+                    return Err(format!("key `min`: {} takes only `max`", p.name()));
+                }
+                if max.is_none() {
+                    return Err(format!("missing key `max`: the limit of {}", p.name()));
+                }
+            }
+        }
+        Ok(Check {
+            property: p,
+            min,
+            max,
+            after: r.after.get(),
+        })
+    }
+}
