@@ -2,8 +2,11 @@
 //! plans, the demo) live in [`cli`]; values with SI prefixes are read by [`si`].
 
 pub mod cli;
+pub mod closed_loop;
 mod cmd;
+pub mod controllers;
 pub mod demo;
+pub mod faults;
 pub mod plant;
 pub mod scenario;
 pub mod si;

@@ -165,7 +165,7 @@ impl<const N: usize> Rk<N> {
             let h_try = if last { remaining } else { h };
             let (y1, err) = Self::step(f, y, h_try);
             let en = self.error_norm(y, &y1, &err);
-            if !(en <= 1.0) {
+            if en.is_nan() || en > 1.0 {
                 let fac = if en.is_finite() {
                     (0.9 * en.powf(-0.2)).max(0.2)
                 } else {

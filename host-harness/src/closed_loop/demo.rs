@@ -1,0 +1,200 @@
+//! The demo system of the closed-loop checks: the greenhouse controller's 24 V irrigation
+//! valve and 12 V vent relay. All values here are invented for the demo.
+//!
+//! - Valve: 120 mH, 32 Ω at 20 °C (copper), first-order thermal path 25 K/W, 15 J/K; freewheel
+//!   diode 0.7 V; switch 0.1 Ω, breakdown 66 V, rated 60 V; supply 24 V (21.6 … 26.4 V) with
+//!   0.2 Ω source resistance; 10 mΩ shunt.
+//! - Relay: 0.3 H, 120 Ω at 20 °C, same switch and diode, 12 V supply.
+//! - Sense chain: 12-bit ADC, 3.3 V reference; current through the shunt and a gain-20
+//!   amplifier with a 100-count bias (4.028 mA per count, 16.5 A full scale), +0.5 % gain and
+//!   1 mV offset error, 0.7 LSB noise; supply through an 11:1 divider, output (switch node)
+//!   through a 40:1 divider.
+//! - Timing: 10 kHz control tick, 20 kHz PWM, sampling 20 µs into the tick.
+
+use super::{AdcChannel, Limits, LoopConfig, Release, Sensors};
+use crate::controllers::{ValveDriverConfig, ValvePlan};
+use crate::faults::FaultAt;
+use crate::plant::{
+    Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec, Thermal,
+};
+use lenz::Error;
+use lenz::kernel::MonitorParams;
+
+/// Valve supply, V.
+pub const VALVE_SUPPLY_V: f64 = 24.0;
+/// Relay supply, V.
+pub const RELAY_SUPPLY_V: f64 = 12.0;
+/// Control tick, ns (10 kHz).
+pub const TICK_NS: u64 = 100_000;
+/// PWM period, ns (20 kHz).
+pub const PWM_NS: u64 = 50_000;
+
+fn coil_drive(l_h: f64, r20: f64, temp_c: f64, supply_v: f64, clamp: Clamp) -> CoilDrive {
+    let spec = CoilDriveSpec {
+        coil: CoilSpec {
+            curve: InductanceCurve::Linear { l_h },
+            r20_ohm: r20,
+            alpha20_per_k: 0.00393,
+            temp_c,
+            thermal: Some(Thermal {
+                r_th_k_per_w: 25.0,
+                c_th_j_per_k: 15.0,
+                ambient_c: temp_c,
+            }),
+        },
+        clamp,
+        switch: SwitchSpec {
+            on_resistance_ohm: 0.1,
+            breakdown_v: 66.0,
+        },
+        supply_v,
+        source_resistance_ohm: 0.2,
+        shunt_ohm: 0.010,
+    };
+    // The demo values are valid by construction; a failure here is a programming error in
+    // this file, caught by every closed-loop test.
+    CoilDrive::new(spec).unwrap_or_else(|e| unreachable!("demo plant: {e}"))
+}
+
+/// The valve at coil temperature `temp_c` and supply `supply_v`, with clamp `clamp`.
+#[must_use]
+pub fn valve_plant(temp_c: f64, supply_v: f64, clamp: Clamp) -> CoilDrive {
+    coil_drive(0.120, 32.0, temp_c, supply_v, clamp)
+}
+
+/// The relay at coil temperature `temp_c` and supply `supply_v`.
+#[must_use]
+pub fn relay_plant(temp_c: f64, supply_v: f64) -> CoilDrive {
+    coil_drive(0.3, 120.0, temp_c, supply_v, Clamp::Freewheel { vf_v: 0.7 })
+}
+
+/// The freewheel diode of the demo.
+pub const DIODE: Clamp = Clamp::Freewheel { vf_v: 0.7 };
+
+/// The sense channels (true converter, with its errors).
+#[must_use]
+pub fn sensors() -> Sensors {
+    let adc = |volts_per_unit, bias_v, gain_error, noise| AdcChannel {
+        bits: 12,
+        vref_v: 3.3,
+        volts_per_unit,
+        bias_v,
+        gain_error,
+        offset_error_v: 0.001,
+        noise_rms_lsb: noise,
+    };
+    Sensors {
+        current: adc(0.010 * 20.0, 100.0 * 3.3 / 4096.0, 0.005, 0.7),
+        supply: adc(1.0 / 11.0, 0.0, 0.003, 0.5),
+        output: adc(1.0 / 40.0, 0.0, 0.003, 0.5),
+    }
+}
+
+/// What the firmware assumes about a channel: the nominal chain, no errors.
+#[must_use]
+pub fn nominal(ch: &AdcChannel) -> AdcChannel {
+    AdcChannel {
+        gain_error: 0.0,
+        offset_error_v: 0.0,
+        noise_rms_lsb: 0.0,
+        ..*ch
+    }
+}
+
+/// The driver plan for a coil of `l_h`, `r20_ohm` (the firmware's model: winding plus switch
+/// and shunt; it measures the supply at the terminal, after the source resistance).
+///
+/// # Errors
+///
+/// The plan errors of [`ValveDriverConfig::new`].
+pub fn driver_plan(
+    l_h: f32,
+    r20_ohm: f32,
+    temp_c: f32,
+    pull_in_a: f32,
+    hold_duty: f32,
+) -> Result<ValveDriverConfig, Error> {
+    let coil = lenz::CoilParams::new(l_h, r20_ohm)
+        .with_switch_resistance_ohm(0.1)
+        .with_shunt_resistance_ohm(0.010)
+        .with_diode_drop_v(0.7)
+        .validate()?;
+    let s = sensors();
+    ValveDriverConfig::new(&ValvePlan {
+        coil,
+        temp_c,
+        tick_s: TICK_NS as f32 * 1e-9,
+        clamp_v: 0.7,
+        pull_in_a,
+        pull_in_min_s: 0.030,
+        hold_duty,
+        current_adc: nominal(&s.current),
+        supply_adc: nominal(&s.supply),
+        monitor: MonitorParams {
+            abs_tol_a: 0.05,
+            rel_tol: 0.2,
+            open_min_estimate_a: 0.1,
+            open_max_a: 0.02,
+            persistence: 3,
+            stuck_samples: 50,
+            stuck_min_change_a: 0.1,
+        },
+    })
+}
+
+/// The valve driver planned at `temp_c`: pull-in ends at 0.54 A (the 0.45 A pull-in current
+/// with 20 % margin) after at least 30 ms, hold at 45 % duty (about 0.33 A).
+///
+/// # Errors
+///
+/// The plan errors of [`ValveDriverConfig::new`].
+pub fn valve_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
+    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45)
+}
+
+/// The relay driver planned at `temp_c`: pull-in to 90 mA (75 mA must-operate plus 20 %),
+/// hold at 55 % duty.
+///
+/// # Errors
+///
+/// The plan errors of [`ValveDriverConfig::new`].
+pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
+    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55)
+}
+
+/// The valve's limits: switch rated 60 V and 10 mJ per switch-off, clamp diode 100 mJ, 25 A
+/// pulse current, trip within 10 ms, release to 75 mA (10 % of 0.75 A) within 12 ms,
+/// estimator within 30 mA.
+#[must_use]
+pub fn valve_limits() -> Limits {
+    Limits {
+        switch_voltage_rating_v: Some(60.0),
+        clamp_energy_rating_j: Some(0.100),
+        switch_energy_rating_j: Some(0.010),
+        switch_current_limit_a: Some(25.0),
+        trip_latency_max_s: Some(0.010),
+        release: Some(Release {
+            current_a: 0.075,
+            max_s: 0.012,
+        }),
+        output_band: None,
+        estimator_error_max_a: Some(0.030),
+    }
+}
+
+/// A valve run: `duration_s` long, demand schedule `demand`, faults `faults`.
+#[must_use]
+pub fn valve_loop(duration_s: f64, demand: Vec<(f64, bool)>, faults: Vec<FaultAt>) -> LoopConfig {
+    LoopConfig {
+        tick_ns: TICK_NS,
+        pwm_period_ns: PWM_NS,
+        duration_ns: (duration_s * 1e9).round() as u64,
+        sample_offset_ns: 20_000,
+        sensors: sensors(),
+        seed: 0x5eed,
+        demand,
+        faults,
+        limits: valve_limits(),
+        record_every: 1,
+    }
+}

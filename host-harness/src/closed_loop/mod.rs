@@ -1,0 +1,786 @@
+//! The closed loop: firmware under test against the plant, with the harness owning time.
+//!
+//! # Timing
+//!
+//! Time is kept in integer nanoseconds, so tick and PWM edges fall on exact instants. Tick `k`
+//! spans `[kT, (k+1)T)`:
+//!
+//! 1. At `kT` the controller gets the readings the ADC took during tick `k − 1` (the
+//!    conversion delay: a result is ready one tick after its sampling instant), the time and the
+//!    application's demand, and returns the actuation for tick `k`.
+//! 2. During the tick the harness switches the plant at the exact PWM edges of that actuation
+//!    (period `pwm_period_ns`, each period starting on; duty rounded to whole nanoseconds, as a
+//!    timer would), applies faults at their exact times, and samples all channels at
+//!    `kT + sample_offset_ns`.
+//!
+//! # Properties
+//!
+//! Every run measures, each as a value against a limit (a property is listed when its limit is
+//! given, except the trip properties, which are always listed):
+//!
+//! - peak switch voltage against the switch rating;
+//! - clamp energy and switch energy of the worst single switch-off against their ratings;
+//! - peak current against the switch's current limit;
+//! - with a fault that requires a trip: trip latency after the fault; without: no trip;
+//! - release time after each demand-off (current below the release current) against the
+//!   requirement;
+//! - boost output within its band after the settling time;
+//! - the firmware estimator's largest error against the plant's true current, at every tick
+//!   before the first fault.
+//!
+//! Release and band are evaluated after every plant advance (every PWM edge and sampling
+//! instant), so their resolution is the shorter of half a PWM period and the tick.
+
+pub mod adc;
+pub mod demo;
+
+pub use adc::AdcChannel;
+
+use crate::faults::{Channel, Fault, FaultAt};
+use crate::plant::{Boost, CoilDrive, SwitchOff};
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use serde::{Deserialize, Serialize};
+
+/// What the firmware sees at a control tick.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Sensed {
+    /// Tick number.
+    pub tick: u64,
+    /// Time of the tick, ns.
+    pub time_ns: u64,
+    /// Coil (inductor) current reading, counts.
+    pub current_counts: u16,
+    /// Supply (input) voltage reading, counts.
+    pub supply_counts: u16,
+    /// Output voltage reading, counts.
+    pub output_counts: u16,
+    /// The application's demand (valve open, rail enabled).
+    pub demand: bool,
+}
+
+/// How the switch is driven during the next tick.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub enum Drive {
+    /// Off for the whole tick.
+    Off,
+    /// On for the whole tick.
+    On,
+    /// PWM at the harness's PWM period with this duty (0 ..= 1).
+    Pwm {
+        /// Duty cycle.
+        duty: f64,
+    },
+}
+
+/// Bridge direction (the plants here drive one polarity; reverse is reported by the controller
+/// and recorded, not simulated).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Direction {
+    /// Normal polarity.
+    Forward,
+    /// Reversed polarity.
+    Reverse,
+}
+
+/// The controller's output for the next interval.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Actuation {
+    /// Switch drive.
+    pub drive: Drive,
+    /// Bridge direction.
+    pub direction: Direction,
+}
+
+impl Actuation {
+    /// Switch off.
+    pub const OFF: Actuation = Actuation {
+        drive: Drive::Off,
+        direction: Direction::Forward,
+    };
+    /// Switch on.
+    pub const ON: Actuation = Actuation {
+        drive: Drive::On,
+        direction: Direction::Forward,
+    };
+
+    /// PWM at `duty`.
+    #[must_use]
+    pub const fn pwm(duty: f64) -> Actuation {
+        Actuation {
+            drive: Drive::Pwm { duty },
+            direction: Direction::Forward,
+        }
+    }
+}
+
+/// What the controller reports about itself for the checks.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+pub struct Telemetry {
+    /// Its estimate of the coil current, A.
+    pub estimate_a: Option<f64>,
+    /// It has tripped (switched off for protection).
+    pub tripped: bool,
+}
+
+/// The firmware under test.
+pub trait Controller {
+    /// One control tick: readings of the previous tick in, actuation for this tick out.
+    fn tick(&mut self, sensed: &Sensed) -> Actuation;
+    /// State for the checks, read right after [`Controller::tick`].
+    fn telemetry(&self) -> Telemetry {
+        Telemetry::default()
+    }
+}
+
+/// The true values of a plant at an instant.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Probe {
+    /// Coil (inductor) current, A.
+    pub current_a: f64,
+    /// Supply (input) terminal voltage, V.
+    pub supply_v: f64,
+    /// Output voltage: the switch node of a coil drive, the rail of a boost stage, V.
+    pub output_v: f64,
+    /// Switch voltage, V.
+    pub switch_v: f64,
+}
+
+/// A plant the harness can run.
+pub trait Plant {
+    /// Advances to `t_s`.
+    fn advance_to(&mut self, t_s: f64);
+    /// Sets the switch.
+    fn set_switch(&mut self, on: bool);
+    /// True values now.
+    fn probe(&self) -> Probe;
+    /// Applies a plant fault; `false` when the fault does not apply to this plant.
+    fn inject(&mut self, fault: &Fault) -> bool;
+    /// Highest switch voltage so far, V.
+    fn peak_switch_v(&self) -> f64;
+    /// Highest current so far, A.
+    fn peak_current_a(&self) -> f64;
+    /// Switch-offs so far (empty for a plant that does not record them).
+    fn switch_offs(&self) -> &[SwitchOff] {
+        &[]
+    }
+}
+
+impl Plant for CoilDrive {
+    fn advance_to(&mut self, t_s: f64) {
+        CoilDrive::advance_to(self, t_s);
+    }
+    fn set_switch(&mut self, on: bool) {
+        CoilDrive::set_switch(self, on);
+    }
+    fn probe(&self) -> Probe {
+        let v = self.switch_voltage_v();
+        Probe {
+            current_a: self.current_a(),
+            supply_v: self.supply_terminal_v(),
+            output_v: v,
+            switch_v: v,
+        }
+    }
+    fn inject(&mut self, fault: &Fault) -> bool {
+        match *fault {
+            Fault::ShortedCoil {
+                residual_inductance_h,
+                residual_resistance_ohm,
+            } => self.short_coil(residual_inductance_h, residual_resistance_ohm),
+            Fault::ShortedTurns {
+                inductance_factor,
+                resistance_factor,
+            } => self.set_coil_scale(inductance_factor, resistance_factor),
+            Fault::OpenCoil => {
+                self.open_coil();
+                true
+            }
+            Fault::SupplySag { supply_v } | Fault::SupplySurge { supply_v } => {
+                self.set_supply_v(supply_v)
+            }
+            Fault::SwitchStuckOn => {
+                self.stick_switch_on();
+                true
+            }
+            Fault::LoadStep { .. } => false,
+            Fault::SensorStuck { .. } | Fault::SensorNoisy { .. } => true,
+        }
+    }
+    fn peak_switch_v(&self) -> f64 {
+        CoilDrive::peak_switch_v(self)
+    }
+    fn peak_current_a(&self) -> f64 {
+        CoilDrive::peak_current_a(self)
+    }
+    fn switch_offs(&self) -> &[SwitchOff] {
+        CoilDrive::switch_offs(self)
+    }
+}
+
+impl Plant for Boost {
+    fn advance_to(&mut self, t_s: f64) {
+        Boost::advance_to(self, t_s);
+    }
+    fn set_switch(&mut self, on: bool) {
+        Boost::set_switch(self, on);
+    }
+    fn probe(&self) -> Probe {
+        Probe {
+            current_a: self.inductor_current_a(),
+            supply_v: self.input_terminal_v(),
+            output_v: self.output_v(),
+            switch_v: self.switch_voltage_v(),
+        }
+    }
+    fn inject(&mut self, fault: &Fault) -> bool {
+        match *fault {
+            Fault::SupplySag { supply_v } | Fault::SupplySurge { supply_v } => {
+                self.set_input_v(supply_v)
+            }
+            Fault::LoadStep { load_ohm } => self.set_load_ohm(load_ohm),
+            Fault::SwitchStuckOn => {
+                self.stick_switch_on();
+                true
+            }
+            Fault::SensorStuck { .. } | Fault::SensorNoisy { .. } => true,
+            _ => false,
+        }
+    }
+    fn peak_switch_v(&self) -> f64 {
+        Boost::peak_switch_v(self)
+    }
+    fn peak_current_a(&self) -> f64 {
+        Boost::peak_current_a(self)
+    }
+}
+
+/// Release requirement: after a demand-off the current must fall below `current_a` within
+/// `max_s`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Release {
+    /// Release current, A.
+    pub current_a: f64,
+    /// Longest allowed release time, s.
+    pub max_s: f64,
+}
+
+/// Output band of a regulated rail.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Band {
+    /// Target, V.
+    pub target_v: f64,
+    /// Allowed deviation, V.
+    pub tol_v: f64,
+    /// Time after which the band applies (after start and after each load step), s.
+    pub settle_s: f64,
+}
+
+/// The limits the properties are checked against; `None` leaves a property out.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+pub struct Limits {
+    /// Switch voltage rating, V.
+    pub switch_voltage_rating_v: Option<f64>,
+    /// Clamp energy rating per switch-off, J.
+    pub clamp_energy_rating_j: Option<f64>,
+    /// Switch energy rating per switch-off (clamping or avalanche), J.
+    pub switch_energy_rating_j: Option<f64>,
+    /// Switch current limit, A.
+    pub switch_current_limit_a: Option<f64>,
+    /// Longest allowed time from a fault that requires a trip to the trip, s.
+    pub trip_latency_max_s: Option<f64>,
+    /// Release requirement.
+    pub release: Option<Release>,
+    /// Output band.
+    pub output_band: Option<Band>,
+    /// Largest allowed estimator error, A.
+    pub estimator_error_max_a: Option<f64>,
+}
+
+/// The three sense channels.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Sensors {
+    /// Current channel.
+    pub current: AdcChannel,
+    /// Supply channel.
+    pub supply: AdcChannel,
+    /// Output channel.
+    pub output: AdcChannel,
+}
+
+/// A closed-loop run.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LoopConfig {
+    /// Control tick, ns.
+    pub tick_ns: u64,
+    /// PWM period, ns.
+    pub pwm_period_ns: u64,
+    /// Run length, ns.
+    pub duration_ns: u64,
+    /// Sampling instant within the tick, ns.
+    pub sample_offset_ns: u64,
+    /// Sense channels.
+    pub sensors: Sensors,
+    /// Seed of the noise generator.
+    pub seed: u64,
+    /// Demand schedule: `(time_s, demand)`, ascending; demand is off before the first entry.
+    pub demand: Vec<(f64, bool)>,
+    /// Faults.
+    pub faults: Vec<FaultAt>,
+    /// Limits of the properties.
+    pub limits: Limits,
+    /// Record the waveform every this many ticks (0: not at all).
+    pub record_every: u32,
+}
+
+/// Why a run could not be made.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub enum RunError {
+    /// A timing value is zero or inconsistent (named).
+    Timing(&'static str),
+    /// The fault does not apply to this plant.
+    UnsupportedFault(Fault),
+}
+
+impl std::fmt::Display for RunError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            RunError::Timing(p) => write!(f, "{p}: must be positive and consistent"),
+            RunError::UnsupportedFault(x) => write!(f, "fault {x:?} does not apply to this plant"),
+        }
+    }
+}
+
+impl std::error::Error for RunError {}
+
+/// One property: measured value against its limit (`value ≤ limit` passes).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Property {
+    /// Name (stable, for reports and JUnit test names).
+    pub name: &'static str,
+    /// Measured value.
+    pub value: f64,
+    /// Limit.
+    pub limit: f64,
+    /// Unit of value and limit.
+    pub unit: &'static str,
+    /// `value ≤ limit`.
+    pub pass: bool,
+}
+
+/// Sampled waveforms (one entry per recorded tick, at the sampling instant).
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct Waveform {
+    /// Time, s.
+    pub t_s: Vec<f64>,
+    /// True current, A.
+    pub current_a: Vec<f64>,
+    /// Firmware estimate, A (NaN where the controller has none).
+    pub estimate_a: Vec<f64>,
+    /// Switch voltage, V.
+    pub switch_v: Vec<f64>,
+    /// Output voltage, V.
+    pub output_v: Vec<f64>,
+    /// Supply terminal voltage, V.
+    pub supply_v: Vec<f64>,
+    /// Commanded drive: 0 off, 1 on, the duty for PWM.
+    pub drive: Vec<f64>,
+}
+
+/// Something that happened during a run.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct RunEvent {
+    /// Time, s.
+    pub t_s: f64,
+    /// What.
+    pub what: String,
+}
+
+/// Everything a run produced.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RunResult {
+    /// The properties.
+    pub properties: Vec<Property>,
+    /// Sampled waveforms.
+    pub waveform: Waveform,
+    /// Demand changes, faults, trips.
+    pub events: Vec<RunEvent>,
+    /// Every switch-off of the plant.
+    pub switch_offs: Vec<SwitchOff>,
+    /// Ticks run.
+    pub ticks: u64,
+    /// Simulated time, s.
+    pub simulated_s: f64,
+}
+
+impl RunResult {
+    /// Every property holds.
+    #[must_use]
+    pub fn passed(&self) -> bool {
+        self.properties.iter().all(|p| p.pass)
+    }
+
+    /// The properties that failed.
+    #[must_use]
+    pub fn violations(&self) -> Vec<&Property> {
+        self.properties.iter().filter(|p| !p.pass).collect()
+    }
+
+    /// The property named `name`.
+    #[must_use]
+    pub fn property(&self, name: &str) -> Option<&Property> {
+        self.properties.iter().find(|p| p.name == name)
+    }
+}
+
+#[derive(Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+enum Edge {
+    Fault(usize),
+    Switch(bool),
+    Sample,
+}
+
+const NS: f64 = 1e-9;
+
+fn ns(t_s: f64) -> u64 {
+    (t_s / NS).round().max(0.0) as u64
+}
+
+struct Sense {
+    stuck: [Option<u16>; 3],
+    extra_noise: [f64; 3],
+}
+
+/// Runs `ctrl` against `plant` (module docs).
+///
+/// # Errors
+///
+/// [`RunError::Timing`] for a zero tick, PWM period or duration, or a sampling instant outside
+/// the tick; [`RunError::UnsupportedFault`] for a plant fault the plant does not model.
+pub fn run<P: Plant, C: Controller>(
+    plant: &mut P,
+    ctrl: &mut C,
+    cfg: &LoopConfig,
+) -> Result<RunResult, RunError> {
+    if cfg.tick_ns == 0 {
+        return Err(RunError::Timing("tick_ns"));
+    }
+    if cfg.pwm_period_ns == 0 {
+        return Err(RunError::Timing("pwm_period_ns"));
+    }
+    if cfg.duration_ns == 0 {
+        return Err(RunError::Timing("duration_ns"));
+    }
+    if cfg.sample_offset_ns >= cfg.tick_ns {
+        return Err(RunError::Timing("sample_offset_ns"));
+    }
+    let mut rng = ChaCha8Rng::seed_from_u64(cfg.seed);
+    let mut sense = Sense {
+        stuck: [None; 3],
+        extra_noise: [0.0; 3],
+    };
+    let mut faults: Vec<(u64, usize)> = cfg
+        .faults
+        .iter()
+        .enumerate()
+        .map(|(k, f)| (ns(f.t_s), k))
+        .collect();
+    faults.sort();
+    let mut next_fault = 0usize;
+    let first_fault_ns = faults.first().map(|f| f.0);
+    let trip_fault = cfg
+        .faults
+        .iter()
+        .filter(|f| f.expect_trip)
+        .map(|f| ns(f.t_s))
+        .min();
+
+    let mut wave = Waveform::default();
+    let mut events = Vec::new();
+    let mut readings = sample(plant, &cfg.sensors, &mut sense, &mut rng);
+    let mut trip_ns: Option<u64> = None;
+    let mut trips = 0u32;
+    let mut was_tripped = false;
+    let mut est_err = 0.0f64;
+    let mut demand = false;
+    let mut release_from: Option<f64> = None;
+    let mut release_worst = 0.0f64;
+    let mut releases_open_max = 0.0f64;
+    let mut band_from = cfg.output_band_start();
+    let mut band_worst = 0.0f64;
+    let mut edges: Vec<(u64, Edge)> = Vec::with_capacity(64);
+    let n_ticks = cfg.duration_ns.div_ceil(cfg.tick_ns);
+
+    for k in 0..n_ticks {
+        let t0 = k * cfg.tick_ns;
+        let t0_s = t0 as f64 * NS;
+        let want = cfg
+            .demand
+            .iter()
+            .take_while(|d| ns(d.0) <= t0)
+            .last()
+            .is_some_and(|d| d.1);
+        if want != demand {
+            events.push(RunEvent {
+                t_s: t0_s,
+                what: format!("demand {}", if want { "on" } else { "off" }),
+            });
+            if !want {
+                release_from = Some(t0_s);
+            }
+            demand = want;
+        }
+        let sensed = Sensed {
+            tick: k,
+            time_ns: t0,
+            current_counts: readings[0],
+            supply_counts: readings[1],
+            output_counts: readings[2],
+            demand,
+        };
+        let act = ctrl.tick(&sensed);
+        let telemetry = ctrl.telemetry();
+        if telemetry.tripped && !was_tripped {
+            trips += 1;
+            trip_ns.get_or_insert(t0);
+            events.push(RunEvent {
+                t_s: t0_s,
+                what: "trip".into(),
+            });
+        }
+        was_tripped = telemetry.tripped;
+        if let Some(e) = telemetry.estimate_a
+            && first_fault_ns.is_none_or(|f| t0 < f)
+        {
+            est_err = est_err.max((e - plant.probe().current_a).abs());
+        }
+
+        // The edges of this tick, in time order.
+        edges.clear();
+        let t1 = t0 + cfg.tick_ns;
+        match act.drive {
+            Drive::Off => edges.push((t0, Edge::Switch(false))),
+            Drive::On => edges.push((t0, Edge::Switch(true))),
+            Drive::Pwm { duty } => {
+                let d = if duty.is_finite() {
+                    duty.clamp(0.0, 1.0)
+                } else {
+                    0.0
+                };
+                let on_ns = (d * cfg.pwm_period_ns as f64).round() as u64;
+                let mut p = t0;
+                while p < t1 {
+                    edges.push((p, Edge::Switch(on_ns > 0)));
+                    if on_ns > 0 && on_ns < cfg.pwm_period_ns && p + on_ns < t1 {
+                        edges.push((p + on_ns, Edge::Switch(false)));
+                    }
+                    p += cfg.pwm_period_ns;
+                }
+            }
+        }
+        let drive_now = match act.drive {
+            Drive::Off => 0.0,
+            Drive::On => 1.0,
+            Drive::Pwm { duty } => duty,
+        };
+        edges.push((t0 + cfg.sample_offset_ns, Edge::Sample));
+        while let Some(&(tf, idx)) = faults.get(next_fault) {
+            if tf >= t1 {
+                break;
+            }
+            edges.push((tf, Edge::Fault(idx)));
+            next_fault += 1;
+        }
+        edges.sort_unstable();
+
+        for &(te, edge) in &edges {
+            let te_s = te as f64 * NS;
+            plant.advance_to(te_s);
+            observe(
+                plant,
+                te_s,
+                &cfg.limits,
+                &mut release_from,
+                &mut release_worst,
+                &band_from,
+                &mut band_worst,
+            );
+            match edge {
+                Edge::Switch(on) => plant.set_switch(on),
+                Edge::Sample => {
+                    readings = sample(plant, &cfg.sensors, &mut sense, &mut rng);
+                    if cfg.record_every > 0 && k % cfg.record_every as u64 == 0 {
+                        let pr = plant.probe();
+                        wave.t_s.push(te_s);
+                        wave.current_a.push(pr.current_a);
+                        wave.estimate_a
+                            .push(telemetry.estimate_a.unwrap_or(f64::NAN));
+                        wave.switch_v.push(pr.switch_v);
+                        wave.output_v.push(pr.output_v);
+                        wave.supply_v.push(pr.supply_v);
+                        wave.drive.push(drive_now);
+                    }
+                }
+                Edge::Fault(idx) => {
+                    let f = &cfg.faults[idx];
+                    match f.fault {
+                        Fault::SensorStuck { channel } => {
+                            let c = ch(channel);
+                            sense.stuck[c] = Some(readings[c]);
+                        }
+                        Fault::SensorNoisy {
+                            channel,
+                            noise_rms_lsb,
+                        } => sense.extra_noise[ch(channel)] = noise_rms_lsb,
+                        Fault::LoadStep { .. } => {
+                            if !plant.inject(&f.fault) {
+                                return Err(RunError::UnsupportedFault(f.fault));
+                            }
+                            if let Some(b) = &mut band_from {
+                                b.1 = te_s + b.0.settle_s;
+                            }
+                        }
+                        other => {
+                            if !plant.inject(&other) {
+                                return Err(RunError::UnsupportedFault(other));
+                            }
+                        }
+                    }
+                    events.push(RunEvent {
+                        t_s: te_s,
+                        what: format!("fault {:?}", f.fault),
+                    });
+                }
+            }
+        }
+        let t1_s = t1 as f64 * NS;
+        plant.advance_to(t1_s);
+        observe(
+            plant,
+            t1_s,
+            &cfg.limits,
+            &mut release_from,
+            &mut release_worst,
+            &band_from,
+            &mut band_worst,
+        );
+    }
+    if let Some(from) = release_from {
+        // A release still open at the end counts with the time it has taken so far.
+        releases_open_max = (n_ticks * cfg.tick_ns) as f64 * NS - from;
+    }
+
+    let offs = plant.switch_offs().to_vec();
+    let l = &cfg.limits;
+    let mut props = Vec::new();
+    let mut add = |name, value: f64, limit: f64, unit| {
+        props.push(Property {
+            name,
+            value,
+            limit,
+            unit,
+            pass: value <= limit,
+        });
+    };
+    if let Some(r) = l.switch_voltage_rating_v {
+        add("peak_switch_voltage", plant.peak_switch_v(), r, "V");
+    }
+    if let Some(r) = l.clamp_energy_rating_j {
+        let v = offs.iter().map(|o| o.clamp_j).fold(0.0, f64::max);
+        add("clamp_energy_per_switch_off", v, r, "J");
+    }
+    if let Some(r) = l.switch_energy_rating_j {
+        let v = offs.iter().map(|o| o.switch_j).fold(0.0, f64::max);
+        add("switch_energy_per_switch_off", v, r, "J");
+    }
+    if let Some(r) = l.switch_current_limit_a {
+        add("peak_current", plant.peak_current_a(), r, "A");
+    }
+    match trip_fault {
+        Some(tf) => {
+            let lat = trip_ns
+                .filter(|&t| t >= tf)
+                .map_or(f64::INFINITY, |t| (t - tf) as f64 * NS);
+            add(
+                "trip_latency",
+                lat,
+                l.trip_latency_max_s.unwrap_or(f64::INFINITY),
+                "s",
+            );
+        }
+        None => add("no_trip_in_normal_operation", trips as f64, 0.0, "trips"),
+    }
+    if let Some(r) = l.release {
+        add(
+            "release_time",
+            release_worst.max(releases_open_max),
+            r.max_s,
+            "s",
+        );
+    }
+    if l.output_band.is_some() {
+        let b = l.output_band.map_or(0.0, |b| b.tol_v);
+        add("output_within_band", band_worst, b, "V");
+    }
+    if let Some(r) = l.estimator_error_max_a {
+        add("estimator_error", est_err, r, "A");
+    }
+    Ok(RunResult {
+        properties: props,
+        waveform: wave,
+        events,
+        switch_offs: offs,
+        ticks: n_ticks,
+        simulated_s: (n_ticks * cfg.tick_ns) as f64 * NS,
+    })
+}
+
+impl LoopConfig {
+    fn output_band_start(&self) -> Option<(Band, f64)> {
+        self.limits.output_band.map(|b| (b, b.settle_s))
+    }
+}
+
+fn ch(c: Channel) -> usize {
+    match c {
+        Channel::Current => 0,
+        Channel::Supply => 1,
+        Channel::Output => 2,
+    }
+}
+
+fn sample<P: Plant>(plant: &P, s: &Sensors, sense: &mut Sense, rng: &mut ChaCha8Rng) -> [u16; 3] {
+    let pr = plant.probe();
+    let vals = [pr.current_a, pr.supply_v, pr.output_v];
+    let chans = [&s.current, &s.supply, &s.output];
+    let mut out = [0u16; 3];
+    for k in 0..3 {
+        // Convert even when stuck, so the noise sequence does not depend on the fault.
+        let code = chans[k].convert(vals[k], sense.extra_noise[k], rng);
+        out[k] = sense.stuck[k].unwrap_or(code);
+    }
+    out
+}
+
+fn observe<P: Plant>(
+    plant: &P,
+    t_s: f64,
+    limits: &Limits,
+    release_from: &mut Option<f64>,
+    release_worst: &mut f64,
+    band: &Option<(Band, f64)>,
+    band_worst: &mut f64,
+) {
+    let pr = plant.probe();
+    if let (Some(from), Some(r)) = (*release_from, limits.release)
+        && pr.current_a < r.current_a
+    {
+        *release_worst = release_worst.max(t_s - from);
+        *release_from = None;
+    }
+    if let Some((b, from)) = band
+        && t_s >= *from
+    {
+        *band_worst = band_worst.max((pr.output_v - b.target_v).abs());
+    }
+}

@@ -1,0 +1,78 @@
+//! Faults injected into a closed-loop run at a given time.
+//!
+//! Plant faults change the simulated circuit at their exact time (the harness splits the
+//! segment there); sensor faults change what the ADC reports from then on.
+
+use serde::{Deserialize, Serialize};
+
+/// An ADC channel of the closed loop.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum Channel {
+    /// Coil (or inductor) current.
+    Current,
+    /// Supply (input) voltage.
+    Supply,
+    /// Output voltage (switch node of a coil drive, rail of a boost stage).
+    Output,
+}
+
+/// What goes wrong.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub enum Fault {
+    /// The coil is shorted: only the wiring's inductance and resistance remain.
+    ShortedCoil {
+        /// Residual inductance, H.
+        residual_inductance_h: f64,
+        /// Residual resistance, Ω.
+        residual_resistance_ohm: f64,
+    },
+    /// Some turns are shorted: inductance and resistance drop.
+    ShortedTurns {
+        /// Remaining fraction of the inductance (0..1).
+        inductance_factor: f64,
+        /// Remaining fraction of the resistance (0..1).
+        resistance_factor: f64,
+    },
+    /// The coil is open.
+    OpenCoil,
+    /// The supply sags to a lower voltage.
+    SupplySag {
+        /// New open-circuit supply voltage, V.
+        supply_v: f64,
+    },
+    /// The supply surges to a higher voltage.
+    SupplySurge {
+        /// New open-circuit supply voltage, V.
+        supply_v: f64,
+    },
+    /// The switch is stuck on.
+    SwitchStuckOn,
+    /// The ADC channel keeps returning its last reading.
+    SensorStuck {
+        /// Which channel.
+        channel: Channel,
+    },
+    /// The ADC channel gets extra noise.
+    SensorNoisy {
+        /// Which channel.
+        channel: Channel,
+        /// Added noise, RMS, in LSB.
+        noise_rms_lsb: f64,
+    },
+    /// The load of a boost stage steps.
+    LoadStep {
+        /// New load resistance, Ω.
+        load_ohm: f64,
+    },
+}
+
+/// A fault at a time, and whether the firmware is required to trip on it.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct FaultAt {
+    /// Time of injection, s.
+    pub t_s: f64,
+    /// The fault.
+    pub fault: Fault,
+    /// The firmware must trip within the trip-latency limit after this fault.
+    pub expect_trip: bool,
+}
