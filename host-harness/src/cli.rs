@@ -32,6 +32,8 @@ enum Command {
     Coil(cmd::coil::Args),
     /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
     Demo(cmd::demo::Args),
+    /// Run the scenarios of scenario files in the closed loop and check their properties.
+    Sim(cmd::sim::Args),
 }
 
 /// An error that ends a command with exit code 2.
@@ -133,6 +135,7 @@ where
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
+        Command::Sim(a) => cmd::sim::run(&a),
     };
     match result {
         Ok(code) => code,

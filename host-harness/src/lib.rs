@@ -8,5 +8,6 @@ pub mod controllers;
 pub mod demo;
 pub mod faults;
 pub mod plant;
+pub mod report;
 pub mod scenario;
 pub mod si;

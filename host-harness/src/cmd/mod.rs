@@ -2,4 +2,5 @@
 
 pub mod coil;
 pub mod demo;
+pub mod sim;
 pub mod table;

@@ -38,6 +38,7 @@
 //! are all errors; nothing is silently ignored or clamped.
 
 pub mod quantity;
+pub mod run;
 pub mod schema;
 
 use std::fmt;
@@ -45,7 +46,7 @@ use std::path::Path;
 
 pub use schema::{
     Action, BoostController, BoostStage, Check, ClampSpec, Coil, CoilController, Command,
-    Controller, Dist, Event, Fault, File, Property, Scenario, System,
+    Controller, Dist, Event, Fault, FaultSpec, File, Property, Scenario, System,
 };
 
 /// A problem in a scenario file, with its position.
@@ -222,10 +223,11 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
             }
             let bad = match e.action {
                 Action::Load(_) if !is_boost => Some("a load step applies to a boost stage"),
-                Action::Fault {
-                    fault: Fault::ShortedCoil | Fault::ShortedTurns | Fault::OpenCoil,
-                    ..
-                } if is_boost => Some("coil faults apply to a coil drive"),
+                Action::Fault(
+                    FaultSpec::ShortedCoil { .. }
+                    | FaultSpec::ShortedTurns { .. }
+                    | FaultSpec::OpenCoil,
+                ) if is_boost => Some("coil faults apply to a coil drive"),
                 _ => None,
             };
             if let Some(b) = bad {
@@ -249,6 +251,27 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                     format!("scenario[{k}].check[{j}].after"),
                     needle,
                     "is after the end of the scenario".into(),
+                ));
+            }
+        }
+        let expects_trip = s.events.iter().any(|e| e.expect_trip);
+        for (j, c) in s.checks.iter().enumerate() {
+            let key = format!("scenario[{k}].check[{j}].property");
+            if s.checks[..j].iter().any(|o| o.property == c.property) {
+                return Err((key, needle, format!("{} is checked twice", c.property.name())));
+            }
+            if c.property == Property::TripLatency && !expects_trip {
+                return Err((
+                    key,
+                    needle,
+                    "trip-latency needs an event with `expect_trip = true`".into(),
+                ));
+            }
+            if c.property == Property::NoTrip && expects_trip {
+                return Err((
+                    key,
+                    needle,
+                    "no-trip contradicts an event with `expect_trip = true`".into(),
                 ));
             }
         }

@@ -35,6 +35,8 @@ pub struct System {
     pub tick: Pos<Second>,
     /// PWM (switching) frequency, Hz.
     pub pwm_frequency: Pos<super::quantity::Hertz>,
+    /// Sampling instant of the ADC within the tick, s (default: a fifth of the tick).
+    pub sample_offset: NonNeg<Second>,
     /// Supply range.
     pub supply: Supply,
     /// Coil (winding) temperature range, °C.
@@ -63,6 +65,7 @@ struct RawSystem {
     name: String,
     tick: Pos<Second>,
     pwm_frequency: Pos<super::quantity::Hertz>,
+    sample_offset: Option<NonNeg<Second>>,
     supply: Supply,
     temperature: Temperature,
     coil: Option<Coil>,
@@ -101,10 +104,17 @@ impl TryFrom<RawSystem> for System {
                 1.0 / r.pwm_frequency.get()
             ));
         }
+        let sample_offset = r
+            .sample_offset
+            .unwrap_or(NonNeg::new(0.2 * r.tick.get()));
+        if sample_offset.get() >= r.tick.get() {
+            return Err("key `sample_offset`: must lie within the tick".into());
+        }
         Ok(System {
             name: r.name,
             tick: r.tick,
             pwm_frequency: r.pwm_frequency,
+            sample_offset,
             supply: r.supply,
             temperature: r.temperature,
             coil: r.coil,
@@ -222,6 +232,11 @@ pub struct Coil {
     pub knee_current: Option<Pos<Ampere>>,
     /// Residual (saturated) inductance, H; needed with `knee_current`.
     pub residual_inductance: Option<Pos<Henry>>,
+    /// Thermal resistance winding to ambient, K/W (absent: the winding stays at its
+    /// starting temperature).
+    pub thermal_resistance: Option<Pos<Plain>>,
+    /// Thermal capacitance of the winding, J/K; needed with `thermal_resistance`.
+    pub thermal_capacitance: Option<Pos<Plain>>,
     /// Current at which the armature pulls in, A.
     pub pull_in_current: Pos<Ampere>,
     /// Current below which the armature is taken as released, A.
@@ -329,42 +344,50 @@ pub struct Requirements {
     pub saturation_margin: Option<NonNeg<Plain>>,
 }
 
-/// The current sense chain: shunt, amplifier, ADC.
+/// The sense chains and the ADC: coil current through a shunt and an amplifier, supply and
+/// output voltage through dividers.
 #[derive(Debug, Clone, Copy, Deserialize, Serialize)]
 #[serde(deny_unknown_fields, try_from = "RawSense")]
 pub struct Sense {
-    /// Shunt, Ω.
-    pub shunt: Pos<Ohm>,
-    /// Amplifier gain.
-    pub gain: Pos<Plain>,
     /// ADC resolution, bits (8 … 16).
     pub adc_bits: u32,
     /// ADC reference voltage, V.
     pub adc_reference: Pos<Volt>,
-    /// Relative gain error of the chain (0.01 = 1 %).
-    pub gain_error: NonNeg<Plain>,
-    /// Offset at the ADC input, V.
+    /// Shunt, Ω.
+    pub shunt: Pos<Ohm>,
+    /// Current amplifier gain.
+    pub gain: Pos<Plain>,
+    /// Amplifier output bias at zero current, V.
+    pub bias: NonNeg<Volt>,
+    /// Relative gain error of each chain (0.01 = +1 %).
+    pub gain_error: Q<Plain>,
+    /// Offset error at the ADC input, V.
     pub offset: Q<Volt>,
-    /// RMS noise at the ADC input, V.
-    pub noise: NonNeg<Volt>,
-    /// Divider ratio of the supply (or output) voltage sense (V_adc / V_node).
-    pub voltage_divider: Pos<Plain>,
+    /// RMS noise, LSB.
+    pub noise: NonNeg<Plain>,
+    /// Supply divider ratio (V at the ADC per V of supply, ≤ 1).
+    pub supply_divider: Pos<Plain>,
+    /// Output (switch node or rail) divider ratio, ≤ 1.
+    pub output_divider: Pos<Plain>,
 }
 
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawSense {
-    shunt: Pos<Ohm>,
-    gain: Pos<Plain>,
     adc_bits: u32,
     adc_reference: Pos<Volt>,
+    shunt: Pos<Ohm>,
+    gain: Pos<Plain>,
     #[serde(default = "zero")]
-    gain_error: NonNeg<Plain>,
+    bias: NonNeg<Volt>,
+    #[serde(default = "q0")]
+    gain_error: Q<Plain>,
     #[serde(default = "q0")]
     offset: Q<Volt>,
     #[serde(default = "zero")]
-    noise: NonNeg<Volt>,
-    voltage_divider: Pos<Plain>,
+    noise: NonNeg<Plain>,
+    supply_divider: Pos<Plain>,
+    output_divider: Pos<Plain>,
 }
 
 fn q0<U>() -> Q<U> {
@@ -375,23 +398,33 @@ impl TryFrom<RawSense> for Sense {
     type Error = String;
     fn try_from(r: RawSense) -> Result<Self, String> {
         if !(8..=16).contains(&r.adc_bits) {
-            return Err(format!(
-                "key `adc_bits`: {} is outside 8 … 16",
-                r.adc_bits
-            ));
+            return Err(format!("key `adc_bits`: {} is outside 8 … 16", r.adc_bits));
         }
-        if r.voltage_divider.get() > 1.0 {
-            return Err("key `voltage_divider`: a divider ratio is at most 1".into());
+        for (k, v) in [
+            ("supply_divider", r.supply_divider.get()),
+            ("output_divider", r.output_divider.get()),
+        ] {
+            if v > 1.0 {
+                return Err(format!("key `{k}`: a divider ratio is at most 1 (got {v})"));
+            }
+        }
+        if r.gain_error.get().abs() >= 0.5 {
+            return Err("key `gain_error`: must lie within ±0.5".into());
+        }
+        if r.bias.get() >= r.adc_reference.get() {
+            return Err("key `bias`: must lie below the ADC reference".into());
         }
         Ok(Sense {
-            shunt: r.shunt,
-            gain: r.gain,
             adc_bits: r.adc_bits,
             adc_reference: r.adc_reference,
+            shunt: r.shunt,
+            gain: r.gain,
+            bias: r.bias,
             gain_error: r.gain_error,
             offset: r.offset,
             noise: r.noise,
-            voltage_divider: r.voltage_divider,
+            supply_divider: r.supply_divider,
+            output_divider: r.output_divider,
         })
     }
 }
@@ -411,52 +444,61 @@ pub enum Controller {
 #[derive(Debug, Clone, Copy, Deserialize, Serialize)]
 #[serde(deny_unknown_fields, try_from = "RawCoilController")]
 pub struct CoilController {
-    /// Full-voltage pull-in time, s.
-    pub pull_in_time: Pos<Second>,
+    /// Pull-in ends when the estimate reaches this current, A.
+    pub pull_in_current: Pos<Ampere>,
+    /// … and not before this time (armature travel), s.
+    pub pull_in_min_time: NonNeg<Second>,
     /// PWM hold duty, 0 … 1.
     pub hold_duty: Pos<Plain>,
-    /// Instantaneous trip current, A.
-    pub trip_current: Pos<Ampere>,
-    /// Trip blanking after switch-on, s.
-    pub blanking: NonNeg<Second>,
-    /// Samples above the threshold before tripping.
+    /// Clamp voltage the estimator's off path assumes, V (default: from the clamp, for a
+    /// freewheel diode or a diode and zener).
+    pub estimator_clamp: Option<NonNeg<Volt>>,
+    /// Plausibility monitor thresholds.
+    pub monitor: Monitor,
+}
+
+/// Plausibility monitor thresholds of the coil controller.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Monitor {
+    /// Absolute tolerance of estimate against measurement, A.
+    pub abs_tol: NonNeg<Ampere>,
+    /// Relative tolerance, 0 … 1.
+    pub rel_tol: NonNeg<Plain>,
+    /// Open coil: the estimate is above this …, A.
+    pub open_min_estimate: Pos<Ampere>,
+    /// … and the measurement below this, A.
+    pub open_max: Pos<Ampere>,
+    /// Checks in a row before a fault latches.
     pub persistence: u32,
+    /// Samples without change before the sensor counts as stuck.
+    pub stuck_samples: u32,
+    /// … while the estimate moved by at least this, A.
+    pub stuck_min_change: Pos<Ampere>,
 }
 
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
 struct RawCoilController {
-    pull_in_time: Pos<Second>,
+    pull_in_current: Pos<Ampere>,
+    pull_in_min_time: NonNeg<Second>,
     hold_duty: Pos<Plain>,
-    trip_current: Pos<Ampere>,
-    #[serde(default = "zero")]
-    blanking: NonNeg<Second>,
-    #[serde(default = "one")]
-    persistence: u32,
-}
-
-fn one() -> u32 {
-    1
+    estimator_clamp: Option<NonNeg<Volt>>,
+    monitor: Monitor,
 }
 
 impl TryFrom<RawCoilController> for CoilController {
     type Error = String;
     fn try_from(r: RawCoilController) -> Result<Self, String> {
         if r.hold_duty.get() > 1.0 {
-            return Err(format!(
-                "key `hold_duty`: {} is above 1",
-                r.hold_duty.get()
-            ));
-        }
-        if r.persistence == 0 || r.persistence > 1000 {
-            return Err("key `persistence`: must be 1 … 1000 samples".into());
+            return Err(format!("key `hold_duty`: {} is above 1", r.hold_duty.get()));
         }
         Ok(CoilController {
-            pull_in_time: r.pull_in_time,
+            pull_in_current: r.pull_in_current,
+            pull_in_min_time: r.pull_in_min_time,
             hold_duty: r.hold_duty,
-            trip_current: r.trip_current,
-            blanking: r.blanking,
-            persistence: r.persistence,
+            estimator_clamp: r.estimator_clamp,
+            monitor: r.monitor,
         })
     }
 }
@@ -563,26 +605,36 @@ pub enum Command {
     On,
     /// De-energize / disable.
     Off,
-    /// Clear a latched trip.
-    Reset,
 }
 
 /// A fault injected into the plant or the sensor.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Fault {
-    /// The coil is shorted: only a residual inductance and the wiring remain.
+    /// The coil is shorted: `residual_inductance` and `residual_resistance` remain.
     ShortedCoil,
-    /// Shorted turns: inductance and resistance drop by `factor`.
+    /// Shorted turns: inductance and resistance drop to `factor` of their value.
     ShortedTurns,
     /// The coil (or its wiring) is open.
     OpenCoil,
     /// The switch is stuck on.
     SwitchStuckOn,
-    /// The current sensor is stuck at its last reading.
+    /// The sensor `channel` keeps its last reading.
     SensorStuck,
-    /// The current sensor becomes noisy (`noise` V RMS at the ADC).
+    /// The sensor `channel` gets `noise` LSB RMS of extra noise.
     SensorNoisy,
+}
+
+/// An ADC channel.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Channel {
+    /// Coil (inductor) current.
+    Current,
+    /// Supply voltage.
+    Supply,
+    /// Output voltage.
+    Output,
 }
 
 /// One event of a scenario: exactly one of `command`, `fault`, `supply`, `load`.
@@ -593,6 +645,8 @@ pub struct Event {
     pub at: NonNeg<Second>,
     /// What happens.
     pub action: Action,
+    /// The firmware must trip after this event (checked by `trip-latency`).
+    pub expect_trip: bool,
 }
 
 /// What an event does.
@@ -600,20 +654,37 @@ pub struct Event {
 pub enum Action {
     /// A firmware command.
     Command(Command),
-    /// A fault; `factor` (shorted turns, shorted coil) and `noise` (noisy sensor) parameterize it.
-    Fault {
-        /// Which fault.
-        fault: Fault,
-        /// Remaining fraction of L and R (shorted turns; default 0.5) or of L (shorted coil:
-        /// default 0.01), 0 … 1.
-        factor: f64,
-        /// Sensor noise RMS at the ADC, V (noisy sensor; default 50 mV).
-        noise_v: f64,
-    },
+    /// A fault.
+    Fault(FaultSpec),
     /// A supply step to this voltage, V.
     Supply(f64),
     /// A load step to this resistance, Ω (boost).
     Load(f64),
+}
+
+/// A fault with its parameters.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub enum FaultSpec {
+    /// Shorted coil.
+    ShortedCoil {
+        /// Residual inductance, H.
+        residual_inductance_h: f64,
+        /// Residual resistance, Ω.
+        residual_resistance_ohm: f64,
+    },
+    /// Shorted turns.
+    ShortedTurns {
+        /// Remaining fraction of L and R.
+        factor: f64,
+    },
+    /// Open coil.
+    OpenCoil,
+    /// Switch stuck on.
+    SwitchStuckOn,
+    /// Stuck sensor.
+    SensorStuck(Channel),
+    /// Noisy sensor.
+    SensorNoisy(Channel, f64),
 }
 
 #[derive(Deserialize)]
@@ -624,8 +695,13 @@ struct RawEvent {
     fault: Option<Fault>,
     supply: Option<Pos<Volt>>,
     load: Option<Pos<Ohm>>,
+    #[serde(default)]
+    expect_trip: bool,
     factor: Option<Pos<Plain>>,
-    noise: Option<NonNeg<Volt>>,
+    residual_inductance: Option<Pos<Henry>>,
+    residual_resistance: Option<NonNeg<Ohm>>,
+    channel: Option<Channel>,
+    noise: Option<NonNeg<Plain>>,
 }
 
 impl TryFrom<RawEvent> for Event {
@@ -641,32 +717,69 @@ impl TryFrom<RawEvent> for Event {
                     .into(),
             );
         }
-        if r.fault.is_none() && (r.factor.is_some() || r.noise.is_some()) {
-            return Err("keys `factor` and `noise` belong to a `fault` event".into());
+        // Which parameter keys each kind of event takes.
+        let given = [
+            ("factor", r.factor.is_some()),
+            ("residual_inductance", r.residual_inductance.is_some()),
+            ("residual_resistance", r.residual_resistance.is_some()),
+            ("channel", r.channel.is_some()),
+            ("noise", r.noise.is_some()),
+        ];
+        let allowed: &[&str] = match r.fault {
+            Some(Fault::ShortedCoil) => &["residual_inductance", "residual_resistance"],
+            Some(Fault::ShortedTurns) => &["factor"],
+            Some(Fault::SensorStuck) => &["channel"],
+            Some(Fault::SensorNoisy) => &["channel", "noise"],
+            _ => &[],
+        };
+        if let Some((k, _)) = given.iter().find(|(k, g)| *g && !allowed.contains(k)) {
+            return Err(format!("key `{k}` does not belong to this kind of event"));
         }
+        let need = |k: &str| format!("missing key `{k}`: this fault needs it");
         let action = match (r.command, r.fault, r.supply, r.load) {
             (Some(c), ..) => Action::Command(c),
-            (_, Some(fault), ..) => {
-                let factor = r.factor.map(Pos::get).unwrap_or(match fault {
-                    Fault::ShortedCoil => 0.01,
-                    _ => 0.5,
-                });
-                if factor > 1.0 {
-                    return Err(format!("key `factor`: {factor} is above 1"));
+            (_, Some(fault), ..) => Action::Fault(match fault {
+                Fault::ShortedCoil => FaultSpec::ShortedCoil {
+                    residual_inductance_h: r
+                        .residual_inductance
+                        .ok_or_else(|| need("residual_inductance"))?
+                        .get(),
+                    residual_resistance_ohm: r
+                        .residual_resistance
+                        .ok_or_else(|| need("residual_resistance"))?
+                        .get(),
+                },
+                Fault::ShortedTurns => {
+                    let factor = r.factor.ok_or_else(|| need("factor"))?.get();
+                    if factor >= 1.0 {
+                        return Err(format!("key `factor`: {factor} is not below 1"));
+                    }
+                    FaultSpec::ShortedTurns { factor }
                 }
-                Action::Fault {
-                    fault,
-                    factor,
-                    noise_v: r.noise.map_or(0.05, NonNeg::get),
+                Fault::OpenCoil => FaultSpec::OpenCoil,
+                Fault::SwitchStuckOn => FaultSpec::SwitchStuckOn,
+                Fault::SensorStuck => {
+                    FaultSpec::SensorStuck(r.channel.ok_or_else(|| need("channel"))?)
                 }
-            }
+                Fault::SensorNoisy => FaultSpec::SensorNoisy(
+                    r.channel.ok_or_else(|| need("channel"))?,
+                    r.noise.ok_or_else(|| need("noise"))?.get(),
+                ),
+            }),
             (_, _, Some(v), _) => Action::Supply(v.get()),
             (_, _, _, Some(l)) => Action::Load(l.get()),
             (None, None, None, None) => {
                 return Err("an event needs one of `command`, `fault`, `supply`, `load`".into());
             }
         };
-        Ok(Event { at: r.at, action })
+        if r.expect_trip && matches!(action, Action::Command(_)) {
+            return Err("key `expect_trip` belongs to a fault, supply or load event".into());
+        }
+        Ok(Event {
+            at: r.at,
+            action,
+            expect_trip: r.expect_trip,
+        })
     }
 }
 
@@ -689,7 +802,8 @@ pub enum Property {
     /// Longest time from an off command until the current fell below the release current, s
     /// (`max`).
     ReleaseTime,
-    /// Output voltage after `after` seconds, V (`min` and `max`).
+    /// Largest deviation of the output from the wanted voltage, `after` seconds after the start
+    /// and after each load step, V (`max`).
     OutputBand,
     /// Largest difference between the firmware's current estimate and the plant current
     /// while the coil is on, A (`max`).
@@ -710,6 +824,22 @@ impl Property {
             Property::ReleaseTime => "release-time",
             Property::OutputBand => "output-band",
             Property::EstimatorError => "estimator-error",
+        }
+    }
+
+    /// Name of the property in the closed loop's results.
+    #[must_use]
+    pub fn loop_name(self) -> &'static str {
+        match self {
+            Property::PeakSwitchVoltage => "peak_switch_voltage",
+            Property::ClampEnergy => "clamp_energy_per_switch_off",
+            Property::SwitchEnergy => "switch_energy_per_switch_off",
+            Property::PeakCurrent => "peak_current",
+            Property::TripLatency => "trip_latency",
+            Property::NoTrip => "no_trip_in_normal_operation",
+            Property::ReleaseTime => "release_time",
+            Property::OutputBand => "output_within_band",
+            Property::EstimatorError => "estimator_error",
         }
     }
 
@@ -739,18 +869,19 @@ impl Property {
     }
 }
 
-/// A property with its limits.
+/// A property with its limit.
 #[derive(Debug, Clone, Copy, Deserialize, Serialize)]
 #[serde(deny_unknown_fields, try_from = "RawCheck")]
 pub struct Check {
     /// Which property.
     pub property: Property,
-    /// Lowest allowed value (output band only).
-    pub min: Option<f64>,
-    /// Highest allowed value.
-    pub max: Option<f64>,
-    /// Start of the measurement window, s (output band: settling time; default 0).
+    /// Highest allowed value (for output-band: the allowed deviation from the wanted output;
+    /// for no-trip: 0).
+    pub max: f64,
+    /// Output band: settling time after the start and after each load step, s.
     pub after: f64,
+    /// Release time: the release current, A (default: the coil's `release_current`).
+    pub current: Option<f64>,
 }
 
 /// A limit as written: a number or a string with an SI prefix.
@@ -765,59 +896,44 @@ enum RawLimit {
 #[serde(deny_unknown_fields)]
 struct RawCheck {
     property: Property,
-    min: Option<RawLimit>,
     max: Option<RawLimit>,
-    #[serde(default = "zero")]
-    after: NonNeg<Second>,
+    after: Option<NonNeg<Second>>,
+    current: Option<Pos<Ampere>>,
 }
 
 impl TryFrom<RawCheck> for Check {
     type Error = String;
     fn try_from(r: RawCheck) -> Result<Self, String> {
         let p = r.property;
-        let read = |key: &str, raw: Option<RawLimit>| -> Result<Option<f64>, String> {
-            let v = match raw {
-                None => return Ok(None),
-                Some(RawLimit::Number(v)) => v,
-                Some(RawLimit::Text(s)) => crate::si::parse(&s, p.unit()).map_err(|e| {
-                    format!("key `{key}`: {e} (expected a value in {})", p.symbol())
-                })?,
-            };
-            if v.is_finite() {
-                Ok(Some(v))
-            } else {
-                Err(format!("key `{key}`: not finite"))
-            }
+        let max = match r.max {
+            None if p == Property::NoTrip => 0.0,
+            None => return Err(format!("missing key `max`: the limit of {}", p.name())),
+            Some(RawLimit::Number(v)) => v,
+            Some(RawLimit::Text(s)) => crate::si::parse(&s, p.unit()).map_err(|e| {
+                if p.symbol().is_empty() {
+                    format!("key `max`: {e} (expected a plain number)")
+                } else {
+                    format!("key `max`: {e} (expected a value in {})", p.symbol())
+                }
+            })?,
         };
-        let min = read("min", r.min)?;
-        let max = read("max", r.max)?;
-        let max = match (p, max) {
-            (Property::NoTrip, None) => Some(0.0),
-            (_, m) => m,
-        };
-        match p {
-            Property::OutputBand => {
-                let (Some(lo), Some(hi)) = (min, max) else {
-                    return Err("missing key `min` or `max`: output-band needs both".into());
-                };
-                if lo > hi {
-                    return Err(format!("key `min`: {lo} is above `max` {hi}"));
-                }
-            }
-            _ => {
-                if min.is_some() {
-                    return Err(format!("key `min`: {} takes only `max`", p.name()));
-                }
-                if max.is_none() {
-                    return Err(format!("missing key `max`: the limit of {}", p.name()));
-                }
-            }
+        if !max.is_finite() || max < 0.0 {
+            return Err(format!("key `max`: {max} is not a finite value ≥ 0"));
+        }
+        if p == Property::NoTrip && max != 0.0 {
+            return Err("key `max`: no-trip allows no trip (0)".into());
+        }
+        if r.after.is_some() && p != Property::OutputBand {
+            return Err("key `after` belongs to output-band".into());
+        }
+        if r.current.is_some() && p != Property::ReleaseTime {
+            return Err("key `current` belongs to release-time".into());
         }
         Ok(Check {
             property: p,
-            min,
             max,
-            after: r.after.get(),
+            after: r.after.map_or(0.0, NonNeg::get),
+            current: r.current.map(Pos::get),
         })
     }
 }
