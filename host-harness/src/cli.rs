@@ -34,6 +34,10 @@ enum Command {
     Demo(cmd::demo::Args),
     /// Run the scenarios of scenario files in the closed loop and check their properties.
     Sim(cmd::sim::Args),
+    /// Monte Carlo sweep over the tolerances of a scenario file, in parallel.
+    Sweep(cmd::sweep::Args),
+    /// Combine the `--json` outputs of `lenz sweep --shard K/N` into one summary.
+    SweepMerge(cmd::sweep::MergeArgs),
 }
 
 /// An error that ends a command with exit code 2.
@@ -136,6 +140,8 @@ where
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
         Command::Sim(a) => cmd::sim::run(&a),
+        Command::Sweep(a) => cmd::sweep::run(&a),
+        Command::SweepMerge(a) => cmd::sweep::merge(&a),
     };
     match result {
         Ok(code) => code,

@@ -11,3 +11,4 @@ pub mod plant;
 pub mod report;
 pub mod scenario;
 pub mod si;
+pub mod sweep;

@@ -3,4 +3,5 @@
 pub mod coil;
 pub mod demo;
 pub mod sim;
+pub mod sweep;
 pub mod table;

@@ -49,9 +49,10 @@ pub struct Params {
     pub sense_gain: f64,
     /// Load multiplier (boost).
     pub load: f64,
-    /// Supply, V (`None`: the scenario's, else nominal).
+    /// Supply, V (a scenario that sets its own supply keeps it; `None`: nominal).
     pub supply_v: Option<f64>,
-    /// Coil temperature, °C (`None`: the scenario's, else nominal).
+    /// Coil temperature, °C (a scenario that sets its own temperature keeps it; `None`:
+    /// nominal).
     pub temp_c: Option<f64>,
     /// Seed of the ADC noise (`None`: the scenario's).
     pub noise_seed: Option<u64>,
@@ -237,13 +238,15 @@ struct Point {
 fn point(file: &File, sc: &Scenario, p: &Params) -> Point {
     let s = &file.system;
     Point {
-        supply_v: p
-            .supply_v
-            .or(sc.supply.map(|v| v.get()))
+        supply_v: sc
+            .supply
+            .map(|v| v.get())
+            .or(p.supply_v)
             .unwrap_or(s.supply.nominal.get()),
-        temp_c: p
-            .temp_c
-            .or(sc.temperature.map(|v| v.get()))
+        temp_c: sc
+            .temperature
+            .map(|v| v.get())
+            .or(p.temp_c)
             .unwrap_or(s.temperature.nominal.get()),
     }
 }

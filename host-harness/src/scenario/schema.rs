@@ -534,12 +534,41 @@ pub enum Dist {
 
 /// A tolerance of a relative parameter: nominal × (1 ± `rel`).
 #[derive(Debug, Clone, Copy, Deserialize, Serialize)]
-#[serde(deny_unknown_fields)]
+#[serde(deny_unknown_fields, try_from = "RawRelTolerance")]
 pub struct RelTolerance {
     /// Distribution.
     pub dist: Dist,
     /// Half-width (uniform) or standard deviation (normal), relative.
     pub rel: NonNeg<Plain>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawRelTolerance {
+    dist: Dist,
+    rel: NonNeg<Plain>,
+}
+
+impl TryFrom<RawRelTolerance> for RelTolerance {
+    type Error = String;
+    fn try_from(r: RawRelTolerance) -> Result<Self, String> {
+        // The extreme draw must keep the value positive: 1 − rel (uniform), 1 − 3·rel (normal).
+        let reach = match r.dist {
+            Dist::Uniform => r.rel.get(),
+            Dist::Normal => 3.0 * r.rel.get(),
+        };
+        if reach >= 0.9 {
+            return Err(format!(
+                "key `rel`: {} reaches {:.0} % below nominal; the spread must stay under 90 %",
+                r.rel.get(),
+                reach * 100.0
+            ));
+        }
+        Ok(RelTolerance {
+            dist: r.dist,
+            rel: r.rel,
+        })
+    }
 }
 
 /// A tolerance of a ranged parameter: sampled within the system's own range.
