@@ -723,6 +723,7 @@ mod tests {
             let c = CoilParams::new(l, r).with_diode_drop_v(vf).validate().unwrap();
             let tau = l / r;
             let f = 1.0 / (tau * 10f32.powf(ratio_exp));
+            prop_assume!(f <= FREQUENCY_MAX_HZ);
             let s = c.pwm_steady_state(v, 20.0, d, f).unwrap();
             let (min, max, mean) = ref64::pwm(v as f64, r as f64, r as f64, vf as f64, l as f64, d as f64, f as f64);
             let scale = max.abs().max(1e-12);

@@ -7,6 +7,7 @@ mod error;
 pub mod kernel;
 #[cfg(test)]
 mod testing;
+pub mod trip;
 
 pub use bounds::{Bound, Range};
 pub use coil::{Coil, CoilParams, PwmSteadyState};

@@ -38,6 +38,10 @@ enum Command {
     Sweep(cmd::sweep::Args),
     /// Combine the `--json` outputs of `lenz sweep --shard K/N` into one summary.
     SweepMerge(cmd::sweep::MergeArgs),
+    /// Inverse-time trip time at a constant current (IEC 60255-151, IEEE C37.112 curves).
+    TripTime(cmd::trip::TimeArgs),
+    /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
+    TripThreshold(cmd::trip::ThresholdArgs),
 }
 
 /// An error that ends a command with exit code 2.
@@ -142,6 +146,8 @@ where
         Command::Sim(a) => cmd::sim::run(&a),
         Command::Sweep(a) => cmd::sweep::run(&a),
         Command::SweepMerge(a) => cmd::sweep::merge(&a),
+        Command::TripTime(a) => cmd::trip::run_time(&a),
+        Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
     };
     match result {
         Ok(code) => code,

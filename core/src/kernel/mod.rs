@@ -12,6 +12,12 @@
 mod estimator;
 mod monitor;
 pub mod q;
+mod trip;
 
 pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorState, OffPath};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
+pub use trip::{
+    Cause, INVERSE_M_MAX, INVERSE_M_MIN, INVERSE_TABLE_ERROR_MAX, InverseTable, TABLE_LEN,
+    TABLE_OCTAVES, TABLE_STEPS, THETA_ONE_Q24, TripConfig, TripEvent, TripLog, TripParams,
+    TripState, Verdict, theta_q24_from_f32,
+};

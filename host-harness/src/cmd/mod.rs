@@ -5,3 +5,4 @@ pub mod demo;
 pub mod sim;
 pub mod sweep;
 pub mod table;
+pub mod trip;
