@@ -75,8 +75,14 @@ impl Shard {
         let (a, b) = s
             .split_once('/')
             .ok_or_else(|| format!("'{s}' is not K/N"))?;
-        let k: u64 = a.trim().parse().map_err(|_| format!("'{a}' is not a shard number"))?;
-        let n: u64 = b.trim().parse().map_err(|_| format!("'{b}' is not a shard count"))?;
+        let k: u64 = a
+            .trim()
+            .parse()
+            .map_err(|_| format!("'{a}' is not a shard number"))?;
+        let n: u64 = b
+            .trim()
+            .parse()
+            .map_err(|_| format!("'{b}' is not a shard count"))?;
         if k == 0 || n == 0 || k > n {
             return Err(format!("'{s}': needs 1 ≤ K ≤ N"));
         }
@@ -207,7 +213,11 @@ pub struct Plan<'a> {
 /// # Errors
 ///
 /// A value the plans or the plant reject.
-pub fn run_one(file: &File, seed: u64, index: u64) -> Result<(Params, Vec<RunResult>), RunSetupError> {
+pub fn run_one(
+    file: &File,
+    seed: u64,
+    index: u64,
+) -> Result<(Params, Vec<RunResult>), RunSetupError> {
     let p = Params::draw(file, seed, index);
     let results = (0..file.scenarios.len())
         .map(|k| run::run(file, k, &p, Record::None))
@@ -348,7 +358,11 @@ pub fn summarise(
                 limit: key.limit,
                 runs: n,
                 passed,
-                pass_rate: if n == 0 { 0.0 } else { passed as f64 / n as f64 },
+                pass_rate: if n == 0 {
+                    0.0
+                } else {
+                    passed as f64 / n as f64
+                },
                 worst,
                 min,
                 max,
@@ -400,7 +414,9 @@ pub fn merge(parts: Vec<Output>) -> Result<Output, String> {
     let mut keys: Option<Vec<Key>> = None;
     let mut records = Vec::new();
     for p in parts {
-        let s = p.shard.ok_or("an output is not a shard (no `shard` in it)")?;
+        let s = p
+            .shard
+            .ok_or("an output is not a shard (no `shard` in it)")?;
         if p.file_hash != hash || p.file != file {
             return Err(format!(
                 "shard {}/{} is of another file ({} {}) than the first ({file} {hash})",
@@ -429,7 +445,10 @@ pub fn merge(parts: Vec<Output>) -> Result<Output, String> {
             match &keys {
                 None => keys = Some(p.keys.clone()),
                 Some(k) if *k != p.keys => {
-                    return Err(format!("shard {}/{}: other properties than shard 1", s.k, s.n));
+                    return Err(format!(
+                        "shard {}/{}: other properties than shard 1",
+                        s.k, s.n
+                    ));
                 }
                 Some(_) => {}
             }
@@ -463,7 +482,11 @@ mod tests {
                 for k in 1..=n {
                     all.extend(Shard { k, n }.range(runs));
                 }
-                assert_eq!(all, (0..runs).collect::<Vec<_>>(), "{runs} runs, {n} shards");
+                assert_eq!(
+                    all,
+                    (0..runs).collect::<Vec<_>>(),
+                    "{runs} runs, {n} shards"
+                );
             }
         }
         assert!(Shard::parse("0/3").is_err());

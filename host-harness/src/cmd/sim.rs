@@ -274,10 +274,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             }
         }
         println!("{}", table(&outcomes, files.len() > 1));
-        let failed: usize = outcomes
-            .iter()
-            .map(|o| o.result.violations().len())
-            .sum();
+        let failed: usize = outcomes.iter().map(|o| o.result.violations().len()).sum();
         if passed {
             println!("\nAll properties hold ({} scenarios).", outcomes.len());
         } else {

@@ -197,7 +197,13 @@ fn report(out: &Output, json: bool, plot: Option<&Path>) -> Result<ExitCode, Cli
             out.file, out.system, out.seed, out.runs
         );
         let mut t = new_table(&[
-            "Scenario", "Property", "Pass", "Worst", "Run", "Limit", "Histogram (min … max)",
+            "Scenario",
+            "Property",
+            "Pass",
+            "Worst",
+            "Run",
+            "Limit",
+            "Histogram (min … max)",
         ]);
         for s in &out.summary {
             t.add_row(vec![
@@ -225,10 +231,7 @@ fn report(out: &Output, json: bool, plot: Option<&Path>) -> Result<ExitCode, Cli
             ]);
         }
         println!("{t}");
-        println!(
-            "\n{} of {done} runs passed every property.",
-            out.all_passed
-        );
+        println!("\n{} of {done} runs passed every property.", out.all_passed);
         let mut shown = Vec::new();
         for s in out.summary.iter().filter(|s| s.passed < s.runs) {
             if let Some(w) = &s.worst

@@ -23,7 +23,9 @@ fn span(values: impl Iterator<Item = f64>) -> (f64, f64) {
     if !lo.is_finite() {
         return (0.0, 1.0);
     }
-    let pad = ((hi - lo) * 0.08).max(hi.abs().max(lo.abs()) * 1e-3).max(1e-9);
+    let pad = ((hi - lo) * 0.08)
+        .max(hi.abs().max(lo.abs()) * 1e-3)
+        .max(1e-9);
     (lo.min(0.0) - pad * f64::from(u8::from(lo < 0.0)), hi + pad)
 }
 
@@ -80,11 +82,16 @@ fn panel(
             )))
             .map_err(err)?;
         if e.what == "trip" || e.what.starts_with("fault") {
-            let label = if e.what == "trip" { "trip" } else { "fault" };
+            // Trip labels sit lower than fault labels, so the two never overlap.
+            let (label, y) = if e.what == "trip" {
+                ("trip", y0 + 0.9 * (y1 - y0))
+            } else {
+                ("fault", y1)
+            };
             chart
                 .draw_series(std::iter::once(Text::new(
                     label,
-                    (t, y1),
+                    (t, y),
                     (FONT, 11).into_font().color(&c),
                 )))
                 .map_err(err)?;

@@ -131,18 +131,98 @@ pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
         let key = if key == "." { String::new() } else { key };
         let inner = e.inner();
         let start = inner.span().map_or(0, |s| s.start);
-        at(start, key, inner.message().trim().to_string())
+        let (key, problem) = tidy(key, inner.message().trim());
+        at(start, key, problem)
     })?;
     check_consistency(&parsed).map_err(|(key, needle, problem)| {
-        let offset = needle
-            .and_then(|n| text.find(n.as_str()))
-            .unwrap_or(0);
+        let offset = needle.map_or(0, |n| locate(text, &n));
         at(offset, key, problem)
     })?;
     Ok(parsed)
 }
 
-type Inconsistency = (String, Option<String>, String);
+/// Speaks of keys rather than serde's fields, and moves a key named at the start of a
+/// table-level message into the key path.
+fn tidy(key: String, message: &str) -> (String, String) {
+    let message = message
+        .replace("missing field", "missing key")
+        .replace("unknown field", "unknown key");
+    if let Some(rest) = message.strip_prefix("key `")
+        && let Some((sub, problem)) = rest.split_once("`: ")
+    {
+        let key = if key.is_empty() {
+            sub.to_string()
+        } else {
+            format!("{key}.{sub}")
+        };
+        return (key, problem.to_string());
+    }
+    (key, message)
+}
+
+/// Where a place found by [`check_consistency`] is in the text: a scenario's name, then the
+/// `n`-th `[[scenario.event]]` or `[[scenario.check]]` after it.
+fn locate(text: &str, place: &Place) -> usize {
+    if let Some(l) = place.literal {
+        return text.find(l).unwrap_or(0);
+    }
+    let Some(name_at) = find_name(text, &place.scenario) else {
+        return 0;
+    };
+    let Some((header, n)) = place.table else {
+        return name_at;
+    };
+    let mut from = name_at;
+    for k in 0..=n {
+        match text.get(from..).and_then(|t| t.find(header)) {
+            Some(off) => {
+                if k == n {
+                    return from + off;
+                }
+                from += off + header.len();
+            }
+            None => return name_at,
+        }
+    }
+    name_at
+}
+
+fn find_name(text: &str, name: &str) -> Option<usize> {
+    let quoted = format!("\"{name}\"");
+    let mut from = 0;
+    while let Some(off) = text.get(from..).and_then(|t| t.find(&quoted)) {
+        let at = from + off;
+        let line_start = text
+            .get(..at)
+            .and_then(|h| h.rfind('\n'))
+            .map_or(0, |p| p + 1);
+        let head = text.get(line_start..at).unwrap_or("").trim();
+        if head.starts_with("name") && head.ends_with('=') {
+            return Some(line_start);
+        }
+        from = at + quoted.len();
+    }
+    None
+}
+
+/// A scenario, and optionally its `n`-th event or check table; or a literal text.
+struct Place {
+    scenario: String,
+    table: Option<(&'static str, usize)>,
+    literal: Option<&'static str>,
+}
+
+impl Place {
+    fn literal(text: &'static str) -> Place {
+        Place {
+            scenario: String::new(),
+            table: None,
+            literal: Some(text),
+        }
+    }
+}
+
+type Inconsistency = (String, Option<Place>, String);
 
 /// Checks across tables: controller and system kinds, scenario names, event times, checks
 /// that apply to the kind of system.
@@ -152,14 +232,14 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
         (Controller::Coil(_), true) => {
             return Err((
                 "controller.coil".into(),
-                Some("[controller".into()),
+                Some(Place::literal("[controller")),
                 "a coil controller cannot drive a boost stage: use [controller.boost]".into(),
             ));
         }
         (Controller::Boost(_), false) => {
             return Err((
                 "controller.boost".into(),
-                Some("[controller".into()),
+                Some(Place::literal("[controller")),
                 "a boost controller needs [system.boost]: use [controller.coil]".into(),
             ));
         }
@@ -173,7 +253,14 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
         ));
     }
     for (k, s) in f.scenarios.iter().enumerate() {
-        let needle = Some(format!("\"{}\"", s.name));
+        let place = |table: Option<(&'static str, usize)>| {
+            Some(Place {
+                scenario: s.name.clone(),
+                table,
+                literal: None,
+            })
+        };
+        let needle = place(None);
         if s.name.trim().is_empty() {
             return Err((format!("scenario[{k}].name"), None, "is empty".into()));
         }
@@ -213,7 +300,7 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
             if e.at.get() > s.duration.get() {
                 return Err((
                     format!("{key}.at"),
-                    needle,
+                    place(Some(("[[scenario.event]]", j))),
                     format!(
                         "{} s is after the end of the scenario ({} s)",
                         e.at.get(),
@@ -231,7 +318,7 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 _ => None,
             };
             if let Some(b) = bad {
-                return Err((key, needle, b.into()));
+                return Err((key, place(Some(("[[scenario.event]]", j))), b.into()));
             }
         }
         for (j, c) in s.checks.iter().enumerate() {
@@ -244,12 +331,12 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 _ => None,
             };
             if let Some(b) = bad {
-                return Err((key, needle, b.into()));
+                return Err((key, place(Some(("[[scenario.check]]", j))), b.into()));
             }
             if c.after > s.duration.get() {
                 return Err((
                     format!("scenario[{k}].check[{j}].after"),
-                    needle,
+                    place(Some(("[[scenario.check]]", j))),
                     "is after the end of the scenario".into(),
                 ));
             }
@@ -258,19 +345,23 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
         for (j, c) in s.checks.iter().enumerate() {
             let key = format!("scenario[{k}].check[{j}].property");
             if s.checks[..j].iter().any(|o| o.property == c.property) {
-                return Err((key, needle, format!("{} is checked twice", c.property.name())));
+                return Err((
+                    key,
+                    place(Some(("[[scenario.check]]", j))),
+                    format!("{} is checked twice", c.property.name()),
+                ));
             }
             if c.property == Property::TripLatency && !expects_trip {
                 return Err((
                     key,
-                    needle,
+                    place(Some(("[[scenario.check]]", j))),
                     "trip-latency needs an event with `expect_trip = true`".into(),
                 ));
             }
             if c.property == Property::NoTrip && expects_trip {
                 return Err((
                     key,
-                    needle,
+                    place(Some(("[[scenario.check]]", j))),
                     "no-trip contradicts an event with `expect_trip = true`".into(),
                 ));
             }

@@ -63,9 +63,7 @@ fn read<'de, D: Deserializer<'de>, U: UnitTag>(d: D, sign: Sign) -> Result<f64, 
                 return Err(E::custom(format!("'{text}' is not finite")));
             }
             match self.0 {
-                Sign::Positive if v <= 0.0 => {
-                    Err(E::custom(format!("'{text}' must be positive")))
-                }
+                Sign::Positive if v <= 0.0 => Err(E::custom(format!("'{text}' must be positive"))),
                 Sign::NonNegative if v < 0.0 => {
                     Err(E::custom(format!("'{text}' must not be negative")))
                 }

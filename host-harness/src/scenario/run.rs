@@ -26,9 +26,7 @@ use super::schema::{
     Action, BoostStage, ClampSpec, Command, Dist, FaultSpec, File, Property, RangeTolerance,
     RelTolerance, Scenario,
 };
-use crate::closed_loop::{
-    self, AdcChannel, Band, Limits, LoopConfig, Release, RunResult, Sensors,
-};
+use crate::closed_loop::{self, AdcChannel, Band, Limits, LoopConfig, Release, RunResult, Sensors};
 use crate::controllers::{ValveDriver, ValveDriverConfig, ValvePlan};
 use crate::faults::{Channel, Fault, FaultAt};
 use crate::plant::{
@@ -143,15 +141,17 @@ fn normal_cdf(x: f64) -> f64 {
 fn erfc(x: f64) -> f64 {
     let z = x.abs();
     let t = 1.0 / (1.0 + 0.5 * z);
-    let r = t * (-z * z - 1.265_512_23
-        + t * (1.000_023_68
-            + t * (0.374_091_96
-                + t * (0.096_784_18
-                    + t * (-0.186_288_06
-                        + t * (0.278_868_07
-                            + t * (-1.135_203_98
-                                + t * (1.488_515_87 + t * (-0.822_152_23 + t * 0.170_872_77)))))))))
-        .exp();
+    let r = t
+        * (-z * z - 1.265_512_23
+            + t * (1.000_023_68
+                + t * (0.374_091_96
+                    + t * (0.096_784_18
+                        + t * (-0.186_288_06
+                            + t * (0.278_868_07
+                                + t * (-1.135_203_98
+                                    + t * (1.488_515_87
+                                        + t * (-0.822_152_23 + t * 0.170_872_77)))))))))
+            .exp();
     if x >= 0.0 { r } else { 2.0 - r }
 }
 
@@ -281,7 +281,12 @@ fn clamp_of(c: &ClampSpec, k: f64) -> Clamp {
 fn sensors(file: &File, p: &Params, actual: bool) -> Sensors {
     let s = &file.system.sense;
     let (gain_error, offset, noise, k) = if actual {
-        (s.gain_error.get(), s.offset.get(), s.noise.get(), p.sense_gain)
+        (
+            s.gain_error.get(),
+            s.offset.get(),
+            s.noise.get(),
+            p.sense_gain,
+        )
     } else {
         (0.0, 0.0, 0.0, 1.0)
     };
@@ -346,7 +351,9 @@ fn loop_config(file: &File, sc: &Scenario, p: &Params, pt: &Point, record: Recor
                 },
                 FaultSpec::OpenCoil => Fault::OpenCoil,
                 FaultSpec::SwitchStuckOn => Fault::SwitchStuckOn,
-                FaultSpec::SensorStuck(c) => Fault::SensorStuck { channel: channel(c) },
+                FaultSpec::SensorStuck(c) => Fault::SensorStuck {
+                    channel: channel(c),
+                },
                 FaultSpec::SensorNoisy(c, n) => Fault::SensorNoisy {
                     channel: channel(c),
                     noise_rms_lsb: n,
@@ -441,7 +448,9 @@ fn estimator_clamp_v(file: &File) -> Result<f64, RunSetupError> {
 pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSetupError> {
     let s = &file.system;
     let (Some(coil), super::Controller::Coil(c)) = (s.coil, &file.controller) else {
-        return Err(RunSetupError("system: a coil controller needs [system.coil]".into()));
+        return Err(RunSetupError(
+            "system: a coil controller needs [system.coil]".into(),
+        ));
     };
     let clamp_v = estimator_clamp_v(file)?;
     let model = lenz::CoilParams::new(coil.inductance.get() as f32, coil.resistance.get() as f32)
@@ -478,7 +487,9 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
 fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetupError> {
     let s = &file.system;
     let (Some(coil), Some(clamp)) = (s.coil, s.clamp) else {
-        return Err(RunSetupError("system: missing [system.coil] or [system.clamp]".into()));
+        return Err(RunSetupError(
+            "system: missing [system.coil] or [system.clamp]".into(),
+        ));
     };
     let l = coil.inductance.get() * p.inductance;
     let curve = match (coil.knee_current, coil.residual_inductance) {
@@ -532,7 +543,12 @@ fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetup
 /// # Errors
 ///
 /// The plant rejects a value (named).
-pub fn boost_plant(file: &File, b: &BoostStage, p: &Params, supply_v: f64) -> Result<Boost, RunSetupError> {
+pub fn boost_plant(
+    file: &File,
+    b: &BoostStage,
+    p: &Params,
+    supply_v: f64,
+) -> Result<Boost, RunSetupError> {
     let s = &file.system;
     Boost::new(BoostSpec {
         inductor: InductanceCurve::Linear {

@@ -7,7 +7,9 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::quantity::{Ampere, Celsius, Farad, Henry, Joule, NonNeg, Ohm, Plain, Pos, Q, Second, Volt};
+use super::quantity::{
+    Ampere, Celsius, Farad, Henry, Joule, NonNeg, Ohm, Plain, Pos, Q, Second, Volt,
+};
 
 /// A whole scenario file.
 #[derive(Debug, Clone, Deserialize, Serialize)]
@@ -104,9 +106,7 @@ impl TryFrom<RawSystem> for System {
                 1.0 / r.pwm_frequency.get()
             ));
         }
-        let sample_offset = r
-            .sample_offset
-            .unwrap_or(NonNeg::new(0.2 * r.tick.get()));
+        let sample_offset = r.sample_offset.unwrap_or(NonNeg::new(0.2 * r.tick.get()));
         if sample_offset.get() >= r.tick.get() {
             return Err("key `sample_offset`: must lie within the tick".into());
         }
