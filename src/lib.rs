@@ -7,6 +7,8 @@
 //! of the f32 plan routines from the formulas in the cited sources, so the tests compare two
 //! implementations. (The README above is compiled as this package's doctest.)
 
+pub mod turnoff64;
+
 /// `true` when `|a − b| ≤ atol + rtol·|b|`.
 #[must_use]
 pub fn isclose(a: f64, b: f64, rtol: f64, atol: f64) -> bool {

@@ -1,6 +1,7 @@
 #![doc = include_str!("../README.md")]
 #![cfg_attr(not(test), no_std)]
 
+pub mod boost;
 pub mod bounds;
 pub mod coil;
 mod error;
@@ -8,6 +9,7 @@ pub mod kernel;
 #[cfg(test)]
 mod testing;
 pub mod trip;
+pub mod turnoff;
 
 pub use bounds::{Bound, Range};
 pub use coil::{Coil, CoilParams, PwmSteadyState};

@@ -38,10 +38,14 @@ enum Command {
     Sweep(cmd::sweep::Args),
     /// Combine the `--json` outputs of `lenz sweep --shard K/N` into one summary.
     SweepMerge(cmd::sweep::MergeArgs),
+    /// Switch-off through a clamp: decay times, peak switch voltage, energy split, verdicts.
+    Turnoff(cmd::turnoff::Args),
     /// Inverse-time trip time at a constant current (IEC 60255-151, IEEE C37.112 curves).
     TripTime(cmd::trip::TimeArgs),
     /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
     TripThreshold(cmd::trip::ThresholdArgs),
+    /// Boost stage: mode, duty, inductor currents, output ripple and duty limits with reasons.
+    Boost(cmd::boost::Args),
 }
 
 /// An error that ends a command with exit code 2.
@@ -146,8 +150,10 @@ where
         Command::Sim(a) => cmd::sim::run(&a),
         Command::Sweep(a) => cmd::sweep::run(&a),
         Command::SweepMerge(a) => cmd::sweep::merge(&a),
+        Command::Turnoff(a) => cmd::turnoff::run(&a),
         Command::TripTime(a) => cmd::trip::run_time(&a),
         Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
+        Command::Boost(a) => cmd::boost::run(&a),
     };
     match result {
         Ok(code) => code,

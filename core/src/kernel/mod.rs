@@ -9,13 +9,20 @@
 //! Coefficient formats are in the field names (`_q31`: signed, 31 fractional bits;
 //! `_q16`: 16 fractional bits).
 
+mod duty;
 mod estimator;
 mod monitor;
+mod offtimer;
 pub mod q;
 mod trip;
 
+pub use duty::{
+    DutyLimiterConfig, DutyLimiterParams, DutyLimiterRaw, DutyLimiterState,
+    TABLE_LEN as DUTY_TABLE_LEN,
+};
 pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorState, OffPath};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
+pub use offtimer::{OffStatus, OffTimerState, PLANNED_POINTS, PlannedOffTimer, TrackingOffTimer};
 pub use trip::{
     Cause, INVERSE_M_MAX, INVERSE_M_MIN, INVERSE_TABLE_ERROR_MAX, InverseTable, TABLE_LEN,
     TABLE_OCTAVES, TABLE_STEPS, THETA_ONE_Q24, TripConfig, TripEvent, TripLog, TripParams,

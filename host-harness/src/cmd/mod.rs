@@ -1,8 +1,10 @@
 //! One module per `lenz` subcommand.
 
+pub mod boost;
 pub mod coil;
 pub mod demo;
 pub mod sim;
 pub mod sweep;
 pub mod table;
 pub mod trip;
+pub mod turnoff;
