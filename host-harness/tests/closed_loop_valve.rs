@@ -100,8 +100,8 @@ fn faults_that_must_trip() {
             "shorted coil",
             0.060,
             Fault::ShortedCoil {
-                residual_inductance_h: 0.5e-3,
-                residual_resistance_ohm: 1.0,
+                residual_inductance_h: 0.2e-3,
+                residual_resistance_ohm: 0.5,
             },
         ),
         (

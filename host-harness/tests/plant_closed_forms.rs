@@ -474,3 +474,37 @@ fn energy_balances_with_source_and_shunt_and_heating() {
     check("balance", e.supply_j, sinks, 1e-10);
     assert!(p.winding_temp_c() > 25.0, "the winding heated up");
 }
+
+#[test]
+fn copper_heating_settles_at_the_thermal_fixed_point() {
+    // 24 V on 32 Ω (20 °C) through 25 K/W to 25 °C ambient, 0.4 J/K (tau_th = 10 s): the
+    // steady state solves T = Ta + Rth V² R(T)/(R(T))² = Ta + Rth V²/R(T) with
+    // R(T) = 32 (1 + 0.00393 (T − 20)) (IEC 60028 copper). Solved here by fixed-point
+    // iteration (computed: closed form cross-checked numerically), against 120 s of simulation.
+    let mut spec = CoilDriveSpec {
+        coil: CoilSpec::linear(0.120, 32.0, 25.0),
+        clamp: Clamp::Freewheel { vf_v: 0.7 },
+        switch: SwitchSpec {
+            on_resistance_ohm: 0.0,
+            breakdown_v: 100.0,
+        },
+        supply_v: 24.0,
+        source_resistance_ohm: 0.0,
+        shunt_ohm: 0.0,
+    };
+    spec.coil.thermal = Some(lenz_harness::plant::Thermal {
+        r_th_k_per_w: 25.0,
+        c_th_j_per_k: 0.4,
+        ambient_c: 25.0,
+    });
+    let mut p = CoilDrive::new(spec).unwrap();
+    p.set_switch(true);
+    p.advance_to(120.0);
+    let r = |t: f64| 32.0 * (1.0 + 0.00393 * (t - 20.0));
+    let mut t = 25.0;
+    for _ in 0..200 {
+        t = 25.0 + 25.0 * 24.0 * 24.0 / r(t);
+    }
+    check("winding temperature", p.winding_temp_c(), t, 1e-6);
+    check("hot current", p.current_a(), 24.0 / r(t), 1e-6);
+}

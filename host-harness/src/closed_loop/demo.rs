@@ -113,6 +113,7 @@ pub fn driver_plan(
     temp_c: f32,
     pull_in_a: f32,
     hold_duty: f32,
+    trip_threshold_a: f32,
 ) -> Result<ValveDriverConfig, Error> {
     let coil = lenz::CoilParams::new(l_h, r20_ohm)
         .with_switch_resistance_ohm(0.1)
@@ -139,30 +140,32 @@ pub fn driver_plan(
             stuck_samples: 50,
             stuck_min_change_a: 0.1,
         },
+        trip_threshold_a,
     })
 }
 
 /// The valve driver planned at `temp_c`: pull-in ends at 0.54 A (the 0.45 A pull-in current
-/// with 20 % margin) after at least 30 ms, hold at 45 % duty (about 0.33 A).
+/// with 20 % margin) after at least 30 ms, hold at 45 % duty (about 0.33 A), instantaneous
+/// trip at 2 A.
 ///
 /// # Errors
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn valve_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45)
+    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45, 2.0)
 }
 
 /// The relay driver planned at `temp_c`: pull-in to 90 mA (75 mA must-operate plus 20 %),
-/// hold at 55 % duty.
+/// hold at 55 % duty, instantaneous trip at 0.5 A.
 ///
 /// # Errors
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55)
+    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55, 0.5)
 }
 
-/// The valve's limits: switch rated 60 V and 10 mJ per switch-off, clamp diode 100 mJ, 25 A
+/// The valve's limits: switch rated 60 V and 10 mJ per switch-off, clamp diode 100 mJ, 10 A
 /// pulse current, trip within 10 ms, release to 75 mA (10 % of 0.75 A) within 12 ms,
 /// estimator within 30 mA.
 #[must_use]
@@ -171,7 +174,7 @@ pub fn valve_limits() -> Limits {
         switch_voltage_rating_v: Some(60.0),
         clamp_energy_rating_j: Some(0.100),
         switch_energy_rating_j: Some(0.010),
-        switch_current_limit_a: Some(25.0),
+        switch_current_limit_a: Some(10.0),
         trip_latency_max_s: Some(0.010),
         release: Some(Release {
             current_a: 0.075,

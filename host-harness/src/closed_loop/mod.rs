@@ -158,7 +158,7 @@ pub trait Plant {
     fn inject(&mut self, fault: &Fault) -> bool;
     /// Highest switch voltage so far, V.
     fn peak_switch_v(&self) -> f64;
-    /// Highest current so far, A.
+    /// Highest current through the switch so far, A.
     fn peak_current_a(&self) -> f64;
     /// Switch-offs so far (empty for a plant that does not record them).
     fn switch_offs(&self) -> &[SwitchOff] {
@@ -251,7 +251,7 @@ impl Plant for Boost {
         Boost::peak_switch_v(self)
     }
     fn peak_current_a(&self) -> f64 {
-        Boost::peak_current_a(self)
+        Boost::peak_switch_current_a(self)
     }
 }
 
@@ -508,7 +508,8 @@ pub fn run<P: Plant, C: Controller>(
     let mut releases_open_max = 0.0f64;
     let mut band_from = cfg.output_band_start();
     let mut band_worst = 0.0f64;
-    let mut edges: Vec<(u64, Edge)> = Vec::with_capacity(64);
+    let mut edges: Vec<(u64, Edge)> = Vec::with_capacity(128);
+    let mut direction = Direction::Forward;
     let n_ticks = cfg.duration_ns.div_ceil(cfg.tick_ns);
 
     for k in 0..n_ticks {
@@ -540,6 +541,13 @@ pub fn run<P: Plant, C: Controller>(
         };
         let act = ctrl.tick(&sensed);
         let telemetry = ctrl.telemetry();
+        if act.direction != direction {
+            direction = act.direction;
+            events.push(RunEvent {
+                t_s: t0_s,
+                what: format!("direction {direction:?} (polarity not simulated)"),
+            });
+        }
         if telemetry.tripped && !was_tripped {
             trips += 1;
             trip_ns.get_or_insert(t0);

@@ -6,8 +6,9 @@
 //! 2. Advance the current estimator with the drive the previous tick applied. During PWM hold
 //!    the estimator is fed the tick's average coil voltage `D·V_s − (1 − D)·V_f` on its on path
 //!    (the ZOH of the average; the PWM ripple at 20 kHz is a few mA on the demo valve).
-//! 3. Check the delayed current sample (taken during the previous tick) against the estimate
-//!    for that tick with the plausibility monitor. Any fault latches a trip: the switch stays
+//! 3. Feed the delayed current sample (taken during the previous tick, offset removed) to the
+//!    trip detector (instantaneous overcurrent, latching), and check it against the estimate for
+//!    that tick with the plausibility monitor. A trip or any monitor fault latches the switch
 //!    off until the driver is reset.
 //! 4. State machine: `Idle` → (demand) → `PullIn` (switch on until the estimate reaches the
 //!    pull-in current and the minimum pull-in time has passed) → `Hold` (PWM at the hold duty)
@@ -18,6 +19,7 @@
 use crate::closed_loop::{Actuation, AdcChannel, Controller, Sensed, Telemetry};
 use lenz::kernel::{
     EstimatorConfig, EstimatorState, MonitorConfig, MonitorParams, MonitorState, SenseScale,
+    TripConfig, TripParams, TripState,
 };
 use lenz::{Coil, Error};
 
@@ -44,6 +46,9 @@ pub struct ValvePlan {
     pub supply_adc: AdcChannel,
     /// Plausibility monitor thresholds.
     pub monitor: MonitorParams,
+    /// Instantaneous overcurrent trip threshold, A (one sample at or above it trips and
+    /// latches).
+    pub trip_threshold_a: f32,
 }
 
 /// Integer configuration of the driver (what the firmware keeps in flash or RAM).
@@ -51,6 +56,8 @@ pub struct ValvePlan {
 pub struct ValveDriverConfig {
     estimator: EstimatorConfig,
     monitor: MonitorConfig,
+    trip: TripConfig,
+    current_zero_counts: u16,
     supply_mv_per_count_q16: i32,
     supply_zero_counts: i32,
     clamp_mv: i32,
@@ -92,10 +99,37 @@ impl ValveDriverConfig {
                 max: 100.0,
             });
         }
+        let amps_per_count = p.current_adc.units_per_count() as f32;
+        let zero = p.current_adc.zero_counts().round() as u16;
+        let threshold = (p.trip_threshold_a / amps_per_count).ceil();
+        if !(threshold >= 1.0 && threshold < f32::from(p.current_adc.max_code())) {
+            return Err(Error::OutOfRange {
+                param: "trip_threshold_a",
+                value: p.trip_threshold_a,
+                min: amps_per_count,
+                max: amps_per_count * f32::from(p.current_adc.max_code().saturating_sub(zero)),
+            });
+        }
+        let trip = TripConfig::new(&TripParams {
+            sample_period_s: p.tick_s,
+            amps_per_count,
+            instantaneous_counts: threshold as u16,
+            full_scale_counts: p.current_adc.max_code().saturating_sub(zero),
+            blanking_s: 0.0,
+            persistence_n: 1,
+            persistence_m: 1,
+            stuck_samples: 0,
+            inverse: None,
+            thermal: None,
+            retries: 0,
+            retry_delay_s: 0.0,
+        })?;
         let mv_per_count = p.supply_adc.units_per_count() * 1000.0;
         Ok(Self {
             estimator,
             monitor,
+            trip,
+            current_zero_counts: zero,
             supply_mv_per_count_q16: (mv_per_count * 65536.0).round() as i32,
             supply_zero_counts: p.supply_adc.zero_counts().round() as i32,
             clamp_mv: (p.clamp_v * 1000.0).round() as i32,
@@ -127,6 +161,7 @@ pub struct ValveDriver {
     cfg: ValveDriverConfig,
     est: EstimatorState,
     mon: MonitorState,
+    trip: TripState,
     phase: Phase,
     applied: Applied,
     prev_estimate_ua: i32,
@@ -141,6 +176,7 @@ impl ValveDriver {
             cfg,
             est: EstimatorState::new(),
             mon: MonitorState::new(),
+            trip: TripState::new(),
             phase: Phase::Idle,
             applied: Applied::Off,
             prev_estimate_ua: 0,
@@ -175,8 +211,15 @@ impl Controller for ValveDriver {
                 c.estimator.update(&mut self.est, true, avg)
             }
         };
-        // The current sample was taken during the previous tick: compare it with the estimate
-        // for that tick.
+        // The current sample was taken during the previous tick, with the switch as applied
+        // then: overcurrent first, then plausibility against the estimate for that tick.
+        let reading = s.current_counts.saturating_sub(c.current_zero_counts);
+        let verdict = c
+            .trip
+            .sample(&mut self.trip, reading, self.applied != Applied::Off);
+        if !verdict.switch_allowed() {
+            self.tripped = true;
+        }
         if c.monitor
             .check(&mut self.mon, self.prev_estimate_ua, s.current_counts)
             .is_some()

@@ -76,6 +76,7 @@ pub struct Boost {
     cache: [(BoostMode, f64, f64, f64, Mat<3>); 4],
     cache_next: usize,
     peak_current_a: f64,
+    peak_switch_current_a: f64,
     peak_switch_v: f64,
     dcm_events: u64,
 }
@@ -113,6 +114,7 @@ impl Boost {
             cache: [(BoostMode::Idle, f64::NAN, 0.0, 0.0, [[0.0; 3]; 3]); 4],
             cache_next: 0,
             peak_current_a: 0.0,
+            peak_switch_current_a: 0.0,
             peak_switch_v: 0.0,
             dcm_events: 0,
             spec,
@@ -179,6 +181,25 @@ impl Boost {
     #[must_use]
     pub fn peak_current_a(&self) -> f64 {
         self.peak_current_a
+    }
+
+    /// Highest current through the switch so far (inductor current while on), A.
+    #[must_use]
+    pub fn peak_switch_current_a(&self) -> f64 {
+        self.peak_switch_current_a
+    }
+
+    /// Puts the stage in its steady state with the switch off: the output precharged through
+    /// the inductor and diode, `i_L = (V_in − V_D)/(R_src + R_L + R)`, `v_C = i_L R` (an input
+    /// that came up before the converter is enabled).
+    pub fn settle_off(&mut self) {
+        let s = &self.spec;
+        let i = ((s.input_v - s.diode_drop_v) / (s.source_resistance_ohm + s.dcr_ohm + s.load_ohm))
+            .max(0.0);
+        self.lam = self.mag.flux(i);
+        self.v_c = i * s.load_ohm;
+        self.cmd_on = false;
+        self.mode = self.off_mode();
     }
 
     /// Highest switch voltage so far, V.
@@ -289,8 +310,12 @@ impl Boost {
         }
     }
 
-    /// Advances to `t_s` with the switch as commanded.
+    /// Advances to `t_s` with the switch as commanded. A time not after the present one, or
+    /// not finite, leaves the stage unchanged.
     pub fn advance_to(&mut self, t_s: f64) {
+        if !t_s.is_finite() {
+            return;
+        }
         let mut guard = 0u32;
         while self.t < t_s && guard < 1_000_000 {
             guard += 1;
@@ -303,6 +328,9 @@ impl Boost {
             self.t += dt;
             let i = self.inductor_current_a();
             self.peak_current_a = self.peak_current_a.max(i.abs());
+            if mode == BoostMode::On {
+                self.peak_switch_current_a = self.peak_switch_current_a.max(i.abs());
+            }
             self.peak_switch_v = self.peak_switch_v.max(self.switch_voltage_v());
             if fired {
                 match mode {
@@ -453,6 +481,16 @@ mod tests {
             source_resistance_ohm: 0.0,
         })
         .unwrap()
+    }
+
+    #[test]
+    fn settled_off_state_is_steady() {
+        let mut b = rail(InductanceCurve::Linear { l_h: 10e-6 });
+        b.settle_off();
+        let (i0, v0) = (b.inductor_current_a(), b.capacitor_v());
+        b.advance_to(1e-3);
+        assert!((b.inductor_current_a() - i0).abs() < 1e-12);
+        assert!((b.capacitor_v() - v0).abs() < 1e-12);
     }
 
     #[test]

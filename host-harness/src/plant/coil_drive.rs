@@ -989,12 +989,24 @@ impl CoilDrive {
         (span, None, x)
     }
 
-    /// Advances the plant to `t_s` with the switch as commanded.
+    /// Advances the plant to `t_s` with the switch as commanded. A time not after the present
+    /// one, or not finite, leaves the plant unchanged.
     pub fn advance_to(&mut self, t_s: f64) {
+        if !t_s.is_finite() {
+            return;
+        }
         let mut guard = 0u32;
         while self.t < t_s {
             guard += 1;
-            let span = t_s - self.t;
+            let mut span = t_s - self.t;
+            if self.spec.coil.thermal.is_some() {
+                // Segments end at the thermal steps, so the winding resistance follows the
+                // temperature however long the caller's interval is.
+                let next = self.thermal_t + THERMAL_STEP_S;
+                if next > self.t && next < t_s {
+                    span = next - self.t;
+                }
+            }
             let used = match self.state {
                 CoilState::Idle | CoilState::Open => span,
                 CoilState::Ringing => {
@@ -1084,8 +1096,10 @@ impl CoilDrive {
         let Some(th) = self.spec.coil.thermal else {
             return;
         };
-        let dt = self.t - self.thermal_t;
-        if dt >= THERMAL_STEP_S {
+        // The same expression as the segment limit in `advance_to`, so a segment that ends at
+        // the step always triggers it.
+        if self.t >= self.thermal_t + THERMAL_STEP_S {
+            let dt = self.t - self.thermal_t;
             let p = (self.energies.winding_j - self.thermal_e) / dt;
             self.temp_c = th.step(self.temp_c, p, dt);
             self.thermal_t = self.t;

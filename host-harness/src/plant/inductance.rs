@@ -44,14 +44,17 @@ pub enum InductanceCurve {
     Table(Vec<(f64, f64)>),
 }
 
+/// Accepted inductances, H, and knee currents, A (as the `lenz` coil model's ranges).
+const L_RANGE_H: (f64, f64) = (1e-9, 1e3);
+const KNEE_RANGE_A: (f64, f64) = (1e-6, 1e5);
+
 fn pos(param: &'static str, v: f64) -> Result<f64, Error> {
-    if !v.is_finite() {
-        Err(Error::NotFinite { param })
-    } else if v <= 0.0 {
-        Err(Error::NotPositive { param })
+    let (lo, hi) = if param == "knee_a" {
+        KNEE_RANGE_A
     } else {
-        Ok(v)
-    }
+        L_RANGE_H
+    };
+    super::in_range(param, super::positive(param, v)?, lo, hi)
 }
 
 /// A validated magnetisation curve with precomputed flux at the table points.
@@ -69,8 +72,8 @@ impl InductanceCurve {
     ///
     /// # Errors
     ///
-    /// An inductance or knee current not finite or not positive (`inductance_h`, `knee_a`,
-    /// `l_res_h`), a residual above the unsaturated inductance, or a table that is empty, does
+    /// An inductance or knee current not finite, not positive or outside 1 nH ..= 1 kH
+    /// (1 µA ..= 100 kA) (`inductance_h`, `knee_a`, `l_res_h`), a residual above the unsaturated inductance, or a table that is empty, does
     /// not start at 0 A or whose currents do not ascend (`inductance_table`).
     pub fn validate(&self) -> Result<Magnetisation, Error> {
         let (l_min, l_max, table_flux) = match self {
