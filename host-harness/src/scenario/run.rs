@@ -480,6 +480,7 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
             stuck_samples: m.stuck_samples.min(u16::MAX as u32) as u16,
             stuck_min_change_a: m.stuck_min_change.get() as f32,
         },
+        trip_threshold_a: c.trip_current.get() as f32,
     })
     .map_err(lenz_err("controller.coil"))
 }

@@ -450,6 +450,9 @@ pub struct CoilController {
     pub pull_in_min_time: NonNeg<Second>,
     /// PWM hold duty, 0 … 1.
     pub hold_duty: Pos<Plain>,
+    /// Instantaneous overcurrent trip threshold, A (one sample at or above it trips and
+    /// latches).
+    pub trip_current: Pos<Ampere>,
     /// Clamp voltage the estimator's off path assumes, V (default: from the clamp, for a
     /// freewheel diode or a diode and zener).
     pub estimator_clamp: Option<NonNeg<Volt>>,
@@ -483,6 +486,7 @@ struct RawCoilController {
     pull_in_current: Pos<Ampere>,
     pull_in_min_time: NonNeg<Second>,
     hold_duty: Pos<Plain>,
+    trip_current: Pos<Ampere>,
     estimator_clamp: Option<NonNeg<Volt>>,
     monitor: Monitor,
 }
@@ -497,6 +501,7 @@ impl TryFrom<RawCoilController> for CoilController {
             pull_in_current: r.pull_in_current,
             pull_in_min_time: r.pull_in_min_time,
             hold_duty: r.hold_duty,
+            trip_current: r.trip_current,
             estimator_clamp: r.estimator_clamp,
             monitor: r.monitor,
         })
