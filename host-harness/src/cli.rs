@@ -32,6 +32,8 @@ enum Command {
     Coil(cmd::coil::Args),
     /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
     Demo(cmd::demo::Args),
+    /// Worst-case design numbers of a scenario file's system, with verdicts.
+    Plan(cmd::plan::Args),
     /// Run the scenarios of scenario files in the closed loop and check their properties.
     Sim(cmd::sim::Args),
     /// Monte Carlo sweep over the tolerances of a scenario file, in parallel.
@@ -147,6 +149,7 @@ where
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
+        Command::Plan(a) => cmd::plan::run(&a),
         Command::Sim(a) => cmd::sim::run(&a),
         Command::Sweep(a) => cmd::sweep::run(&a),
         Command::SweepMerge(a) => cmd::sweep::merge(&a),

@@ -3,6 +3,7 @@
 pub mod boost;
 pub mod coil;
 pub mod demo;
+pub mod plan;
 pub mod sim;
 pub mod sweep;
 pub mod table;

@@ -298,6 +298,15 @@ pub struct BoostStage {
     pub load: Pos<Ohm>,
     /// Wanted output voltage, V.
     pub output: Pos<Volt>,
+    /// Relative tolerance of the inductance, for the plan.
+    #[serde(default = "zero")]
+    pub inductance_tolerance: NonNeg<Plain>,
+    /// Relative tolerance of the DCR and the switch on-resistance, for the plan.
+    #[serde(default = "zero")]
+    pub resistance_tolerance: NonNeg<Plain>,
+    /// Relative tolerance of the load current, for the plan.
+    #[serde(default = "zero")]
+    pub load_tolerance: NonNeg<Plain>,
     /// Minimum off-time of the PWM, s.
     #[serde(default = "zero")]
     pub min_off_time: NonNeg<Second>,
