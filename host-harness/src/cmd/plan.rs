@@ -12,8 +12,8 @@
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-use lenz::bounds::{CoilCorner, CoilSpread};
 use lenz::boost::{BoostCorner, BoostSpread, BoostStageParams};
+use lenz::bounds::{CoilCorner, CoilSpread};
 use lenz::turnoff::{Clamp, TurnOffSpread};
 use lenz::{Bound, CoilParams, Range};
 use serde::Serialize;
@@ -35,38 +35,58 @@ pub struct Args {
 
 /// A worst-case figure.
 #[derive(Debug, Serialize)]
-struct Figure {
-    figure: &'static str,
-    unit: &'static str,
-    min: f32,
-    max: f32,
-    min_at: serde_json::Value,
-    max_at: serde_json::Value,
+pub struct Figure {
+    /// Name.
+    pub figure: &'static str,
+    /// Unit ("" for a ratio).
+    pub unit: &'static str,
+    /// Smallest value.
+    pub min: f32,
+    /// Largest value.
+    pub max: f32,
+    /// Corner of the smallest value.
+    pub min_at: serde_json::Value,
+    /// Corner of the largest value.
+    pub max_at: serde_json::Value,
+    /// The same, for people.
     #[serde(skip)]
-    min_text: String,
+    pub min_text: String,
+    /// The same, for people.
     #[serde(skip)]
-    max_text: String,
+    pub max_text: String,
 }
 
 /// A verdict: the worst value of a figure against a rating or requirement.
 #[derive(Debug, Serialize)]
-struct Verdict {
-    check: String,
-    value: Option<f32>,
-    limit: f32,
-    unit: &'static str,
-    pass: bool,
+pub struct Verdict {
+    /// What is checked.
+    pub check: String,
+    /// The worst value (`None`: it could not be computed at some corner).
+    pub value: Option<f32>,
+    /// The rating or requirement.
+    pub limit: f32,
+    /// Unit.
+    pub unit: &'static str,
+    /// It holds.
+    pub pass: bool,
+    /// Where the worst value is, or why there is none.
     #[serde(skip_serializing_if = "Option::is_none")]
-    note: Option<String>,
+    pub note: Option<String>,
 }
 
+/// The plan of a system.
 #[derive(Debug, Serialize)]
-struct Report {
-    file: String,
-    system: String,
-    passed: bool,
-    figures: Vec<Figure>,
-    verdicts: Vec<Verdict>,
+pub struct Report {
+    /// The file.
+    pub file: String,
+    /// The system's name.
+    pub system: String,
+    /// Every verdict passes.
+    pub passed: bool,
+    /// The figures.
+    pub figures: Vec<Figure>,
+    /// The verdicts.
+    pub verdicts: Vec<Verdict>,
 }
 
 fn coil_corner(c: &CoilCorner) -> String {
@@ -198,8 +218,7 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
     );
     add("peak switch voltage", "V", off.peak_switch_voltage_v())
         .map_err(err("peak switch voltage"))?;
-    add("clamp energy per switch-off", "J", off.clamp_energy_j())
-        .map_err(err("clamp energy"))?;
+    add("clamp energy per switch-off", "J", off.clamp_energy_j()).map_err(err("clamp energy"))?;
     add("peak clamp power", "W", off.peak_clamp_power_w()).map_err(err("peak clamp power"))?;
     add("decay time", "s", off.decay_time_s()).map_err(err("decay time"))?;
     add(
@@ -234,12 +253,19 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
     }
     let across_switch = matches!(clamp, ClampSpec::AcrossSwitch { .. });
     let energy_rating = if across_switch {
-        r.switch_energy.map(|v| ("clamp energy ≤ switch energy rating", v.get()))
+        r.switch_energy
+            .map(|v| ("clamp energy ≤ switch energy rating", v.get()))
     } else {
-        r.clamp_energy.map(|v| ("clamp energy ≤ clamp rating", v.get()))
+        r.clamp_energy
+            .map(|v| ("clamp energy ≤ clamp rating", v.get()))
     };
     if let Some((name, v)) = energy_rating {
-        verdicts.push(max_verdict(name, find("clamp energy per switch-off"), v, "J"));
+        verdicts.push(max_verdict(
+            name,
+            find("clamp energy per switch-off"),
+            v,
+            "J",
+        ));
     }
     let q = &s.requirements;
     if let Some(v) = q.release_time {
@@ -312,15 +338,20 @@ fn boost_plan(f: &File, b: &BoostStage) -> Result<Report, CliError> {
     )
     .map_err(err("system.boost"))?;
     let mut figures = Vec::new();
-    let mut add = |name, unit, r: Result<Bound<BoostCorner>, lenz::Error>| -> Result<(), CliError> {
-        let b = r.map_err(|e| CliError(format!("{name}: {e}")))?;
-        figures.push(figure(name, unit, &b, boost_corner));
-        Ok(())
-    };
+    let mut add =
+        |name, unit, r: Result<Bound<BoostCorner>, lenz::Error>| -> Result<(), CliError> {
+            let b = r.map_err(|e| CliError(format!("{name}: {e}")))?;
+            figures.push(figure(name, unit, &b, boost_corner));
+            Ok(())
+        };
     add("duty", "", spread.duty())?;
     add("duty limit", "", spread.duty_max())?;
     add("duty headroom (limit − duty)", "", spread.duty_headroom())?;
-    add("peak inductor current", "A", spread.peak_inductor_current_a())?;
+    add(
+        "peak inductor current",
+        "A",
+        spread.peak_inductor_current_a(),
+    )?;
     add("ripple current", "A", spread.figure(|p| p.ripple_current_a))?;
     add("efficiency", "", spread.figure(|p| p.efficiency))?;
     add(
@@ -384,15 +415,24 @@ fn boost_plan(f: &File, b: &BoostStage) -> Result<Report, CliError> {
     })
 }
 
-fn plan(f: &File) -> Result<Report, CliError> {
+/// The plan of `f`'s system.
+///
+/// # Errors
+///
+/// A plan routine rejects a value of the file.
+pub fn plan(f: &File) -> Result<Report, CliError> {
     match (&f.system.coil, &f.system.clamp, &f.system.boost) {
         (Some(c), Some(k), _) => coil_plan(f, c, k),
         (_, _, Some(b)) => boost_plan(f, b),
-        _ => Err(CliError("system: needs [system.coil] and a clamp, or [system.boost]".into())),
+        _ => Err(CliError(
+            "system: needs [system.coil] and a clamp, or [system.boost]".into(),
+        )),
     }
 }
 
-fn num(v: f32, unit: &str) -> String {
+/// A figure's value for people: engineering notation, or four decimals for a ratio.
+#[must_use]
+pub fn num(v: f32, unit: &str) -> String {
     if unit.is_empty() {
         format!("{v:.4}")
     } else {

@@ -7,8 +7,10 @@
 //!   with `plotters`' SVG backend and its built-in text metrics, so no system font library is
 //!   needed: text is written as SVG `<text>` and rendered by the viewer.
 //! - [`junit`]: one `<testcase>` per scenario and property, for CI systems.
+//! - [`html`]: the index page of a report folder.
 
 pub mod csv;
+pub mod html;
 pub mod junit;
 pub mod svg;
 
