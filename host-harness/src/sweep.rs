@@ -89,11 +89,14 @@ impl Shard {
         Ok(Shard { k, n })
     }
 
-    /// The run indices of this shard out of `runs`.
+    /// The run indices of this shard out of `runs` (a shard that [`Shard::parse`] would reject
+    /// is taken as the nearest valid one; [`merge`] rejects it first).
     #[must_use]
     pub fn range(&self, runs: u64) -> std::ops::Range<u64> {
-        let cut = |j: u64| ((u128::from(j) * u128::from(runs)) / u128::from(self.n)) as u64;
-        cut(self.k - 1)..cut(self.k)
+        let n = u128::from(self.n.max(1));
+        let k = self.k.clamp(1, self.n.max(1));
+        let cut = |j: u64| ((u128::from(j) * u128::from(runs)) / n) as u64;
+        cut(k - 1)..cut(k)
     }
 }
 
@@ -410,6 +413,9 @@ pub fn merge(parts: Vec<Output>) -> Result<Output, String> {
         .shard
         .ok_or("the first output is not a shard (no `shard` in it)")?
         .n;
+    if n == 0 || n > 1_000_000 {
+        return Err(format!("a shard count of {n} is outside 1 … 1 000 000"));
+    }
     let mut seen = vec![false; n as usize];
     let mut keys: Option<Vec<Key>> = None;
     let mut records = Vec::new();
@@ -417,6 +423,9 @@ pub fn merge(parts: Vec<Output>) -> Result<Output, String> {
         let s = p
             .shard
             .ok_or("an output is not a shard (no `shard` in it)")?;
+        if s.k == 0 || s.k > s.n {
+            return Err(format!("shard {}/{}: needs 1 ≤ K ≤ N", s.k, s.n));
+        }
         if p.file_hash != hash || p.file != file {
             return Err(format!(
                 "shard {}/{} is of another file ({} {}) than the first ({file} {hash})",

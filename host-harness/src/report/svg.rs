@@ -230,7 +230,7 @@ pub fn histogram_svg(
         root.fill(&WHITE).map_err(err)?;
         let n = counts.len().max(1) as f64;
         let (mut x0, mut x1) = (lo.min(limit), hi.max(limit));
-        if !(x1 > x0) {
+        if x1.partial_cmp(&x0) != Some(std::cmp::Ordering::Greater) {
             x0 -= 0.5;
             x1 += 0.5;
         }
