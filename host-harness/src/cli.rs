@@ -48,6 +48,8 @@ enum Command {
     TripThreshold(cmd::trip::ThresholdArgs),
     /// Boost stage: mode, duty, inductor currents, output ripple and duty limits with reasons.
     Boost(cmd::boost::Args),
+    /// Cost per kernel call on Cortex-M0/M3/M4F under emulation, beside the f32/libm version.
+    Cost(cmd::cost::Args),
 }
 
 /// An error that ends a command with exit code 2.
@@ -157,6 +159,7 @@ where
         Command::TripTime(a) => cmd::trip::run_time(&a),
         Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
         Command::Boost(a) => cmd::boost::run(&a),
+        Command::Cost(a) => cmd::cost::run(&a),
     };
     match result {
         Ok(code) => code,

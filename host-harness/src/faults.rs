@@ -35,15 +35,19 @@ pub enum Fault {
     },
     /// The coil is open.
     OpenCoil,
-    /// The supply sags to a lower voltage.
+    /// The supply sags to a lower voltage, linearly over `ramp_s` (0: a step).
     SupplySag {
         /// New open-circuit supply voltage, V.
         supply_v: f64,
+        /// Ramp time, s.
+        ramp_s: f64,
     },
-    /// The supply surges to a higher voltage.
+    /// The supply surges to a higher voltage, linearly over `ramp_s` (0: a step).
     SupplySurge {
         /// New open-circuit supply voltage, V.
         supply_v: f64,
+        /// Ramp time, s.
+        ramp_s: f64,
     },
     /// The switch is stuck on.
     SwitchStuckOn,

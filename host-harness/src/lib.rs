@@ -7,6 +7,7 @@ mod cmd;
 pub mod controllers;
 pub mod demo;
 pub mod faults;
+pub mod firmware;
 pub mod plant;
 pub mod report;
 pub mod scenario;

@@ -56,7 +56,8 @@ fn a_trip_threshold_set_too_high_fails_on_peak_current() {
     let r = run(&mut ok_plant, &mut good, &cfg).unwrap();
     assert!(r.passed(), "{:?}", r.violations());
     let mut plant = valve_plant(20.0, 24.0, DIODE);
-    let mut bad = ValveDriver::new(driver_plan(0.120, 32.0, 20.0, 0.54, 0.45, 12.0).unwrap());
+    let mut bad =
+        ValveDriver::new(driver_plan(0.120, 32.0, 20.0, 0.54, 0.45, 12.0, 0.075).unwrap());
     let r = run(&mut plant, &mut bad, &cfg).unwrap();
     let failed: Vec<&str> = r.violations().iter().map(|p| p.name).collect();
     assert_eq!(failed, ["peak_current"], "{:?}", r.violations());

@@ -141,10 +141,19 @@ fn faults_that_must_trip() {
 #[test]
 fn faults_that_must_not_trip() {
     let cases = [
-        ("supply sag to 18 V", Fault::SupplySag { supply_v: 18.0 }),
+        (
+            "supply sag to 18 V (step)",
+            Fault::SupplySag {
+                supply_v: 18.0,
+                ramp_s: 0.0,
+            },
+        ),
         (
             "supply surge to 30 V",
-            Fault::SupplySurge { supply_v: 30.0 },
+            Fault::SupplySurge {
+                supply_v: 30.0,
+                ramp_s: 0.0,
+            },
         ),
         (
             "noisy current sensor (4 LSB)",
@@ -173,4 +182,41 @@ fn faults_that_must_not_trip() {
             0.0
         );
     }
+}
+
+#[test]
+fn re_energizes_only_after_the_off_timer_confirms_release() {
+    // Demand drops at 85 ms and returns 2 ms later, while the hold current (about 0.33 A)
+    // still decays through the diode: 4.8 ms to 75 mA by the closed form
+    // tau ln((I0 + Vf/R)/(Ix + Vf/R)) (CHECKS F2.1, computed). The driver must wait for its
+    // off-timer, so the first switch-on after the drop finds the current below 75 mA.
+    let mut plant = valve_plant(20.0, 24.0, DIODE);
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+    let demand = vec![(0.005, true), (0.085, false), (0.087, true), (0.150, false)];
+    let r = run(&mut plant, &mut ctrl, &valve_loop(0.2, demand, vec![])).unwrap();
+    assert_all_hold(&r);
+    let w = &r.waveform;
+    let k = (0..w.t_s.len())
+        .find(|&k| w.t_s[k] > 0.0851 && w.drive[k] > 0.0)
+        .expect("re-energized");
+    // Tick k switched on at its start, 20 µs before its sample.
+    let t_on = w.t_s[k] - 20e-6;
+    // The last PWM switch-off at or before the drop starts the final decay.
+    let off = r
+        .switch_offs
+        .iter()
+        .rev()
+        .find(|o| o.t_s <= 0.085 + 1e-12)
+        .expect("switched off at the demand drop");
+    let (tau, a) = (0.120 / 32.0, 0.7 / 32.0);
+    let closed = tau * ((off.current_a + a) / (0.075 + a)).ln();
+    let waited = t_on - off.t_s;
+    assert!(
+        waited >= closed,
+        "re-energized after {waited} s, decay to 75 mA takes {closed} s"
+    );
+    assert!(
+        waited < closed + 3e-4,
+        "but not much later: {waited} vs {closed}"
+    );
 }

@@ -5,8 +5,12 @@
 //! 2. `cargo clippy --workspace --all-targets -- -D warnings`
 //! 3. `cargo clippy -p lenz --features defmt,serde -- -D warnings` (the optional features)
 //! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe)
+//! 5. the target checks ([`target`]): Cortex-M builds of lenz, the on-target test image under
+//!    qemu, the disassembly check and the cost budget
 //!
 //! `cargo test --workspace` alone stays the quick host-only run.
+
+mod target;
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, ExitCode};
@@ -67,6 +71,7 @@ fn test() -> Result<(), String> {
         ],
     )?;
     step("host tests", &["test", "--workspace"])?;
+    target::checks()?;
     Ok(())
 }
 

@@ -10,15 +10,17 @@
 //!   1 mV offset error, 0.7 LSB noise; supply through an 11:1 divider, output (switch node)
 //!   through a 40:1 divider.
 //! - Timing: 10 kHz control tick, 20 kHz PWM, sampling 20 µs into the tick.
+//! - Heater rail: the boost stage of CHECKS section 3 at 500 kHz with its PI regulator.
 
 use super::{AdcChannel, Limits, LoopConfig, Release, Sensors};
-use crate::controllers::{ValveDriverConfig, ValvePlan};
+use crate::controllers::{BoostPlan, BoostRegulatorConfig, ValveDriverConfig, ValvePlan};
 use crate::faults::FaultAt;
 use crate::plant::{
-    Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec, Thermal,
+    Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec,
+    Thermal,
 };
 use lenz::Error;
-use lenz::kernel::MonitorParams;
+use lenz::kernel::{DutyLimiterParams, MonitorParams};
 
 /// Valve supply, V.
 pub const VALVE_SUPPLY_V: f64 = 24.0;
@@ -102,7 +104,8 @@ pub fn nominal(ch: &AdcChannel) -> AdcChannel {
 }
 
 /// The driver plan for a coil of `l_h`, `r20_ohm` (the firmware's model: winding plus switch
-/// and shunt; it measures the supply at the terminal, after the source resistance).
+/// and shunt; it measures the supply at the terminal, after the source resistance), with the
+/// demo's freewheel diode, releasing below `release_a`.
 ///
 /// # Errors
 ///
@@ -114,6 +117,7 @@ pub fn driver_plan(
     pull_in_a: f32,
     hold_duty: f32,
     trip_threshold_a: f32,
+    release_a: f32,
 ) -> Result<ValveDriverConfig, Error> {
     let coil = lenz::CoilParams::new(l_h, r20_ohm)
         .with_switch_resistance_ohm(0.1)
@@ -125,7 +129,8 @@ pub fn driver_plan(
         coil,
         temp_c,
         tick_s: TICK_NS as f32 * 1e-9,
-        clamp_v: 0.7,
+        clamp: lenz::turnoff::Clamp::Diode { forward_v: 0.7 },
+        release_a,
         pull_in_a,
         pull_in_min_s: 0.030,
         hold_duty,
@@ -146,23 +151,23 @@ pub fn driver_plan(
 
 /// The valve driver planned at `temp_c`: pull-in ends at 0.54 A (the 0.45 A pull-in current
 /// with 20 % margin) after at least 30 ms, hold at 45 % duty (about 0.33 A), instantaneous
-/// trip at 2 A.
+/// trip at 2 A, re-energize only after the off-timer confirms 75 mA.
 ///
 /// # Errors
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn valve_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45, 2.0)
+    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45, 2.0, 0.075)
 }
 
 /// The relay driver planned at `temp_c`: pull-in to 90 mA (75 mA must-operate plus 20 %),
-/// hold at 55 % duty, instantaneous trip at 0.5 A.
+/// hold at 55 % duty, instantaneous trip at 0.5 A, release below 10 mA.
 ///
 /// # Errors
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55, 0.5)
+    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55, 0.5, 0.010)
 }
 
 /// The valve's limits: switch rated 60 V and 10 mJ per switch-off, clamp diode 100 mJ, 10 A
@@ -198,6 +203,128 @@ pub fn valve_loop(duration_s: f64, demand: Vec<(f64, bool)>, faults: Vec<FaultAt
         demand,
         faults,
         limits: valve_limits(),
+        record_every: 1,
+    }
+}
+
+/// Boost switching period, ns (500 kHz).
+pub const BOOST_PWM_NS: u64 = 2_000;
+
+/// The heater rail of CHECKS section 3 (invented demo values): 5 V → 12 V, 10 µH with
+/// 40 mΩ DCR, switch 25 mΩ, diode 0.35 V, 22 µF with 5 mΩ ESR, 24 Ω heater; input 5 V behind
+/// 20 mΩ. Output precharged through the diode (the input was up before the rail is enabled).
+#[must_use]
+pub fn heater_rail(input_v: f64, load_ohm: f64) -> Boost {
+    let mut b = Boost::new(BoostSpec {
+        inductor: InductanceCurve::Linear { l_h: 10e-6 },
+        dcr_ohm: 0.040,
+        switch_on_resistance_ohm: 0.025,
+        diode_drop_v: 0.35,
+        output_c_f: 22e-6,
+        esr_ohm: 0.005,
+        load_ohm,
+        input_v,
+        source_resistance_ohm: 0.020,
+    })
+    .unwrap_or_else(|e| unreachable!("demo boost: {e}"));
+    b.settle_off();
+    b
+}
+
+/// Boost sense channels: inductor current through the same shunt chain as the valve; input
+/// through a 2:1 divider (6.6 V full scale), output through 7.5:1 (24.75 V full scale).
+#[must_use]
+pub fn boost_sensors() -> Sensors {
+    let s = sensors();
+    Sensors {
+        current: s.current,
+        supply: AdcChannel {
+            volts_per_unit: 0.5,
+            ..s.supply
+        },
+        output: AdcChannel {
+            volts_per_unit: 1.0 / 7.5,
+            ..s.output
+        },
+    }
+}
+
+/// The regulator plan: the heater rail stage with its 2 A inductor and 100 ns / 80 ns switch
+/// times, input window 4 … 6 V, 0.5 A heaviest load, light load 50 mA with the output kept
+/// below 20 V, 10 ms soft start, overvoltage cut at 14 V (resume at 13 V); PI gains
+/// 0.005 duty/V and 0.001 duty/V per tick (a crossover near 50 Hz, far below the 10.7 kHz LC
+/// resonance).
+///
+/// # Errors
+///
+/// The plan errors of [`BoostRegulatorConfig::new`].
+pub fn boost_regulator(bypass_limiter: bool) -> Result<BoostRegulatorConfig, Error> {
+    let stage = lenz::boost::BoostStageParams::new(10e-6, 500e3)
+        .with_inductor_resistance_ohm(0.040)
+        .with_switch_resistance_ohm(0.025)
+        .with_diode_drop_v(0.35)
+        .with_saturation_current_a(2.0)
+        .with_min_off_time_s(100e-9)
+        .with_min_on_time_s(80e-9)
+        .validate()?;
+    let s = boost_sensors();
+    BoostRegulatorConfig::new(&BoostPlan {
+        stage,
+        limiter: DutyLimiterParams {
+            input_v: lenz::Range::new("input_v", 4.0, 6.0)?,
+            output_v: 12.0,
+            max_load_current_a: 0.5,
+            light_load: Some(lenz::boost::LightLoad {
+                min_load_current_a: 0.05,
+                max_output_v: 20.0,
+            }),
+            input_v_per_count: s.supply.units_per_count() as f32,
+            output_v_per_count: s.output.units_per_count() as f32,
+            adc_max_counts: 4095,
+            duty_full_scale: 1000,
+            soft_start_s: 10e-3,
+            tick_s: TICK_NS as f32 * 1e-9,
+            overvoltage_v: 14.0,
+            resume_v: 13.0,
+            inductance_tol: 0.0,
+            resistance_tol: 0.0,
+        },
+        kp_per_v: 0.005,
+        ki_per_v_tick: 0.001,
+        bypass_limiter,
+    })
+}
+
+/// The rail's limits: switch current 2 A (the inductor's saturation current), switch rated
+/// 16 V, output 12 V ± 0.3 V from 70 ms on (and 70 ms after each plant fault: the recovery
+/// from a step to the idle load, through overvoltage cuts, takes about 60 ms).
+#[must_use]
+pub fn boost_limits() -> Limits {
+    Limits {
+        switch_voltage_rating_v: Some(16.0),
+        switch_current_limit_a: Some(2.0),
+        output_band: Some(super::Band {
+            target_v: 12.0,
+            tol_v: 0.3,
+            settle_s: 0.070,
+        }),
+        ..Limits::default()
+    }
+}
+
+/// A rail run: enabled at 1 ms for `duration_s`.
+#[must_use]
+pub fn boost_loop(duration_s: f64, faults: Vec<FaultAt>) -> LoopConfig {
+    LoopConfig {
+        tick_ns: TICK_NS,
+        pwm_period_ns: BOOST_PWM_NS,
+        duration_ns: (duration_s * 1e9).round() as u64,
+        sample_offset_ns: 20_000,
+        sensors: boost_sensors(),
+        seed: 0xb005,
+        demand: vec![(0.001, true)],
+        faults,
+        limits: boost_limits(),
         record_every: 1,
     }
 }

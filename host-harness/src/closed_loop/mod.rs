@@ -156,6 +156,10 @@ pub trait Plant {
     fn probe(&self) -> Probe;
     /// Applies a plant fault; `false` when the fault does not apply to this plant.
     fn inject(&mut self, fault: &Fault) -> bool;
+    /// Open-circuit supply (input) voltage in force, V.
+    fn supply_v(&self) -> f64;
+    /// Sets the open-circuit supply voltage (one step of a ramp), V; `false` if refused.
+    fn set_supply_v(&mut self, v: f64) -> bool;
     /// Highest switch voltage so far, V.
     fn peak_switch_v(&self) -> f64;
     /// Highest current through the switch so far, A.
@@ -196,7 +200,7 @@ impl Plant for CoilDrive {
                 self.open_coil();
                 true
             }
-            Fault::SupplySag { supply_v } | Fault::SupplySurge { supply_v } => {
+            Fault::SupplySag { supply_v, .. } | Fault::SupplySurge { supply_v, .. } => {
                 self.set_supply_v(supply_v)
             }
             Fault::SwitchStuckOn => {
@@ -206,6 +210,12 @@ impl Plant for CoilDrive {
             Fault::LoadStep { .. } => false,
             Fault::SensorStuck { .. } | Fault::SensorNoisy { .. } => true,
         }
+    }
+    fn supply_v(&self) -> f64 {
+        CoilDrive::supply_v(self)
+    }
+    fn set_supply_v(&mut self, v: f64) -> bool {
+        CoilDrive::set_supply_v(self, v)
     }
     fn peak_switch_v(&self) -> f64 {
         CoilDrive::peak_switch_v(self)
@@ -235,7 +245,7 @@ impl Plant for Boost {
     }
     fn inject(&mut self, fault: &Fault) -> bool {
         match *fault {
-            Fault::SupplySag { supply_v } | Fault::SupplySurge { supply_v } => {
+            Fault::SupplySag { supply_v, .. } | Fault::SupplySurge { supply_v, .. } => {
                 self.set_input_v(supply_v)
             }
             Fault::LoadStep { load_ohm } => self.set_load_ohm(load_ohm),
@@ -246,6 +256,12 @@ impl Plant for Boost {
             Fault::SensorStuck { .. } | Fault::SensorNoisy { .. } => true,
             _ => false,
         }
+    }
+    fn supply_v(&self) -> f64 {
+        self.input_v()
+    }
+    fn set_supply_v(&mut self, v: f64) -> bool {
+        self.set_input_v(v)
     }
     fn peak_switch_v(&self) -> f64 {
         Boost::peak_switch_v(self)
@@ -272,7 +288,8 @@ pub struct Band {
     pub target_v: f64,
     /// Allowed deviation, V.
     pub tol_v: f64,
-    /// Time after which the band applies (after start and after each load step), s.
+    /// Time after which the band applies (after start and after each plant fault: a load step,
+    /// an input sag or surge), s.
     pub settle_s: f64,
 }
 
@@ -510,6 +527,8 @@ pub fn run<P: Plant, C: Controller>(
     let mut band_worst = 0.0f64;
     let mut edges: Vec<(u64, Edge)> = Vec::with_capacity(128);
     let mut direction = Direction::Forward;
+    // A supply ramp in progress: (start s, end s, from V, to V).
+    let mut ramp: Option<(f64, f64, f64, f64)> = None;
     let n_ticks = cfg.duration_ns.div_ceil(cfg.tick_ns);
 
     for k in 0..n_ticks {
@@ -604,6 +623,13 @@ pub fn run<P: Plant, C: Controller>(
         for &(te, edge) in &edges {
             let te_s = te as f64 * NS;
             plant.advance_to(te_s);
+            if let Some((a, b, v0, v1)) = ramp {
+                let x = ((te_s - a) / (b - a)).clamp(0.0, 1.0);
+                plant.set_supply_v(v0 + (v1 - v0) * x);
+                if x >= 1.0 {
+                    ramp = None;
+                }
+            }
             observe(
                 plant,
                 te_s,
@@ -640,17 +666,24 @@ pub fn run<P: Plant, C: Controller>(
                             channel,
                             noise_rms_lsb,
                         } => sense.extra_noise[ch(channel)] = noise_rms_lsb,
-                        Fault::LoadStep { .. } => {
-                            if !plant.inject(&f.fault) {
-                                return Err(RunError::UnsupportedFault(f.fault));
-                            }
+                        Fault::SupplySag { supply_v, ramp_s }
+                        | Fault::SupplySurge { supply_v, ramp_s }
+                            if ramp_s > 0.0 && ramp_s.is_finite() =>
+                        {
+                            // Stepped at every edge of the ramp (at most half a PWM period
+                            // apart): a staircase within that resolution.
+                            ramp = Some((te_s, te_s + ramp_s, plant.supply_v(), supply_v));
                             if let Some(b) = &mut band_from {
-                                b.1 = te_s + b.0.settle_s;
+                                b.1 = te_s + ramp_s + b.0.settle_s;
                             }
                         }
                         other => {
                             if !plant.inject(&other) {
                                 return Err(RunError::UnsupportedFault(other));
+                            }
+                            // A disturbance of the plant restarts the settling window.
+                            if let Some(b) = &mut band_from {
+                                b.1 = te_s + b.0.settle_s;
                             }
                         }
                     }

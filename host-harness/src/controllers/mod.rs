@@ -4,8 +4,11 @@
 //! [`Controller`](crate::closed_loop::Controller) impls are the only harness-specific part.
 //!
 //! - [`valve`]: valve/relay driver: pull-in at full voltage, PWM hold, current estimator,
-//!   plausibility monitor, latched trip.
+//!   plausibility monitor, trip detector, off-timer before re-energizing.
+//! - [`boost`]: boost regulator: PI voltage loop behind the duty limiter.
 
+pub mod boost;
 pub mod valve;
 
+pub use boost::{BoostPlan, BoostRegulator, BoostRegulatorConfig};
 pub use valve::{ValveDriver, ValveDriverConfig, ValvePlan};

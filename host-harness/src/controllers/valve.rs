@@ -12,15 +12,20 @@
 //!    off until the driver is reset.
 //! 4. State machine: `Idle` → (demand) → `PullIn` (switch on until the estimate reaches the
 //!    pull-in current and the minimum pull-in time has passed) → `Hold` (PWM at the hold duty)
-//!    → (demand off) → `Idle`.
+//!    → (demand off or trip) → `Releasing`: the tracking off-timer follows the decay from the
+//!    estimate at switch-off through the clamp, and only when it reports the current below the
+//!    release current does the driver return to `Idle` and accept a new demand. So the valve
+//!    is never re-energized while it may still be held (or, on an H-bridge, never reversed
+//!    into a flowing current).
 //!
 //! All per-tick arithmetic is integer; the plan ([`ValvePlan`]) is f32 at start-up.
 
 use crate::closed_loop::{Actuation, AdcChannel, Controller, Sensed, Telemetry};
 use lenz::kernel::{
-    EstimatorConfig, EstimatorState, MonitorConfig, MonitorParams, MonitorState, SenseScale,
-    TripConfig, TripParams, TripState,
+    EstimatorConfig, EstimatorState, MonitorConfig, MonitorParams, MonitorState, OffStatus,
+    OffTimerState, SenseScale, TrackingOffTimer, TripConfig, TripParams, TripState,
 };
+use lenz::turnoff::Clamp;
 use lenz::{Coil, Error};
 
 /// Plan-side description of the driver.
@@ -32,8 +37,10 @@ pub struct ValvePlan {
     pub temp_c: f32,
     /// Control tick, s.
     pub tick_s: f32,
-    /// Freewheel clamp voltage the estimator's off path uses, V.
-    pub clamp_v: f32,
+    /// The clamp network (the estimator's and the off-timer's off path).
+    pub clamp: Clamp,
+    /// Release current: below it the valve has dropped out and may be re-energized, A.
+    pub release_a: f32,
     /// Pull-in ends when the estimate reaches this, A.
     pub pull_in_a: f32,
     /// And not before this time, s (armature travel).
@@ -55,6 +62,7 @@ pub struct ValvePlan {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct ValveDriverConfig {
     estimator: EstimatorConfig,
+    off_timer: TrackingOffTimer,
     monitor: MonitorConfig,
     trip: TripConfig,
     current_zero_counts: u16,
@@ -74,8 +82,9 @@ impl ValveDriverConfig {
     /// The estimator's or monitor's plan errors, or a duty outside 0 ..= 1 (`hold_duty`), a
     /// negative pull-in time (`pull_in_min_s`) or a bad sense scale.
     pub fn new(p: &ValvePlan) -> Result<Self, Error> {
-        let estimator =
-            EstimatorConfig::with_clamp(&p.coil, p.temp_c, p.tick_s, 0.0, p.clamp_v, false)?;
+        let off_timer = TrackingOffTimer::new(&p.coil, p.temp_c, p.tick_s, &p.clamp, p.release_a)?;
+        // The off-timer's estimator has the same on path and the clamp's off path.
+        let estimator = *off_timer.estimator();
         let scale = SenseScale::new(
             p.current_adc.units_per_count() as f32,
             p.current_adc.zero_counts() as f32,
@@ -127,12 +136,13 @@ impl ValveDriverConfig {
         let mv_per_count = p.supply_adc.units_per_count() * 1000.0;
         Ok(Self {
             estimator,
+            off_timer,
             monitor,
             trip,
             current_zero_counts: zero,
             supply_mv_per_count_q16: (mv_per_count * 65536.0).round() as i32,
             supply_zero_counts: p.supply_adc.zero_counts().round() as i32,
-            clamp_mv: (p.clamp_v * 1000.0).round() as i32,
+            clamp_mv: estimator.off_path().clamp_mv,
             pull_in_ua: (p.pull_in_a * 1e6).round() as i32,
             pull_in_min_ticks: (p.pull_in_min_s / p.tick_s).ceil() as u32,
             hold_duty_q16: (p.hold_duty * 65536.0).round() as i32,
@@ -145,6 +155,7 @@ enum Phase {
     Idle,
     PullIn { ticks: u32 },
     Hold,
+    Releasing,
 }
 
 /// What the switch did during the previous tick (for the estimator).
@@ -162,6 +173,7 @@ pub struct ValveDriver {
     est: EstimatorState,
     mon: MonitorState,
     trip: TripState,
+    off: OffTimerState,
     phase: Phase,
     applied: Applied,
     prev_estimate_ua: i32,
@@ -177,11 +189,18 @@ impl ValveDriver {
             est: EstimatorState::new(),
             mon: MonitorState::new(),
             trip: TripState::new(),
+            off: OffTimerState::new(),
             phase: Phase::Idle,
             applied: Applied::Off,
             prev_estimate_ua: 0,
             tripped: false,
         }
+    }
+
+    /// `true` while the off-timer has not yet confirmed the release.
+    #[must_use]
+    pub fn releasing(&self) -> bool {
+        self.phase == Phase::Releasing
     }
 
     /// The latched monitor fault, if any.
@@ -228,11 +247,22 @@ impl Controller for ValveDriver {
         }
         self.prev_estimate_ua = estimate_ua;
 
-        let (act, applied) = if self.tripped || !s.demand {
+        if self.phase == Phase::Releasing
+            && c.off_timer.tick(&mut self.off, supply_mv) == OffStatus::Released
+        {
             self.phase = Phase::Idle;
+        }
+        let energized = matches!(self.phase, Phase::PullIn { .. } | Phase::Hold);
+        let (act, applied) = if self.tripped || !s.demand {
+            if energized {
+                // Switch-off: follow the decay from the present estimate.
+                c.off_timer.start(&mut self.off, estimate_ua);
+                self.phase = Phase::Releasing;
+            }
             (Actuation::OFF, Applied::Off)
         } else {
             match self.phase {
+                Phase::Releasing => (Actuation::OFF, Applied::Off),
                 Phase::Idle => {
                     self.phase = Phase::PullIn { ticks: 0 };
                     (Actuation::ON, Applied::On)

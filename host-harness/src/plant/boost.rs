@@ -224,6 +224,12 @@ impl Boost {
         }
     }
 
+    /// Input (open-circuit) voltage in force, V.
+    #[must_use]
+    pub fn input_v(&self) -> f64 {
+        self.spec.input_v
+    }
+
     /// Sets the input voltage (sag, surge), V. Negative or non-finite values are refused.
     pub fn set_input_v(&mut self, v: f64) -> bool {
         if v >= 0.0 && v.is_finite() {

@@ -1109,12 +1109,11 @@ impl CoilDrive {
     }
 
     /// Sets the open-circuit supply voltage (sag, surge), V. Negative or non-finite values are
-    /// ignored and reported as `false`.
+    /// ignored and reported as `false`. (The closed loop records the fault event.)
     pub fn set_supply_v(&mut self, v: f64) -> bool {
         if v.is_finite() && v >= 0.0 {
             self.supply_v = v;
             self.cache = None;
-            self.event(PlantEventKind::Fault);
             true
         } else {
             false
