@@ -14,7 +14,7 @@ use std::process::ExitCode;
 
 use lenz::boost::{BoostCorner, BoostSpread, BoostStageParams};
 use lenz::bounds::{CoilCorner, CoilSpread};
-use lenz::turnoff::{Clamp, TurnOffSpread};
+use lenz::turnoff::TurnOffSpread;
 use lenz::{Bound, CoilParams, Range};
 use serde::Serialize;
 
@@ -132,31 +132,6 @@ fn err(what: &str) -> impl Fn(lenz::Error) -> CliError + '_ {
     move |e| CliError(format!("{what}: {e}"))
 }
 
-fn turnoff_clamp(c: &ClampSpec) -> Clamp {
-    match *c {
-        ClampSpec::Freewheel { diode_drop } => Clamp::Diode {
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::DiodeZener { diode_drop, zener } => Clamp::Zener {
-            zener_v: zener.get() as f32,
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::AcrossSwitch { voltage } => Clamp::Switch {
-            clamp_v: voltage.get() as f32,
-        },
-        ClampSpec::ResistorDiode {
-            resistor,
-            diode_drop,
-        } => Clamp::Resistor {
-            resistance_ohm: resistor.get() as f32,
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::Unclamped { capacitance } => Clamp::Unclamped {
-            capacitance_f: capacitance.get() as f32,
-        },
-    }
-}
-
 fn max_verdict(check: &str, fig: Option<&Figure>, limit: f64, unit: &'static str) -> Verdict {
     let value = fig.map(|f| f.max);
     Verdict {
@@ -197,7 +172,7 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
     .map_err(err("system.coil"))?;
     let off = TurnOffSpread {
         spread,
-        clamp: turnoff_clamp(clamp),
+        clamp: crate::scenario::run::turnoff_clamp(clamp),
     };
     let mut figures = Vec::new();
     let mut verdicts = Vec::new();

@@ -325,11 +325,17 @@ fn loop_config(file: &File, sc: &Scenario, p: &Params, pt: &Point, record: Recor
                 demand.push((t_s, c == Command::On));
                 continue;
             }
-            Action::Supply(v) => {
+            Action::Supply(v, ramp_s) => {
                 let f = if v < supply_now {
-                    Fault::SupplySag { supply_v: v }
+                    Fault::SupplySag {
+                        supply_v: v,
+                        ramp_s,
+                    }
                 } else {
-                    Fault::SupplySurge { supply_v: v }
+                    Fault::SupplySurge {
+                        supply_v: v,
+                        ramp_s,
+                    }
                 };
                 supply_now = v;
                 f
@@ -421,22 +427,32 @@ fn channel(c: super::schema::Channel) -> Channel {
     }
 }
 
-/// The estimator's clamp voltage for the coil controller.
-fn estimator_clamp_v(file: &File) -> Result<f64, RunSetupError> {
-    let Some(super::Controller::Coil(c)) = Some(&file.controller) else {
-        return Err(RunSetupError("controller: not a coil controller".into()));
-    };
-    if let Some(v) = c.estimator_clamp {
-        return Ok(v.get());
-    }
-    match file.system.clamp {
-        Some(ClampSpec::Freewheel { diode_drop }) => Ok(diode_drop.get()),
-        Some(ClampSpec::DiodeZener { diode_drop, zener }) => Ok(diode_drop.get() + zener.get()),
-        _ => Err(RunSetupError(
-            "controller.coil.estimator_clamp: needed with this clamp kind (the estimator \
-             models a constant clamp voltage across the coil)"
-                .into(),
-        )),
+/// The plan-side form of a clamp (the firmware's off path and the plan's switch-off
+/// figures).
+#[must_use]
+pub fn turnoff_clamp(c: &ClampSpec) -> lenz::turnoff::Clamp {
+    use lenz::turnoff::Clamp as T;
+    match *c {
+        ClampSpec::Freewheel { diode_drop } => T::Diode {
+            forward_v: diode_drop.get() as f32,
+        },
+        ClampSpec::DiodeZener { diode_drop, zener } => T::Zener {
+            zener_v: zener.get() as f32,
+            forward_v: diode_drop.get() as f32,
+        },
+        ClampSpec::AcrossSwitch { voltage } => T::Switch {
+            clamp_v: voltage.get() as f32,
+        },
+        ClampSpec::ResistorDiode {
+            resistor,
+            diode_drop,
+        } => T::Resistor {
+            resistance_ohm: resistor.get() as f32,
+            forward_v: diode_drop.get() as f32,
+        },
+        ClampSpec::Unclamped { capacitance } => T::Unclamped {
+            capacitance_f: capacitance.get() as f32,
+        },
     }
 }
 
@@ -447,16 +463,16 @@ fn estimator_clamp_v(file: &File) -> Result<f64, RunSetupError> {
 /// The plan rejects a value (named).
 pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSetupError> {
     let s = &file.system;
-    let (Some(coil), super::Controller::Coil(c)) = (s.coil, &file.controller) else {
+    let (Some(coil), Some(clamp), super::Controller::Coil(c)) = (s.coil, s.clamp, &file.controller)
+    else {
         return Err(RunSetupError(
-            "system: a coil controller needs [system.coil]".into(),
+            "system: a coil controller needs [system.coil] and a clamp".into(),
         ));
     };
-    let clamp_v = estimator_clamp_v(file)?;
+    let clamp = turnoff_clamp(&clamp);
     let model = lenz::CoilParams::new(coil.inductance.get() as f32, coil.resistance.get() as f32)
         .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
         .with_shunt_resistance_ohm(s.sense.shunt.get() as f32)
-        .with_diode_drop_v(clamp_v as f32)
         .validate()
         .map_err(lenz_err("system.coil"))?;
     let nominal = sensors(file, &Params::NOMINAL, false);
@@ -465,7 +481,8 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
         coil: model,
         temp_c: temp_c as f32,
         tick_s: s.tick.get() as f32,
-        clamp_v: clamp_v as f32,
+        clamp,
+        release_a: coil.release_current.get() as f32,
         pull_in_a: c.pull_in_current.get() as f32,
         pull_in_min_s: c.pull_in_min_time.get() as f32,
         hold_duty: c.hold_duty.get() as f32,

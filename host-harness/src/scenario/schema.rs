@@ -462,9 +462,6 @@ pub struct CoilController {
     /// Instantaneous overcurrent trip threshold, A (one sample at or above it trips and
     /// latches).
     pub trip_current: Pos<Ampere>,
-    /// Clamp voltage the estimator's off path assumes, V (default: from the clamp, for a
-    /// freewheel diode or a diode and zener).
-    pub estimator_clamp: Option<NonNeg<Volt>>,
     /// Plausibility monitor thresholds.
     pub monitor: Monitor,
 }
@@ -496,7 +493,6 @@ struct RawCoilController {
     pull_in_min_time: NonNeg<Second>,
     hold_duty: Pos<Plain>,
     trip_current: Pos<Ampere>,
-    estimator_clamp: Option<NonNeg<Volt>>,
     monitor: Monitor,
 }
 
@@ -511,7 +507,6 @@ impl TryFrom<RawCoilController> for CoilController {
             pull_in_min_time: r.pull_in_min_time,
             hold_duty: r.hold_duty,
             trip_current: r.trip_current,
-            estimator_clamp: r.estimator_clamp,
             monitor: r.monitor,
         })
     }
@@ -699,8 +694,8 @@ pub enum Action {
     Command(Command),
     /// A fault.
     Fault(FaultSpec),
-    /// A supply step to this voltage, V.
-    Supply(f64),
+    /// A supply change to `.0` volts, linear over `.1` seconds (0: a step).
+    Supply(f64, f64),
     /// A load step to this resistance, Ω (boost).
     Load(f64),
 }
@@ -745,6 +740,7 @@ struct RawEvent {
     residual_resistance: Option<NonNeg<Ohm>>,
     channel: Option<Channel>,
     noise: Option<NonNeg<Plain>>,
+    ramp: Option<NonNeg<Second>>,
 }
 
 impl TryFrom<RawEvent> for Event {
@@ -767,12 +763,14 @@ impl TryFrom<RawEvent> for Event {
             ("residual_resistance", r.residual_resistance.is_some()),
             ("channel", r.channel.is_some()),
             ("noise", r.noise.is_some()),
+            ("ramp", r.ramp.is_some()),
         ];
         let allowed: &[&str] = match r.fault {
             Some(Fault::ShortedCoil) => &["residual_inductance", "residual_resistance"],
             Some(Fault::ShortedTurns) => &["factor"],
             Some(Fault::SensorStuck) => &["channel"],
             Some(Fault::SensorNoisy) => &["channel", "noise"],
+            None if r.supply.is_some() => &["ramp"],
             _ => &[],
         };
         if let Some((k, _)) = given.iter().find(|(k, g)| *g && !allowed.contains(k)) {
@@ -809,7 +807,7 @@ impl TryFrom<RawEvent> for Event {
                     r.noise.ok_or_else(|| need("noise"))?.get(),
                 ),
             }),
-            (_, _, Some(v), _) => Action::Supply(v.get()),
+            (_, _, Some(v), _) => Action::Supply(v.get(), r.ramp.map_or(0.0, NonNeg::get)),
             (_, _, _, Some(l)) => Action::Load(l.get()),
             (None, None, None, None) => {
                 return Err("an event needs one of `command`, `fault`, `supply`, `load`".into());
