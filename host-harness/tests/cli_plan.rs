@@ -104,3 +104,39 @@ fn failing_verdict_exits_1_and_bad_file_exits_2() {
     let e = String::from_utf8_lossy(&out.stderr);
     assert!(e.contains("key `system.switch.breakdown`"), "{e}");
 }
+
+#[test]
+fn heater_rail_at_its_nominal_point() {
+    // The heater rail without spreads: 5 V in, 0.5 A out. CHECKS C3.2 (computed: closed form
+    // cross-checked numerically; loss model of Erickson & Maksimović, Fundamentals of Power
+    // Electronics, 2nd ed., Ch. 3): duty 0.6007203716, efficiency 0.9582711081, peak inductor
+    // current 1.54772575 A, saturation margin 0.2261371252 with I_sat 2 A.
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join("plan-boost");
+    std::fs::create_dir_all(&dir).expect("dir");
+    let boost = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios/boost.toml");
+    let text = std::fs::read_to_string(boost).expect("boost");
+    let nominal = text
+        .replacen("min = \"4.5V\"", "min = \"5V\"", 1)
+        .replacen("max = \"5.5V\"", "max = \"5V\"", 1)
+        .replacen("source_resistance = \"20mohm\"", "source_resistance = 0", 1)
+        .replacen("inductance_tolerance = 0.1", "inductance_tolerance = 0", 1)
+        .replacen("resistance_tolerance = 0.1", "resistance_tolerance = 0", 1)
+        .replacen("load_tolerance = 0.05", "load_tolerance = 0", 1);
+    let file = dir.join("nominal.toml");
+    std::fs::write(&file, nominal).expect("write");
+    let out = lenz(&["plan", file.to_str().expect("utf-8"), "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout)
+        .unwrap_or_else(|e| panic!("{e}: {}", String::from_utf8_lossy(&out.stderr)));
+    for (name, want, rtol) in [
+        ("duty", 0.6007203716, 1e-5),
+        ("efficiency", 0.9582711081, 1e-5),
+        ("peak inductor current", 1.54772575, 1e-5),
+        ("saturation margin", 0.2261371252, 1e-4),
+    ] {
+        let f = figure(&v, name);
+        for end in ["min", "max"] {
+            let got = f[end].as_f64().expect("value");
+            assert!(close(got, want, rtol), "{name} {end}: {got} vs {want}");
+        }
+    }
+}

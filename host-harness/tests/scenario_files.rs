@@ -31,6 +31,7 @@ fn shipped_files_parse() {
     for (name, text) in [
         ("valve.toml", VALVE),
         ("relay.toml", include_str!("../scenarios/relay.toml")),
+        ("boost.toml", include_str!("../scenarios/boost.toml")),
     ] {
         let f = scenario::parse(name, text).unwrap_or_else(|e| panic!("{e}"));
         assert!(!f.scenarios.is_empty());

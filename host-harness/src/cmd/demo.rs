@@ -25,6 +25,7 @@ pub struct Args {
 pub const SCENARIO_FILES: &[(&str, &str)] = &[
     ("valve.toml", include_str!("../../scenarios/valve.toml")),
     ("relay.toml", include_str!("../../scenarios/relay.toml")),
+    ("boost.toml", include_str!("../../scenarios/boost.toml")),
 ];
 
 /// One worst-case figure of a demo coil.

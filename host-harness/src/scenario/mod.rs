@@ -325,7 +325,9 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
             let key = format!("scenario[{k}].check[{j}].property");
             let bad = match c.property {
                 Property::OutputBand if !is_boost => Some("output-band applies to a boost stage"),
-                Property::ReleaseTime | Property::ClampEnergy if is_boost => {
+                Property::ReleaseTime | Property::ClampEnergy | Property::EstimatorError
+                    if is_boost =>
+                {
                     Some("applies to a coil drive")
                 }
                 _ => None,

@@ -27,7 +27,9 @@ use super::schema::{
     RelTolerance, Scenario,
 };
 use crate::closed_loop::{self, AdcChannel, Band, Limits, LoopConfig, Release, RunResult, Sensors};
-use crate::controllers::{ValveDriver, ValveDriverConfig, ValvePlan};
+use crate::controllers::{
+    BoostPlan, BoostRegulator, BoostRegulatorConfig, ValveDriver, ValveDriverConfig, ValvePlan,
+};
 use crate::faults::{Channel, Fault, FaultAt};
 use crate::plant::{
     Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec,
@@ -556,6 +558,73 @@ fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetup
     .map_err(lenz_err("system"))
 }
 
+/// The plan-side boost stage of the file (nominal values).
+///
+/// # Errors
+///
+/// The plan rejects a value (named).
+pub fn boost_stage(file: &File, b: &BoostStage) -> Result<lenz::boost::BoostStage, RunSetupError> {
+    let s = &file.system;
+    lenz::boost::BoostStageParams::new(b.inductance.get() as f32, s.pwm_frequency.get() as f32)
+        .with_inductor_resistance_ohm(b.dcr.get() as f32)
+        .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
+        .with_diode_drop_v(b.diode_drop.get() as f32)
+        .with_saturation_current_a(b.saturation_current.get() as f32)
+        .with_min_off_time_s(b.min_off_time.get() as f32)
+        .with_min_on_time_s(b.min_on_time.get() as f32)
+        .validate()
+        .map_err(lenz_err("system.boost"))
+}
+
+/// The boost regulator's plan from the file's nominal values and the nominal sense chain.
+///
+/// # Errors
+///
+/// The plan rejects a value (named).
+pub fn boost_regulator(
+    file: &File,
+    b: &BoostStage,
+    c: &super::BoostController,
+) -> Result<BoostRegulatorConfig, RunSetupError> {
+    let s = &file.system;
+    let nominal = sensors(file, &Params::NOMINAL, false);
+    let adc_max = ((1u32 << s.sense.adc_bits) - 1).min(u32::from(u16::MAX)) as u16;
+    BoostRegulatorConfig::new(&BoostPlan {
+        stage: boost_stage(file, b)?,
+        limiter: lenz::kernel::DutyLimiterParams {
+            input_v: lenz::Range::new(
+                "input_v",
+                c.input_min.get() as f32,
+                c.input_max.get() as f32,
+            )
+            .map_err(lenz_err("controller.boost"))?,
+            output_v: b.output.get() as f32,
+            max_load_current_a: c.max_load_current.get() as f32,
+            light_load: match (c.light_load_current, c.light_load_max_output) {
+                (Some(i), Some(v)) => Some(lenz::boost::LightLoad {
+                    min_load_current_a: i.get() as f32,
+                    max_output_v: v.get() as f32,
+                }),
+                _ => None,
+            },
+            input_v_per_count: nominal.supply.units_per_count() as f32,
+            output_v_per_count: nominal.output.units_per_count() as f32,
+            adc_max_counts: adc_max,
+            duty_full_scale: c.duty_full_scale,
+            soft_start_s: c.soft_start.get() as f32,
+            tick_s: s.tick.get() as f32,
+            overvoltage_v: c.overvoltage.get() as f32,
+            resume_v: c.resume.get() as f32,
+            inductance_tol: b.inductance_tolerance.get() as f32,
+            resistance_tol: b.resistance_tolerance.get() as f32,
+        },
+        kp_per_v: c.kp.get() as f32,
+        ki_per_v_tick: c.ki.get() as f32,
+        bypass_limiter: false,
+    })
+    .map_err(lenz_err("controller.boost"))
+}
+
 /// The boost plant of a run.
 ///
 /// # Errors
@@ -609,9 +678,19 @@ pub fn run(
             let mut ctrl = ValveDriver::new(coil_driver(file, pt.temp_c)?);
             closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
         }
-        super::Controller::Boost(_) => Err(RunSetupError(
-            "controller.boost: the boost regulator is not available in this build".into(),
-        )),
+        super::Controller::Boost(c) => {
+            let Some(b) = &file.system.boost else {
+                return Err(RunSetupError(
+                    "system: a boost controller needs [system.boost]".into(),
+                ));
+            };
+            let mut plant = boost_plant(file, b, p, pt.supply_v)?;
+            // The input was up before the rail is enabled: the output starts precharged
+            // through the diode.
+            plant.settle_off();
+            let mut ctrl = BoostRegulator::new(boost_regulator(file, b, c)?);
+            closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
+        }
     }
 }
 

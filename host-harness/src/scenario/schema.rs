@@ -512,22 +512,85 @@ impl TryFrom<RawCoilController> for CoilController {
     }
 }
 
-/// Parameters of the boost regulator.
+/// Parameters of the boost regulator (PI loop behind the duty limiter kernel).
 #[derive(Debug, Clone, Copy, Deserialize, Serialize)]
-#[serde(deny_unknown_fields)]
+#[serde(deny_unknown_fields, try_from = "RawBoostController")]
 pub struct BoostController {
     /// Proportional gain, duty per volt of error.
     pub kp: NonNeg<Plain>,
-    /// Integral gain, duty per volt-second of error.
+    /// Integral gain, duty per volt of error per tick.
     pub ki: NonNeg<Plain>,
-    /// Highest duty the limiter allows, 0 … 1.
-    pub max_duty: Pos<Plain>,
-    /// Soft-start ramp time of the duty limit, s.
+    /// Input window of the limiter: readings outside it give duty 0, V.
+    pub input_min: Pos<Volt>,
+    /// Upper end of the input window, V.
+    pub input_max: Pos<Volt>,
+    /// Heaviest load current the limiter's tables are planned for, A.
+    pub max_load_current: Pos<Ampere>,
+    /// Lightest load current (the light-load overvoltage limit), A; with
+    /// `light_load_max_output`.
+    pub light_load_current: Option<Pos<Ampere>>,
+    /// Highest output allowed at the lightest load, V.
+    pub light_load_max_output: Option<Pos<Volt>>,
+    /// Soft-start ramp of the duty from 0 to full scale, s.
     pub soft_start: NonNeg<Second>,
-    /// Output voltage at which the limiter cuts the duty to zero, V.
+    /// Output voltage at which the limiter cuts switching, V.
     pub overvoltage: Pos<Volt>,
-    /// Instantaneous trip current of the inductor, A.
-    pub trip_current: Pos<Ampere>,
+    /// Output voltage at or below which switching resumes, V.
+    pub resume: Pos<Volt>,
+    /// Duty register value for duty 1 (the PWM timer period), counts.
+    pub duty_full_scale: u16,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawBoostController {
+    kp: NonNeg<Plain>,
+    ki: NonNeg<Plain>,
+    input_min: Pos<Volt>,
+    input_max: Pos<Volt>,
+    max_load_current: Pos<Ampere>,
+    light_load_current: Option<Pos<Ampere>>,
+    light_load_max_output: Option<Pos<Volt>>,
+    soft_start: NonNeg<Second>,
+    overvoltage: Pos<Volt>,
+    resume: Pos<Volt>,
+    #[serde(default = "thousand")]
+    duty_full_scale: u16,
+}
+
+fn thousand() -> u16 {
+    1000
+}
+
+impl TryFrom<RawBoostController> for BoostController {
+    type Error = String;
+    fn try_from(r: RawBoostController) -> Result<Self, String> {
+        if r.input_min.get() >= r.input_max.get() {
+            return Err("key `input_min`: must lie below `input_max`".into());
+        }
+        if r.resume.get() > r.overvoltage.get() {
+            return Err("key `resume`: must not lie above `overvoltage`".into());
+        }
+        if r.light_load_current.is_some() != r.light_load_max_output.is_some() {
+            return Err("keys `light_load_current` and `light_load_max_output` go together".into());
+        }
+        if r.duty_full_scale < 2 {
+            return Err("key `duty_full_scale`: at least 2 counts".into());
+        }
+        Ok(BoostController {
+            kp: r.kp,
+            ki: r.ki,
+            input_min: r.input_min,
+            input_max: r.input_max,
+            max_load_current: r.max_load_current,
+            light_load_current: r.light_load_current,
+            light_load_max_output: r.light_load_max_output,
+            soft_start: r.soft_start,
+            overvoltage: r.overvoltage,
+            resume: r.resume,
+            duty_full_scale: r.duty_full_scale,
+        })
+    }
 }
 
 /// Distribution of a parameter in a sweep.
