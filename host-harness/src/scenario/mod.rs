@@ -389,6 +389,7 @@ mod tests {
         assert_eq!(line_col(t, 0), (1, 1));
         assert_eq!(line_col(t, 6), (2, 1));
         assert_eq!(line_col(t, 11), (2, 6));
-        assert_eq!(line_col(t, 16), (3, 3));
+        assert_eq!(line_col(t, 15), (3, 3));
+        assert_eq!(line_col(t, 99), (3, 8));
     }
 }
