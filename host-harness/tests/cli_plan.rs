@@ -69,6 +69,21 @@ fn valve_figures_and_corners() {
         close(f["max"].as_f64().expect("max"), t, 2e-3),
         "{f} vs {t}"
     );
+    // Trip band of the 2 A threshold over the chain's ±0.5 % gain and 1 mV offset at the ADC
+    // (50 µV input-referred): code = ceil(I/I_LSB), I = (code·Vref/2^N/G − Vos)/Rsh at each
+    // corner (CHECKS F4.2 form, TI current sensing tutorial part III: worst case = corners).
+    let lsb = 3.3 / 4096.0 / (0.010 * 20.0);
+    let code = (2.0f64 / lsb).ceil();
+    let at = |g: f64, vos: f64| (code * 3.3 / 4096.0 / g - vos) / 0.010;
+    let f = figure(&v, "trip current (sense tolerance band)");
+    assert!(
+        close(f["min"].as_f64().expect("min"), at(20.1, 50e-6), 1e-5),
+        "{f}"
+    );
+    assert!(
+        close(f["max"].as_f64().expect("max"), at(19.9, -50e-6), 1e-5),
+        "{f}"
+    );
     let verdicts = v["verdicts"].as_array().expect("verdicts");
     assert!(verdicts.len() >= 5);
     assert!(verdicts.iter().all(|x| x["pass"] == true));

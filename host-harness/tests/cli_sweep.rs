@@ -205,3 +205,25 @@ fn bad_arguments_exit_2() {
         );
     }
 }
+
+#[test]
+fn histograms_as_svg() {
+    let dir = tmp("sweep-plot");
+    let out = lenz(&[
+        "sweep",
+        &valve(),
+        "--runs",
+        "12",
+        "--seed",
+        "5",
+        "--plot",
+        dir.to_str().expect("utf-8"),
+    ]);
+    assert!(matches!(out.status.code(), Some(0 | 1)));
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("runs passed every property"), "{text}");
+    let svg = std::fs::read_to_string(dir.join("two-open-close-cycles--peak-current.svg"))
+        .expect("histogram");
+    assert!(svg.starts_with("<svg"));
+    assert!(svg.contains("12 runs") && svg.contains("\nlimit\n") && svg.contains("<rect"));
+}

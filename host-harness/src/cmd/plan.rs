@@ -14,6 +14,7 @@ use std::process::ExitCode;
 
 use lenz::boost::{BoostCorner, BoostSpread, BoostStageParams};
 use lenz::bounds::{CoilCorner, CoilSpread};
+use lenz::trip::{SenseChain, SenseParams};
 use lenz::turnoff::TurnOffSpread;
 use lenz::{Bound, CoilParams, Range};
 use serde::Serialize;
@@ -202,6 +203,41 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
         off.release_time_s(Some(coil.release_current.get() as f32)),
     )
     .map_err(err("release time"))?;
+    // The controller's instantaneous trip: the code it compares against, and the band of true
+    // currents that trip at that code over the sense chain's gain and offset errors (the
+    // chain's own worst-case corner search, lenz::trip::SenseChain).
+    if let crate::scenario::Controller::Coil(c) = &f.controller {
+        let sense = &s.sense;
+        let chain = SenseChain::new(&SenseParams {
+            shunt_ohm: sense.shunt.get() as f32,
+            shunt_tol: 0.0,
+            gain: sense.gain.get() as f32,
+            gain_tol: sense.gain_error.get().abs() as f32,
+            offset_v: (sense.offset.get().abs() / sense.gain.get()) as f32,
+            vref_v: sense.adc_reference.get() as f32,
+            vref_tol: 0.0,
+            bits: sense.adc_bits as u8,
+        })
+        .map_err(err("system.sense"))?;
+        let code = chain
+            .code_for_a(c.trip_current.get() as f32)
+            .map_err(err("controller.coil.trip_current"))?;
+        let band = chain
+            .band(code)
+            .map_err(err("controller.coil.trip_current"))?;
+        figures.push(figure(
+            "trip current (sense tolerance band)",
+            "A",
+            &band,
+            |k| {
+                format!(
+                    "code {code}, gain {:.3}, offset {}",
+                    k[1],
+                    si(k[2].into(), "V")
+                )
+            },
+        ));
+    }
     let find = |name: &str| figures.iter().find(|f| f.figure == name);
     let r = &s.ratings;
     if let Some(v) = r.switch_voltage {
@@ -225,6 +261,27 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
             v.get(),
             "A",
         ));
+    }
+    if let (Some(trip), Some(steady)) = (
+        find("trip current (sense tolerance band)"),
+        find("steady current"),
+    ) {
+        verdicts.push(Verdict {
+            check: "lowest trip current > highest steady current (no nuisance trip)".into(),
+            value: Some(trip.min),
+            limit: steady.max,
+            unit: "A",
+            pass: trip.min > steady.max,
+            note: Some(format!("steady current worst at {}", steady.max_text)),
+        });
+        if let Some(v) = r.switch_current {
+            verdicts.push(max_verdict(
+                "highest trip current ≤ switch current rating",
+                Some(trip),
+                v.get(),
+                "A",
+            ));
+        }
     }
     let across_switch = matches!(clamp, ClampSpec::AcrossSwitch { .. });
     let energy_rating = if across_switch {

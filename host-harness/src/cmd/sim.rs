@@ -305,5 +305,9 @@ pub fn describe(p: &Params) -> String {
     if let Some(t) = p.temp_c {
         parts.push(format!("coil {t:.1} °C"));
     }
-    parts.join(", ")
+    let mut s = parts.join(", ");
+    if p.supply_v.is_some() || p.temp_c.is_some() {
+        s.push_str(" (as drawn: a scenario that sets its own supply or temperature keeps it)");
+    }
+    s
 }
