@@ -92,6 +92,12 @@ impl Plant for ReferenceValve {
     fn inject(&mut self, _fault: &Fault) -> bool {
         false
     }
+    fn supply_v(&self) -> f64 {
+        VS
+    }
+    fn set_supply_v(&mut self, _v: f64) -> bool {
+        false
+    }
     fn peak_switch_v(&self) -> f64 {
         VS + VF
     }
@@ -119,16 +125,42 @@ fn with_plant() -> bool {
 }
 
 fn with_reference() -> bool {
-    let mut plant = ReferenceValve {
-        t: 0.0,
-        i: 0.0,
-        on: false,
-        peak: 0.0,
-    };
+    let mut plant = reference_plant();
     let mut ctrl = ValveDriver::new(valve_driver(20.0).expect("demo plan is valid"));
     run(&mut plant, &mut ctrl, &scenario())
         .expect("demo run")
         .passed()
+}
+
+/// The plant alone through the same kind of edges: 30 ms on, then 20 kHz PWM at 45 % duty,
+/// off at 150 ms, to 0.2 s (no controller, no ADC): the integrators' share of the loop.
+fn plant_only<P: Plant>(p: &mut P) -> f64 {
+    let period = 50e-6;
+    p.set_switch(true);
+    p.advance_to(0.030);
+    let mut k = 0;
+    loop {
+        let t0 = 0.030 + k as f64 * period;
+        if t0 >= 0.150 {
+            break;
+        }
+        p.set_switch(true);
+        p.advance_to(t0 + 0.45 * period);
+        p.set_switch(false);
+        p.advance_to(t0 + period);
+        k += 1;
+    }
+    p.advance_to(SIM_S);
+    p.probe().current_a
+}
+
+fn reference_plant() -> ReferenceValve {
+    ReferenceValve {
+        t: 0.0,
+        i: 0.0,
+        on: false,
+        peak: 0.0,
+    }
 }
 
 fn figure() {
@@ -150,6 +182,25 @@ fn figure() {
         SIM_S / reference,
         reference / own
     );
+    let t = Instant::now();
+    for _ in 0..reps {
+        let mut p = valve_plant(20.0, 24.0, DIODE);
+        p.set_record_events(false);
+        black_box(plant_only(&mut p));
+    }
+    let own = t.elapsed().as_secs_f64() / reps as f64;
+    let t = Instant::now();
+    for _ in 0..reps {
+        black_box(plant_only(&mut reference_plant()));
+    }
+    let reference = t.elapsed().as_secs_f64() / reps as f64;
+    println!(
+        "demo valve plant alone (same edges, no controller): lenz plant {:.1}x real time, \
+         Dop853 reference {:.1}x real time, ratio {:.1}",
+        SIM_S / own,
+        SIM_S / reference,
+        reference / own
+    );
 }
 
 pub(crate) fn bench(c: &mut Criterion) {
@@ -159,6 +210,16 @@ pub(crate) fn bench(c: &mut Criterion) {
     g.bench_function("lenz_plant", |b| b.iter(|| black_box(with_plant())));
     g.bench_function("dop853_reference", |b| {
         b.iter(|| black_box(with_reference()))
+    });
+    g.bench_function("lenz_plant_alone", |b| {
+        b.iter(|| {
+            let mut p = valve_plant(20.0, 24.0, DIODE);
+            p.set_record_events(false);
+            black_box(plant_only(&mut p))
+        })
+    });
+    g.bench_function("dop853_plant_alone", |b| {
+        b.iter(|| black_box(plant_only(&mut reference_plant())))
     });
     g.finish();
 }

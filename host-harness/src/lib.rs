@@ -1,5 +1,7 @@
 //! `lenz-harness`: the host side of lenz. The `lenz` binary's commands (quick calculations,
-//! plans, the demo) live in [`cli`]; values with SI prefixes are read by [`si`].
+//! plans, the demo) live in [`cli`]; values with SI prefixes are read by [`si`]. The plant
+//! simulator is [`plant`], the closed loop that runs firmware against it is [`closed_loop`]
+//! (faults in [`faults`]), and example firmware built from the kernels is in [`controllers`].
 
 pub mod cli;
 pub mod closed_loop;

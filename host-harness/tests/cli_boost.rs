@@ -5,33 +5,10 @@
 //! Stage; TI TPS40210 datasheet (SLUS772) for the timing limits; "computed" = closed form
 //! cross-checked numerically.
 
-use std::process::{Command, Output};
+mod common;
+use common::{json, lenz, num};
 
 use serde_json::Value;
-
-fn lenz(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lenz"))
-        .args(args)
-        .output()
-        .expect("the lenz binary runs")
-}
-
-fn json(args: &[&str]) -> Value {
-    let out = lenz(args);
-    assert!(
-        out.status.success(),
-        "exit {:?}, stderr {}",
-        out.status,
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).expect("one JSON object")
-}
-
-fn num(v: &Value, key: &str) -> f64 {
-    v.get(key)
-        .and_then(Value::as_f64)
-        .unwrap_or_else(|| panic!("{key} missing or not a number in {v}"))
-}
 
 fn close(v: &Value, key: &str, want: f64, rtol: f64) {
     let got = num(v, key);

@@ -1,33 +1,7 @@
 //! `lenz coil` from outside: the documented interface, JSON keys, values and exit codes.
 
-use std::process::{Command, Output};
-
-fn lenz(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lenz"))
-        .args(args)
-        .output()
-        .expect("lenz runs")
-}
-
-fn json(args: &[&str]) -> serde_json::Value {
-    let out = lenz(args);
-    assert!(
-        out.status.success(),
-        "lenz {args:?} failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).expect("one JSON object")
-}
-
-fn num(v: &serde_json::Value, key: &str) -> f64 {
-    v[key]
-        .as_f64()
-        .unwrap_or_else(|| panic!("{key} missing in {v}"))
-}
-
-fn close(got: f64, want: f64, rtol: f64) -> bool {
-    (got - want).abs() <= rtol * want.abs()
-}
+mod common;
+use common::{close, json, lenz, num};
 
 /// Exit code 2, exactly one line on stderr mentioning `flag`, nothing on stdout.
 fn assert_bad(args: &[&str], flag: &str) {

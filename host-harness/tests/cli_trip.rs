@@ -2,45 +2,8 @@
 //! keys, values and exit codes. Expected values are from the trip section of the project's
 //! reference sheet, with their sources named beside each.
 
-use std::process::{Command, Output};
-
-fn lenz(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lenz"))
-        .args(args)
-        .output()
-        .expect("lenz runs")
-}
-
-fn json(args: &[&str]) -> serde_json::Value {
-    let out = lenz(args);
-    assert!(
-        out.status.success(),
-        "lenz {args:?} failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).expect("one JSON object")
-}
-
-fn num(v: &serde_json::Value, key: &str) -> f64 {
-    v[key]
-        .as_f64()
-        .unwrap_or_else(|| panic!("{key} missing in {v}"))
-}
-
-fn close(got: f64, want: f64, rtol: f64) -> bool {
-    (got - want).abs() <= rtol * want.abs()
-}
-
-/// Exit code 2, exactly one line on stderr containing `text`, nothing on stdout.
-fn assert_exit2(args: &[&str], text: &str) -> String {
-    let out = lenz(args);
-    assert_eq!(out.status.code(), Some(2), "{args:?}");
-    assert!(out.stdout.is_empty(), "stdout must be empty for {args:?}");
-    let err = String::from_utf8_lossy(&out.stderr).to_string();
-    assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
-    assert!(err.contains(text), "'{err}' must contain '{text}'");
-    err
-}
+mod common;
+use common::{assert_exit2, close, json, lenz, num};
 
 fn trip_time(curve: &str, pickup: &str, tms: &str, current: &str) -> f64 {
     let v = json(&[

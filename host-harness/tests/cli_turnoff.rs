@@ -6,16 +6,10 @@
 //! energy" (only for the R = 0 form, not used here); RELAY = relay datasheet convention,
 //! common practice.
 
-use std::process::{Command, Output};
+mod common;
+use common::{lenz, num};
 
 use serde_json::Value;
-
-fn lenz(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lenz"))
-        .args(args)
-        .output()
-        .expect("run lenz")
-}
 
 /// Runs `lenz turnoff ARGS --json` for the demo valve (120 mH, 32 Ω, 0.75 A) and parses it.
 fn valve_json(extra: &[&str]) -> Value {
@@ -38,12 +32,6 @@ fn valve_json(extra: &[&str]) -> Value {
     );
     assert!(out.stderr.is_empty());
     serde_json::from_slice(&out.stdout).expect("one JSON object")
-}
-
-fn num(v: &Value, key: &str) -> f64 {
-    v.get(key)
-        .and_then(Value::as_f64)
-        .unwrap_or_else(|| panic!("{key} missing or not a number in {v}"))
 }
 
 fn close(v: &Value, key: &str, want: f64, rtol: f64) {

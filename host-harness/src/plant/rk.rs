@@ -24,10 +24,8 @@
 /// Most event functions per segment.
 pub(crate) const MAX_EVENTS: usize = 3;
 
-const C2: f64 = 1.0 / 5.0;
-const C3: f64 = 3.0 / 10.0;
-const C4: f64 = 4.0 / 5.0;
-const C5: f64 = 8.0 / 9.0;
+// Stage nodes 1/5, 3/10, 4/5, 8/9, 1, 1 are implied by the rows below (the system is
+// autonomous within a segment, so they are not needed explicitly).
 const A21: f64 = 1.0 / 5.0;
 const A31: f64 = 3.0 / 40.0;
 const A32: f64 = 9.0 / 40.0;
@@ -124,8 +122,6 @@ impl<const N: usize> Rk<N> {
         for (k, e) in err.iter_mut().enumerate() {
             *e = h * (E1 * k1[k] + E3 * k3[k] + E4 * k4[k] + E5 * k5[k] + E6 * k6[k] + E7 * k7[k]);
         }
-        // The node constants are implied by the rows above; keep them named for readers.
-        let _ = (C2, C3, C4, C5);
         (y1, err)
     }
 
