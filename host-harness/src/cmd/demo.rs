@@ -165,6 +165,28 @@ fn scenarios_and_report(out: &std::path::Path) -> Result<bool, CliError> {
         "csv",
         "junit.xml",
     );
+    let results = serde_json::json!({
+        "plans": plans,
+        "scenarios": outcomes
+            .iter()
+            .map(|o| serde_json::json!({
+                "file": o.file,
+                "system": o.system,
+                "scenario": o.scenario,
+                "passed": o.result.passed(),
+                "properties": o.result.properties,
+                "events": o.result.events,
+            }))
+            .collect::<Vec<_>>(),
+    });
+    let results_path = out.join("results.json");
+    let text = serde_json::to_string_pretty(&results).map_err(|e| CliError(e.to_string()))?;
+    std::fs::write(&results_path, text).map_err(|e| {
+        CliError(format!(
+            "--out: cannot write {}: {e}",
+            results_path.display()
+        ))
+    })?;
     let index = out.join("index.html");
     std::fs::write(&index, page)
         .map_err(|e| CliError(format!("--out: cannot write {}: {e}", index.display())))?;

@@ -48,7 +48,8 @@ pub fn index(
     );
     let _ = writeln!(
         h,
-        "<p>JUnit report of every scenario and property: <a href=\"{0}\">{0}</a></p>",
+        "<p>JUnit report of every scenario and property: <a href=\"{0}\">{0}</a>; the plans \
+         and results below as JSON: <a href=\"results.json\">results.json</a></p>",
         escape(junit)
     );
     for s in sections {
