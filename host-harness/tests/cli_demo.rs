@@ -49,8 +49,13 @@ fn demo_writes_the_report_folder() {
     );
     assert_eq!(
         links,
-        plots + csvs + 1,
-        "every plot, waveform and the JUnit file linked"
+        plots + csvs + 2,
+        "every plot, waveform, the JUnit file and the results linked"
     );
+    let results: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out_dir.join("results.json")).expect("json"))
+            .expect("valid JSON");
+    assert_eq!(results["scenarios"].as_array().map(Vec::len), Some(plots));
+    assert_eq!(results["plans"].as_array().map(Vec::len), Some(3));
     assert!(html.contains("Worst-case plan") && html.contains("invented"));
 }
