@@ -193,3 +193,20 @@ fn replay_uses_the_sweep_parameters() {
         "other part values, other measurements"
     );
 }
+
+#[test]
+fn several_files_in_one_table() {
+    let (v, r) = (
+        scenarios().join("valve.toml"),
+        scenarios().join("relay.toml"),
+    );
+    let out = lenz(&["sim", s(&v), s(&r)]);
+    assert_eq!(out.status.code(), Some(0));
+    let t = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        t.contains("File") && t.contains("valve.toml") && t.contains("relay.toml"),
+        "{t}"
+    );
+    assert!(t.contains("All properties hold (11 scenarios)."), "{t}");
+    assert!(t.contains("CAUTION"));
+}

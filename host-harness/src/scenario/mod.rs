@@ -278,6 +278,13 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 "longer than 60 s of simulated time".into(),
             ));
         }
+        if s.duration.get() * f.system.pwm_frequency.get() > 2e7 {
+            return Err((
+                format!("scenario[{k}].duration"),
+                needle,
+                "more than 20 000 000 PWM periods".into(),
+            ));
+        }
         if s.duration.get() / f.system.tick.get() > 2e6 {
             return Err((
                 format!("scenario[{k}].duration"),
