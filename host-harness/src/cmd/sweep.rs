@@ -234,9 +234,7 @@ fn report(out: &Output, json: bool, plot: Option<&Path>) -> Result<ExitCode, Cli
         println!("\n{} of {done} runs passed every property.", out.all_passed);
         let mut shown = Vec::new();
         for s in out.summary.iter().filter(|s| s.passed < s.runs) {
-            if let Some(w) = &s.worst
-                && !shown.contains(&w.index)
-            {
+            if let Some(w) = s.worst.as_ref().filter(|w| !shown.contains(&w.index)) {
                 shown.push(w.index);
                 println!(
                     "worst run {} ({} {}): {}\n  replay: {}",

@@ -147,8 +147,9 @@ fn tidy(key: String, message: &str) -> (String, String) {
     let message = message
         .replace("missing field", "missing key")
         .replace("unknown field", "unknown key");
-    if let Some(rest) = message.strip_prefix("key `")
-        && let Some((sub, problem)) = rest.split_once("`: ")
+    if let Some((sub, problem)) = message
+        .strip_prefix("key `")
+        .and_then(|rest| rest.split_once("`: "))
     {
         let key = if key.is_empty() {
             sub.to_string()
