@@ -30,7 +30,8 @@ pub struct Cli {
 enum Command {
     /// Quick coil calculation: time constant, steady current, step response, time to a target.
     Coil(cmd::coil::Args),
-    /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
+    /// The worked example: worst-case plans of the greenhouse demo (invented values), its
+    /// scenarios in the closed loop and a report folder.
     Demo(cmd::demo::Args),
     /// Worst-case design numbers of a scenario file's system, with verdicts.
     Plan(cmd::plan::Args),
