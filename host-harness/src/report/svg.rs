@@ -39,6 +39,18 @@ fn mark_color(e: &RunEvent) -> RGBColor {
     }
 }
 
+/// Short label of a closed-loop event: load and supply steps are injected like faults but
+/// are operating conditions.
+fn event_label(what: &str) -> &'static str {
+    if what.contains("LoadStep") {
+        "load step"
+    } else if what.contains("SupplySag") || what.contains("SupplySurge") {
+        "supply step"
+    } else {
+        "fault"
+    }
+}
+
 struct Series<'a> {
     label: &'a str,
     values: &'a [f64],
@@ -82,11 +94,11 @@ fn panel(
             )))
             .map_err(err)?;
         if e.what == "trip" || e.what.starts_with("fault") {
-            // Trip labels sit lower than fault labels, so the two never overlap.
+            // Trip labels sit lower than the others, so the two never overlap.
             let (label, y) = if e.what == "trip" {
                 ("trip", y0 + 0.9 * (y1 - y0))
             } else {
-                ("fault", y1)
+                (event_label(&e.what), y1)
             };
             chart
                 .draw_series(std::iter::once(Text::new(
@@ -126,7 +138,7 @@ fn panel(
 }
 
 /// The waveform plot of one scenario: current and estimate, switch voltage, output voltage;
-/// demand changes (grey), faults (orange) and trips (red) marked.
+/// demand changes (grey), faults and load or supply steps (orange) and trips (red) marked.
 ///
 /// # Errors
 ///
@@ -155,9 +167,14 @@ pub fn waveform_svg(o: &Outcome) -> Result<String, String> {
         let green = RGBColor(20, 150, 60);
         let ev = &o.result.events;
         if let [a, b, c] = areas.as_slice() {
+            let has_estimate = w.estimate_a.iter().any(|v| v.is_finite());
             panel(
                 a,
-                "coil current and the firmware's estimate",
+                if has_estimate {
+                    "coil current and the firmware's estimate"
+                } else {
+                    "inductor current"
+                },
                 "A",
                 &t_ms,
                 &[
