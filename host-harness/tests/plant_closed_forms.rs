@@ -508,3 +508,36 @@ fn copper_heating_settles_at_the_thermal_fixed_point() {
     check("winding temperature", p.winding_temp_c(), t, 1e-6);
     check("hot current", p.current_a(), 24.0 / r(t), 1e-6);
 }
+
+#[test]
+fn c2_7_relay_release_current_part() {
+    // CHECKS C2.7: demo relay 12 V, 120 Ω, 0.3 H, I_nom 100 mA; decay to 10 % and 30 %
+    // (computed; release fraction published: RELAY, relay datasheet convention).
+    for (clamp, t10, t30) in [
+        (
+            Clamp::Freewheel { vf_v: 0.7 },
+            4.749370268e-3,
+            2.707467427e-3,
+        ),
+        (
+            Clamp::DiodeZener {
+                vf_v: 0.7,
+                vz_v: 24.0,
+            },
+            0.8713344659e-3,
+            0.649787376e-3,
+        ),
+        (
+            Clamp::ResistorDiode {
+                r_ohm: 470.0,
+                vf_v: 0.7,
+            },
+            1.119794426e-3,
+            0.5984650962e-3,
+        ),
+    ] {
+        let p = charged_then_off(drive(0.3, 120.0, 12.0, clamp, 1000.0), 0.3 / 120.0);
+        check("relay t to 10 %", time_to(&p, 0.010), t10, 1e-7);
+        check("relay t to 30 %", time_to(&p, 0.030), t30, 1e-7);
+    }
+}

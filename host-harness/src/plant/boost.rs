@@ -202,6 +202,23 @@ impl Boost {
         self.mode = self.off_mode();
     }
 
+    /// Sets the state: inductor current `i_l_a` (A, negative values count as 0: the diode
+    /// blocks reverse current) and capacitor voltage `v_c_v` (V). Non-finite values are
+    /// refused (`false`).
+    pub fn set_initial(&mut self, i_l_a: f64, v_c_v: f64) -> bool {
+        if !(i_l_a.is_finite() && v_c_v.is_finite()) {
+            return false;
+        }
+        self.lam = self.mag.flux(i_l_a.max(0.0));
+        self.v_c = v_c_v;
+        self.mode = if self.cmd_on {
+            BoostMode::On
+        } else {
+            self.off_mode()
+        };
+        true
+    }
+
     /// Highest switch voltage so far, V.
     #[must_use]
     pub fn peak_switch_v(&self) -> f64 {

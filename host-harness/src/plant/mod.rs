@@ -21,9 +21,9 @@
 //!   closed form of the first-order step response, including the exact integrals `∫i dt` and
 //!   `∫i² dt` from which every element's energy follows; two-state segments (the ringing of an
 //!   unclamped switch, the boost stage) by the matrix exponential of the augmented state matrix
-//!   ([`linalg`]), with events located by Newton's method on the exact solution;
+//!   (module `linalg`), with events located by Newton's method on the exact solution;
 //! - **nonlinear segments** (saturating inductance) by the project's own embedded
-//!   Dormand–Prince 5(4) integrator with error control and event location ([`rk`]), with the
+//!   Dormand–Prince 5(4) integrator with error control and event location (module `rk`), with the
 //!   energy integrals carried as extra states.
 //!
 //! Accuracy (asserted in `host-harness/tests/plant_closed_forms.rs` and `plant_reference.rs`):
