@@ -45,6 +45,8 @@ fn sweep(extra: &[&str]) -> Output {
         "{args:?}: {}",
         String::from_utf8_lossy(&out.stderr)
     );
+    // stderr is a pipe here, not a terminal: no progress bar.
+    assert!(out.stderr.is_empty(), "{}", String::from_utf8_lossy(&out.stderr));
     out
 }
 
