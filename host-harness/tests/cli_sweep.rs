@@ -46,7 +46,11 @@ fn sweep(extra: &[&str]) -> Output {
         String::from_utf8_lossy(&out.stderr)
     );
     // stderr is a pipe here, not a terminal: no progress bar.
-    assert!(out.stderr.is_empty(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.stderr.is_empty(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     out
 }
 
