@@ -30,8 +30,17 @@ pub struct Cli {
 enum Command {
     /// Quick coil calculation: time constant, steady current, step response, time to a target.
     Coil(cmd::coil::Args),
-    /// The worked example: worst-case plans of the greenhouse demo coils (invented values).
+    /// The worked example: worst-case plans of the greenhouse demo (invented values), its
+    /// scenarios in the closed loop and a report folder.
     Demo(cmd::demo::Args),
+    /// Worst-case design numbers of a scenario file's system, with verdicts.
+    Plan(cmd::plan::Args),
+    /// Run the scenarios of scenario files in the closed loop and check their properties.
+    Sim(cmd::sim::Args),
+    /// Monte Carlo sweep over the tolerances of a scenario file, in parallel.
+    Sweep(cmd::sweep::Args),
+    /// Combine the `--json` outputs of `lenz sweep --shard K/N` into one summary.
+    SweepMerge(cmd::sweep::MergeArgs),
     /// Switch-off through a clamp: decay times, peak switch voltage, energy split, verdicts.
     Turnoff(cmd::turnoff::Args),
     /// Inverse-time trip time at a constant current (IEC 60255-151, IEEE C37.112 curves).
@@ -143,6 +152,10 @@ where
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
+        Command::Plan(a) => cmd::plan::run(&a),
+        Command::Sim(a) => cmd::sim::run(&a),
+        Command::Sweep(a) => cmd::sweep::run(&a),
+        Command::SweepMerge(a) => cmd::sweep::merge(&a),
         Command::Turnoff(a) => cmd::turnoff::run(&a),
         Command::TripTime(a) => cmd::trip::run_time(&a),
         Command::TripThreshold(a) => cmd::trip::run_threshold(&a),

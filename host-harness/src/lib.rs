@@ -11,4 +11,7 @@ pub mod demo;
 pub mod faults;
 pub mod firmware;
 pub mod plant;
+pub mod report;
+pub mod scenario;
 pub mod si;
+pub mod sweep;

@@ -171,7 +171,8 @@ fn human_output_has_table_and_caution() {
 
 #[test]
 fn demo_prints_worst_case_plan() {
-    let out = lenz(&["demo"]);
+    let report = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("demo-plan-report");
+    let out = lenz(&["demo", "--out", report.to_str().unwrap()]);
     assert!(out.status.success());
     let s = String::from_utf8_lossy(&out.stdout);
     for needle in [

@@ -1,0 +1,313 @@
+//! `lenz sim FILE...`: runs every scenario of the files in the closed loop and checks every
+//! property. Exit code 0 when all hold, 1 when any fails, 2 on bad input.
+
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+use serde::Serialize;
+
+use super::table::{new_table, si};
+use crate::cli::{CAUTION, CliError};
+use crate::closed_loop::Property;
+use crate::report::{self, Outcome};
+use crate::scenario::{
+    self, File,
+    run::{Params, Record},
+};
+
+/// Arguments of `lenz sim`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// Scenario files (TOML).
+    #[arg(value_name = "FILE", required = true)]
+    files: Vec<PathBuf>,
+    /// Print one JSON object instead of the table.
+    #[arg(long)]
+    json: bool,
+    /// Write the waveform of every scenario as CSV into this folder.
+    #[arg(long, value_name = "DIR")]
+    csv: Option<PathBuf>,
+    /// Write an SVG plot of every scenario into this folder.
+    #[arg(long, value_name = "DIR")]
+    plot: Option<PathBuf>,
+    /// Write a JUnit XML report (one test case per scenario and property) to this file.
+    #[arg(long, value_name = "FILE")]
+    junit: Option<PathBuf>,
+    /// Replay run I of a sweep with seed S (the part values of that run), as `S:I`.
+    #[arg(long, value_name = "S:I", value_parser = replay)]
+    replay: Option<(u64, u64)>,
+}
+
+/// Parses `S:I`.
+///
+/// # Errors
+///
+/// Not two unsigned integers separated by a colon.
+pub fn replay(s: &str) -> Result<(u64, u64), String> {
+    let (a, b) = s
+        .split_once(':')
+        .ok_or_else(|| format!("'{s}' is not SEED:INDEX"))?;
+    let seed = a
+        .trim()
+        .parse()
+        .map_err(|_| format!("'{a}' is not a seed (an unsigned integer)"))?;
+    let index = b
+        .trim()
+        .parse()
+        .map_err(|_| format!("'{b}' is not a run index (an unsigned integer)"))?;
+    Ok((seed, index))
+}
+
+/// The `--json` output.
+#[derive(Debug, Serialize)]
+struct Report<'a> {
+    passed: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    replay: Option<ReplayInfo>,
+    scenarios: Vec<ScenarioReport<'a>>,
+}
+
+#[derive(Debug, Serialize)]
+struct ReplayInfo {
+    seed: u64,
+    index: u64,
+    params: Params,
+}
+
+#[derive(Debug, Serialize)]
+struct ScenarioReport<'a> {
+    file: &'a str,
+    system: &'a str,
+    scenario: &'a str,
+    passed: bool,
+    properties: &'a [Property],
+    events: &'a [crate::closed_loop::RunEvent],
+}
+
+/// Loads every file; the first bad one ends the command.
+///
+/// # Errors
+///
+/// The file's problem, with its position.
+pub fn load_all(files: &[PathBuf]) -> Result<Vec<(String, File)>, CliError> {
+    files
+        .iter()
+        .map(|p| {
+            scenario::load(p)
+                .map(|f| (p.display().to_string(), f))
+                .map_err(|e| CliError(e.to_string()))
+        })
+        .collect()
+}
+
+/// Runs every scenario of `files` with part values `params` (per file).
+///
+/// # Errors
+///
+/// A value the plans or the plant reject.
+pub fn run_all(
+    files: &[(String, File)],
+    params: impl Fn(&File) -> Params,
+    record: Record,
+) -> Result<Vec<Outcome>, CliError> {
+    let mut out = Vec::new();
+    for (name, f) in files {
+        let p = params(f);
+        for (k, sc) in f.scenarios.iter().enumerate() {
+            let result = scenario::run::run(f, k, &p, record)
+                .map_err(|e| CliError(format!("{name}: {e}")))?;
+            out.push(Outcome {
+                file: name.clone(),
+                system: f.system.name.clone(),
+                scenario: sc.name.clone(),
+                result,
+            });
+        }
+    }
+    Ok(out)
+}
+
+fn write(path: &Path, text: &str) -> Result<(), CliError> {
+    std::fs::write(path, text)
+        .map_err(|e| CliError(format!("cannot write {}: {e}", path.display())))
+}
+
+fn make_dir(dir: &Path, flag: &str) -> Result<(), CliError> {
+    std::fs::create_dir_all(dir)
+        .map_err(|e| CliError(format!("{flag}: cannot create {}: {e}", dir.display())))
+}
+
+/// Writes the CSV waveforms, SVG plots and JUnit report that were asked for; returns the
+/// files written.
+///
+/// # Errors
+///
+/// A folder or file cannot be written.
+pub fn write_outputs(
+    outcomes: &[Outcome],
+    csv: Option<&Path>,
+    plot: Option<&Path>,
+    junit: Option<&Path>,
+) -> Result<Vec<PathBuf>, CliError> {
+    let mut written = Vec::new();
+    if let Some(dir) = csv {
+        make_dir(dir, "--csv")?;
+        for o in outcomes {
+            let p = dir.join(format!("{}.csv", report::stem(o)));
+            write(&p, &report::csv::to_csv(&o.result.waveform))?;
+            written.push(p);
+        }
+    }
+    if let Some(dir) = plot {
+        make_dir(dir, "--plot")?;
+        for o in outcomes {
+            let p = dir.join(format!("{}.svg", report::stem(o)));
+            let svg = report::svg::waveform_svg(o).map_err(CliError)?;
+            write(&p, &svg)?;
+            written.push(p);
+        }
+    }
+    if let Some(p) = junit {
+        if let Some(parent) = p.parent().filter(|d| !d.as_os_str().is_empty()) {
+            make_dir(parent, "--junit")?;
+        }
+        write(p, &report::junit::to_junit(outcomes))?;
+        written.push(p.to_path_buf());
+    }
+    Ok(written)
+}
+
+/// A value in engineering notation, or "never" for an infinite time.
+pub fn value(v: f64, unit: &str) -> String {
+    if v.is_infinite() && unit == "s" {
+        "never".into()
+    } else if unit == "trips" {
+        format!("{v:.0}")
+    } else {
+        si(v, unit)
+    }
+}
+
+/// The human table of `outcomes`.
+#[must_use]
+pub fn table(outcomes: &[Outcome], show_file: bool) -> comfy_table::Table {
+    let mut header = vec!["Scenario", "Property", "Value", "Limit", "Result"];
+    if show_file {
+        header.insert(0, "File");
+    }
+    let mut t = new_table(&header);
+    for o in outcomes {
+        for p in &o.result.properties {
+            let mut row = vec![
+                o.scenario.clone(),
+                p.name.replace('_', " "),
+                value(p.value, p.unit),
+                value(p.limit, p.unit),
+                if p.pass { "pass" } else { "FAIL" }.to_string(),
+            ];
+            if show_file {
+                row.insert(0, o.file.clone());
+            }
+            t.add_row(row);
+        }
+    }
+    t
+}
+
+/// Runs `lenz sim`.
+///
+/// # Errors
+///
+/// Bad input (exit 2).
+pub fn run(a: &Args) -> Result<ExitCode, CliError> {
+    let files = load_all(&a.files)?;
+    let params = |f: &File| match a.replay {
+        Some((seed, index)) => Params::draw(f, seed, index),
+        None => Params::NOMINAL,
+    };
+    let record = if a.csv.is_some() || a.plot.is_some() {
+        Record::Every
+    } else {
+        Record::None
+    };
+    let outcomes = run_all(&files, params, record)?;
+    write_outputs(
+        &outcomes,
+        a.csv.as_deref(),
+        a.plot.as_deref(),
+        a.junit.as_deref(),
+    )?;
+    let passed = outcomes.iter().all(|o| o.result.passed());
+    if a.json {
+        let rep = Report {
+            passed,
+            replay: a.replay.and_then(|(seed, index)| {
+                files.first().map(|(_, f)| ReplayInfo {
+                    seed,
+                    index,
+                    params: Params::draw(f, seed, index),
+                })
+            }),
+            scenarios: outcomes
+                .iter()
+                .map(|o| ScenarioReport {
+                    file: &o.file,
+                    system: &o.system,
+                    scenario: &o.scenario,
+                    passed: o.result.passed(),
+                    properties: &o.result.properties,
+                    events: &o.result.events,
+                })
+                .collect(),
+        };
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&rep).map_err(|e| CliError(e.to_string()))?
+        );
+    } else {
+        if let Some((seed, index)) = a.replay {
+            for (name, f) in &files {
+                println!(
+                    "{name}: replaying sweep run {index} of seed {seed}: {}",
+                    describe(&Params::draw(f, seed, index))
+                );
+            }
+        }
+        println!("{}", table(&outcomes, files.len() > 1));
+        let failed: usize = outcomes.iter().map(|o| o.result.violations().len()).sum();
+        if passed {
+            println!("\nAll properties hold ({} scenarios).", outcomes.len());
+        } else {
+            println!("\n{failed} properties do not hold.");
+        }
+        println!("{CAUTION}");
+    }
+    Ok(if passed {
+        ExitCode::SUCCESS
+    } else {
+        ExitCode::from(1)
+    })
+}
+
+/// One line naming the part values of a run.
+#[must_use]
+pub fn describe(p: &Params) -> String {
+    let mut parts = vec![
+        format!("L ×{:.4}", p.inductance),
+        format!("R ×{:.4}", p.resistance),
+        format!("clamp ×{:.4}", p.clamp),
+        format!("sense gain ×{:.4}", p.sense_gain),
+        format!("load ×{:.4}", p.load),
+    ];
+    if let Some(v) = p.supply_v {
+        parts.push(format!("supply {v:.3} V"));
+    }
+    if let Some(t) = p.temp_c {
+        parts.push(format!("coil {t:.1} °C"));
+    }
+    let mut s = parts.join(", ");
+    if p.supply_v.is_some() || p.temp_c.is_some() {
+        s.push_str(" (as drawn: a scenario that sets its own supply or temperature keeps it)");
+    }
+    s
+}

@@ -1,0 +1,63 @@
+//! CSV waveforms: a header row, then one row per recorded tick (the sampling instant).
+//! Numbers are written in Rust's shortest round-trip form; a missing estimate is empty.
+
+use std::fmt::Write as _;
+
+use crate::closed_loop::Waveform;
+
+/// The column names, in order.
+pub const HEADER: &str = "t_s,current_a,estimate_a,switch_v,output_v,supply_v,drive";
+
+/// The waveform as CSV text.
+#[must_use]
+pub fn to_csv(w: &Waveform) -> String {
+    let mut s = String::with_capacity(64 * (w.t_s.len() + 1));
+    s.push_str(HEADER);
+    s.push('\n');
+    let get = |v: &[f64], k: usize| v.get(k).copied().unwrap_or(f64::NAN);
+    for k in 0..w.t_s.len() {
+        let cols = [
+            get(&w.t_s, k),
+            get(&w.current_a, k),
+            get(&w.estimate_a, k),
+            get(&w.switch_v, k),
+            get(&w.output_v, k),
+            get(&w.supply_v, k),
+            get(&w.drive, k),
+        ];
+        for (j, v) in cols.iter().enumerate() {
+            if j > 0 {
+                s.push(',');
+            }
+            if v.is_finite() {
+                let _ = write!(s, "{v}");
+            }
+        }
+        s.push('\n');
+    }
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rows_and_missing_values() {
+        let w = Waveform {
+            t_s: vec![0.0, 1e-4],
+            current_a: vec![0.0, 0.25],
+            estimate_a: vec![f64::NAN, 0.24],
+            switch_v: vec![24.0, 0.1],
+            output_v: vec![24.0, 0.1],
+            supply_v: vec![24.0, 23.9],
+            drive: vec![0.0, 1.0],
+        };
+        let csv = to_csv(&w);
+        let lines: Vec<&str> = csv.lines().collect();
+        assert_eq!(lines[0], HEADER);
+        assert_eq!(lines[1], "0,0,,24,24,24,0");
+        assert_eq!(lines[2], "0.0001,0.25,0.24,0.1,0.1,23.9,1");
+        assert_eq!(lines.len(), 3);
+    }
+}

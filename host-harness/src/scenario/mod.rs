@@ -1,0 +1,403 @@
+//! Scenario files: one TOML file describes a drive system, the controller under test, the
+//! tolerances of a sweep and a list of scenarios with the properties that must hold.
+//!
+//! # Layout of a file
+//!
+//! ```toml
+//! [system]                       # the drive system
+//! name = "irrigation valve"
+//! tick = "100us"                 # control tick
+//! pwm_frequency = "20kHz"
+//! [system.supply]                # min, nominal, max, source_resistance
+//! [system.temperature]           # min, nominal, max (°C)
+//! [system.coil]                  # or [system.boost]
+//! [system.clamp.freewheel]       # one clamp kind: freewheel, diode-zener, across-switch,
+//!                                # resistor-diode, unclamped
+//! [system.switch]                # on_resistance, breakdown
+//! [system.sense]                 # shunt, gain, adc_bits, adc_reference, gain_error, offset,
+//!                                # noise, voltage_divider
+//! [system.ratings]               # switch_voltage, switch_current, switch_energy, clamp_energy
+//! [system.requirements]          # release_time, pull_in_time, output_ripple, saturation_margin
+//! [controller.coil]              # or [controller.boost]: the example controller's parameters
+//! [tolerances]                   # inductance = { dist = "normal", rel = 0.03 }, ...
+//! [[scenario]]                   # name, duration, supply, temperature, noise_seed
+//! [[scenario.event]]             # at = "10ms", then one of command / fault / supply / load
+//! [[scenario.check]]             # property = "peak-switch-voltage", max = "60V"
+//! ```
+//!
+//! Values take SI prefixes and an optional unit symbol as strings (`"120mH"`, `"4.7u"`), or
+//! plain TOML numbers in the base unit. The shipped files in `host-harness/scenarios/` are
+//! commented examples of every table.
+//!
+//! # Errors
+//!
+//! Every problem is reported as `FILE:LINE:COLUMN: key `PATH`: PROBLEM`, where `PATH` is the
+//! dotted key of the value (`system.coil.inductance`, `scenario[1].event[0].at`) and the
+//! position is the value's own (or its table's, for checks across a table's values). Unknown
+//! keys, missing keys, values that are not numbers in the right unit and values out of range
+//! are all errors; nothing is silently ignored or clamped.
+
+pub mod quantity;
+pub mod run;
+pub mod schema;
+
+use std::fmt;
+use std::path::Path;
+
+pub use schema::{
+    Action, BoostController, BoostStage, Check, ClampSpec, Coil, CoilController, Command,
+    Controller, Dist, Event, Fault, FaultSpec, File, Property, Scenario, System,
+};
+
+/// A problem in a scenario file, with its position.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ScenarioError {
+    /// File name as given.
+    pub file: String,
+    /// Line, from 1 (0: no position, e.g. the file could not be read).
+    pub line: usize,
+    /// Column, from 1.
+    pub column: usize,
+    /// Dotted key path of the value (empty: the whole file).
+    pub key: String,
+    /// What is wrong.
+    pub problem: String,
+}
+
+impl fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.line == 0 {
+            write!(f, "{}: ", self.file)?;
+        } else {
+            write!(f, "{}:{}:{}: ", self.file, self.line, self.column)?;
+        }
+        if !self.key.is_empty() {
+            write!(f, "key `{}`: ", self.key)?;
+        }
+        f.write_str(&self.problem)
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+/// Line and column (both from 1) of byte `offset` in `text`.
+fn line_col(text: &str, offset: usize) -> (usize, usize) {
+    let offset = offset.min(text.len());
+    let head = text.get(..offset).unwrap_or(text);
+    let line = head.matches('\n').count() + 1;
+    let col = head.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
+    (line, col)
+}
+
+/// Reads and checks a scenario file.
+///
+/// # Errors
+///
+/// The file cannot be read, or it has a problem (see the module docs).
+pub fn load(path: &Path) -> Result<File, ScenarioError> {
+    let name = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| ScenarioError {
+        file: name.clone(),
+        line: 0,
+        column: 0,
+        key: String::new(),
+        problem: format!("cannot read the file: {e}"),
+    })?;
+    parse(&name, &text)
+}
+
+/// Parses and checks the text of a scenario file; `file` names it in errors.
+///
+/// # Errors
+///
+/// See the module docs.
+pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
+    let at = |offset: usize, key: String, problem: String| {
+        let (line, column) = line_col(text, offset);
+        ScenarioError {
+            file: file.to_string(),
+            line,
+            column,
+            key,
+            problem,
+        }
+    };
+    let de = toml::Deserializer::parse(text).map_err(|e| {
+        let start = e.span().map_or(0, |s| s.start);
+        at(start, String::new(), e.message().trim().to_string())
+    })?;
+    let parsed: File = serde_path_to_error::deserialize(de).map_err(|e| {
+        let key = e.path().to_string();
+        let key = if key == "." { String::new() } else { key };
+        let inner = e.inner();
+        let start = inner.span().map_or(0, |s| s.start);
+        let (key, problem) = tidy(key, inner.message().trim());
+        at(start, key, problem)
+    })?;
+    check_consistency(&parsed).map_err(|(key, needle, problem)| {
+        let offset = needle.map_or(0, |n| locate(text, &n));
+        at(offset, key, problem)
+    })?;
+    Ok(parsed)
+}
+
+/// Speaks of keys rather than serde's fields, and moves a key named at the start of a
+/// table-level message into the key path.
+fn tidy(key: String, message: &str) -> (String, String) {
+    let message = message
+        .replace("missing field", "missing key")
+        .replace("unknown field", "unknown key");
+    if let Some((sub, problem)) = message
+        .strip_prefix("key `")
+        .and_then(|rest| rest.split_once("`: "))
+    {
+        let key = if key.is_empty() {
+            sub.to_string()
+        } else {
+            format!("{key}.{sub}")
+        };
+        return (key, problem.to_string());
+    }
+    (key, message)
+}
+
+/// Where a place found by [`check_consistency`] is in the text: a scenario's name, then the
+/// `n`-th `[[scenario.event]]` or `[[scenario.check]]` after it.
+fn locate(text: &str, place: &Place) -> usize {
+    if let Some(l) = place.literal {
+        return text.find(l).unwrap_or(0);
+    }
+    let Some(name_at) = find_name(text, &place.scenario) else {
+        return 0;
+    };
+    let Some((header, n)) = place.table else {
+        return name_at;
+    };
+    let mut from = name_at;
+    for k in 0..=n {
+        match text.get(from..).and_then(|t| t.find(header)) {
+            Some(off) => {
+                if k == n {
+                    return from + off;
+                }
+                from += off + header.len();
+            }
+            None => return name_at,
+        }
+    }
+    name_at
+}
+
+fn find_name(text: &str, name: &str) -> Option<usize> {
+    let quoted = format!("\"{name}\"");
+    let mut from = 0;
+    while let Some(off) = text.get(from..).and_then(|t| t.find(&quoted)) {
+        let at = from + off;
+        let line_start = text
+            .get(..at)
+            .and_then(|h| h.rfind('\n'))
+            .map_or(0, |p| p + 1);
+        let head = text.get(line_start..at).unwrap_or("").trim();
+        if head.starts_with("name") && head.ends_with('=') {
+            return Some(line_start);
+        }
+        from = at + quoted.len();
+    }
+    None
+}
+
+/// A scenario, and optionally its `n`-th event or check table; or a literal text.
+struct Place {
+    scenario: String,
+    table: Option<(&'static str, usize)>,
+    literal: Option<&'static str>,
+}
+
+impl Place {
+    fn literal(text: &'static str) -> Place {
+        Place {
+            scenario: String::new(),
+            table: None,
+            literal: Some(text),
+        }
+    }
+}
+
+type Inconsistency = (String, Option<Place>, String);
+
+/// Checks across tables: controller and system kinds, scenario names, event times, checks
+/// that apply to the kind of system.
+fn check_consistency(f: &File) -> Result<(), Inconsistency> {
+    let is_boost = f.system.boost.is_some();
+    match (&f.controller, is_boost) {
+        (Controller::Coil(_), true) => {
+            return Err((
+                "controller.coil".into(),
+                Some(Place::literal("[controller")),
+                "a coil controller cannot drive a boost stage: use [controller.boost]".into(),
+            ));
+        }
+        (Controller::Boost(_), false) => {
+            return Err((
+                "controller.boost".into(),
+                Some(Place::literal("[controller")),
+                "a boost controller needs [system.boost]: use [controller.coil]".into(),
+            ));
+        }
+        _ => {}
+    }
+    if f.scenarios.is_empty() {
+        return Err((
+            "scenario".into(),
+            None,
+            "missing key `scenario`: the file needs at least one [[scenario]]".into(),
+        ));
+    }
+    for (k, s) in f.scenarios.iter().enumerate() {
+        let place = |table: Option<(&'static str, usize)>| {
+            Some(Place {
+                scenario: s.name.clone(),
+                table,
+                literal: None,
+            })
+        };
+        let needle = place(None);
+        if s.name.trim().is_empty() {
+            return Err((format!("scenario[{k}].name"), None, "is empty".into()));
+        }
+        if f.scenarios[..k].iter().any(|o| o.name == s.name) {
+            return Err((
+                format!("scenario[{k}].name"),
+                needle,
+                format!("scenario name '{}' is used twice", s.name),
+            ));
+        }
+        if s.duration.get() > 60.0 {
+            return Err((
+                format!("scenario[{k}].duration"),
+                needle,
+                "longer than 60 s of simulated time".into(),
+            ));
+        }
+        if s.duration.get() * f.system.pwm_frequency.get() > 2e7 {
+            return Err((
+                format!("scenario[{k}].duration"),
+                needle,
+                "more than 20 000 000 PWM periods".into(),
+            ));
+        }
+        if s.duration.get() / f.system.tick.get() > 2e6 {
+            return Err((
+                format!("scenario[{k}].duration"),
+                needle,
+                "more than 2 000 000 control ticks".into(),
+            ));
+        }
+        if let Some(v) = s.supply {
+            let sup = &f.system.supply;
+            if v.get() < sup.min.get() * 0.5 || v.get() > sup.max.get() * 2.0 {
+                return Err((
+                    format!("scenario[{k}].supply"),
+                    needle,
+                    format!("{} V is far outside the system's supply range", v.get()),
+                ));
+            }
+        }
+        for (j, e) in s.events.iter().enumerate() {
+            let key = format!("scenario[{k}].event[{j}]");
+            if e.at.get() > s.duration.get() {
+                return Err((
+                    format!("{key}.at"),
+                    place(Some(("[[scenario.event]]", j))),
+                    format!(
+                        "{} s is after the end of the scenario ({} s)",
+                        e.at.get(),
+                        s.duration.get()
+                    ),
+                ));
+            }
+            let bad = match e.action {
+                Action::Load(_) if !is_boost => Some("a load step applies to a boost stage"),
+                Action::Fault(
+                    FaultSpec::ShortedCoil { .. }
+                    | FaultSpec::ShortedTurns { .. }
+                    | FaultSpec::OpenCoil,
+                ) if is_boost => Some("coil faults apply to a coil drive"),
+                _ => None,
+            };
+            if let Some(b) = bad {
+                return Err((key, place(Some(("[[scenario.event]]", j))), b.into()));
+            }
+        }
+        for (j, c) in s.checks.iter().enumerate() {
+            let key = format!("scenario[{k}].check[{j}].property");
+            let bad = match c.property {
+                Property::OutputBand if !is_boost => Some("output-band applies to a boost stage"),
+                Property::ReleaseTime | Property::ClampEnergy | Property::EstimatorError
+                    if is_boost =>
+                {
+                    Some("applies to a coil drive")
+                }
+                _ => None,
+            };
+            if let Some(b) = bad {
+                return Err((key, place(Some(("[[scenario.check]]", j))), b.into()));
+            }
+            if c.after > s.duration.get() {
+                return Err((
+                    format!("scenario[{k}].check[{j}].after"),
+                    place(Some(("[[scenario.check]]", j))),
+                    "is after the end of the scenario".into(),
+                ));
+            }
+        }
+        let expects_trip = s.events.iter().any(|e| e.expect_trip);
+        for (j, c) in s.checks.iter().enumerate() {
+            let key = format!("scenario[{k}].check[{j}].property");
+            if s.checks[..j].iter().any(|o| o.property == c.property) {
+                return Err((
+                    key,
+                    place(Some(("[[scenario.check]]", j))),
+                    format!("{} is checked twice", c.property.name()),
+                ));
+            }
+            if c.property == Property::TripLatency && !expects_trip {
+                return Err((
+                    key,
+                    place(Some(("[[scenario.check]]", j))),
+                    "trip-latency needs an event with `expect_trip = true`".into(),
+                ));
+            }
+            if c.property == Property::NoTrip && expects_trip {
+                return Err((
+                    key,
+                    place(Some(("[[scenario.check]]", j))),
+                    "no-trip contradicts an event with `expect_trip = true`".into(),
+                ));
+            }
+        }
+        if s.checks.is_empty() {
+            return Err((
+                format!("scenario[{k}].check"),
+                needle,
+                "missing key `check`: a scenario needs at least one [[scenario.check]]".into(),
+            ));
+        }
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::line_col;
+
+    #[test]
+    fn positions() {
+        let t = "a = 1\nbb = 2\n  c = 3";
+        assert_eq!(line_col(t, 0), (1, 1));
+        assert_eq!(line_col(t, 6), (2, 1));
+        assert_eq!(line_col(t, 11), (2, 6));
+        assert_eq!(line_col(t, 15), (3, 3));
+        assert_eq!(line_col(t, 99), (3, 8));
+    }
+}

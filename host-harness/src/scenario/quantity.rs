@@ -1,0 +1,196 @@
+//! Physical values in scenario files: a TOML string with an SI prefix and an optional unit
+//! symbol (`"120mH"`, `"4.7u"`, `"-40"`), or a plain TOML number in the base unit.
+//!
+//! Each wrapper carries its unit and its sign constraint in the type, so a wrong value is
+//! rejected while the TOML deserializer still knows where it is: the error then points at the
+//! value itself (file, line, column) rather than at the table around it.
+
+use std::fmt;
+use std::marker::PhantomData;
+
+use serde::de::{self, Deserializer, Visitor};
+
+use crate::si::{self, Unit};
+
+/// A unit marker for the quantity wrappers.
+pub trait UnitTag {
+    /// The unit read by [`si::parse`].
+    const UNIT: Unit;
+    /// Symbol used in messages.
+    const SYMBOL: &'static str;
+}
+
+macro_rules! units {
+    ($($name:ident => $unit:expr, $sym:literal;)*) => {
+        $(
+            #[doc = concat!("Unit marker: ", $sym, ".")]
+            #[derive(Debug, Clone, Copy, PartialEq, Eq)]
+            pub struct $name;
+            impl UnitTag for $name {
+                const UNIT: Unit = $unit;
+                const SYMBOL: &'static str = $sym;
+            }
+        )*
+    };
+}
+
+units! {
+    Henry => Unit::Henry, "H";
+    Ohm => Unit::Ohm, "Ω";
+    Volt => Unit::Volt, "V";
+    Ampere => Unit::Ampere, "A";
+    Second => Unit::Second, "s";
+    Hertz => Unit::Hertz, "Hz";
+    Farad => Unit::Farad, "F";
+    Joule => Unit::Joule, "J";
+    Celsius => Unit::Celsius, "°C";
+    Plain => Unit::None, "";
+}
+
+/// Which values a wrapper admits.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Sign {
+    Any,
+    NonNegative,
+    Positive,
+}
+
+fn read<'de, D: Deserializer<'de>, U: UnitTag>(d: D, sign: Sign) -> Result<f64, D::Error> {
+    struct V<U>(Sign, PhantomData<U>);
+    impl<U: UnitTag> V<U> {
+        fn check<E: de::Error>(&self, v: f64, text: &str) -> Result<f64, E> {
+            if !v.is_finite() {
+                return Err(E::custom(format!("'{text}' is not finite")));
+            }
+            match self.0 {
+                Sign::Positive if v <= 0.0 => Err(E::custom(format!("'{text}' must be positive"))),
+                Sign::NonNegative if v < 0.0 => {
+                    Err(E::custom(format!("'{text}' must not be negative")))
+                }
+                _ => Ok(v),
+            }
+        }
+    }
+    impl<U: UnitTag> Visitor<'_> for V<U> {
+        type Value = f64;
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            if U::SYMBOL.is_empty() {
+                f.write_str("a number")
+            } else {
+                write!(
+                    f,
+                    "a value in {} (a number, or a string such as \"4.7m{}\")",
+                    U::SYMBOL,
+                    U::SYMBOL
+                )
+            }
+        }
+        fn visit_str<E: de::Error>(self, s: &str) -> Result<f64, E> {
+            let v = si::parse(s, U::UNIT).map_err(|e| {
+                if U::SYMBOL.is_empty() {
+                    E::custom(format!("{e} (expected a plain number)"))
+                } else {
+                    E::custom(format!("{e} (expected a value in {})", U::SYMBOL))
+                }
+            })?;
+            self.check(v, s)
+        }
+        fn visit_f64<E: de::Error>(self, v: f64) -> Result<f64, E> {
+            self.check(v, &v.to_string())
+        }
+        fn visit_i64<E: de::Error>(self, v: i64) -> Result<f64, E> {
+            self.check(v as f64, &v.to_string())
+        }
+        fn visit_u64<E: de::Error>(self, v: u64) -> Result<f64, E> {
+            self.check(v as f64, &v.to_string())
+        }
+    }
+    d.deserialize_any(V::<U>(sign, PhantomData))
+}
+
+macro_rules! wrapper {
+    ($(#[$m:meta])* $name:ident, $sign:expr) => {
+        $(#[$m])*
+        #[derive(Clone, Copy, PartialEq)]
+        pub struct $name<U>(pub f64, PhantomData<U>);
+
+        impl<U> $name<U> {
+            /// Wraps a value (not checked: for values built in code).
+            #[must_use]
+            pub const fn new(v: f64) -> Self {
+                Self(v, PhantomData)
+            }
+            /// The value in the base unit.
+            #[must_use]
+            pub const fn get(self) -> f64 {
+                self.0
+            }
+        }
+
+        impl<U> fmt::Debug for $name<U> {
+            fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+                self.0.fmt(f)
+            }
+        }
+
+        impl<'de, U: UnitTag> serde::Deserialize<'de> for $name<U> {
+            fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+                read::<D, U>(d, $sign).map(Self::new)
+            }
+        }
+
+        impl<U> serde::Serialize for $name<U> {
+            fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+                s.serialize_f64(self.0)
+            }
+        }
+    };
+}
+
+wrapper!(
+    /// Any finite value.
+    Q,
+    Sign::Any
+);
+wrapper!(
+    /// A finite value ≥ 0.
+    NonNeg,
+    Sign::NonNegative
+);
+wrapper!(
+    /// A finite value > 0.
+    Pos,
+    Sign::Positive
+);
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[derive(Debug, serde::Deserialize)]
+    struct T {
+        l: Pos<Henry>,
+        t: Q<Celsius>,
+        r: NonNeg<Ohm>,
+    }
+
+    #[test]
+    fn strings_and_numbers() {
+        let t: T = toml::from_str("l = \"120mH\"\nt = -40\nr = 0.5").unwrap();
+        assert!((t.l.get() - 0.12).abs() < 1e-15);
+        assert!((t.t.get() + 40.0).abs() < 1e-15);
+        assert!((t.r.get() - 0.5).abs() < 1e-15);
+    }
+
+    #[test]
+    fn rejects_sign_and_garbage() {
+        let e = toml::from_str::<T>("l = \"-1mH\"\nt = 0\nr = 0").unwrap_err();
+        assert!(e.message().contains("must be positive"), "{e}");
+        let e = toml::from_str::<T>("l = \"1xH\"\nt = 0\nr = 0").unwrap_err();
+        assert!(e.message().contains("expected a value in H"), "{e}");
+        let e = toml::from_str::<T>("l = 1\nt = 0\nr = -0.1").unwrap_err();
+        assert!(e.message().contains("must not be negative"), "{e}");
+        let e = toml::from_str::<T>("l = true\nt = 0\nr = 0").unwrap_err();
+        assert!(e.message().contains("a value in H"), "{e}");
+    }
+}
