@@ -81,8 +81,8 @@ proptest! {
     #[test]
     fn coil_spread(v0 in wild(), v1 in wild(), t0 in wild(), t1 in wild(), tol in wild(), ip in wild()) {
         let coil = CoilParams::new(0.3, 120.0);
-        if let (Ok(sv), Ok(st)) = (Range::new("supply_v", v0, v1), Range::new("temp_c", t0, t1)) {
-            if let Ok(s) = CoilSpread::new(coil, sv, st, tol, tol) {
+        if let (Ok(sv), Ok(st)) = (Range::new("supply_v", v0, v1), Range::new("temp_c", t0, t1))
+            && let Ok(s) = CoilSpread::new(coil, sv, st, tol, tol) {
                 for b in [s.steady_current_a(), s.time_constant_s(), s.stored_energy_j(), s.pull_in_time_s(ip)]
                     .into_iter()
                     .flatten()
@@ -90,7 +90,6 @@ proptest! {
                     prop_assert!(b.min.is_finite() && b.max.is_finite() && b.min <= b.max);
                 }
             }
-        }
     }
 
     #[test]

@@ -178,19 +178,17 @@ proptest! {
             3 => Clamp::Resistor { resistance_ohm: a, forward_v: 0.7 },
             _ => Clamp::Unclamped { capacitance_f: a * 1e-12 },
         };
-        if let Ok(coil) = CoilParams::new(l, r).validate() {
-            if let Ok(t) = TrackingOffTimer::new(&coil, 20.0, tick, &clamp, thr) {
+        if let Ok(coil) = CoilParams::new(l, r).validate()
+            && let Ok(t) = TrackingOffTimer::new(&coil, 20.0, tick, &clamp, thr) {
                 let mut s = OffTimerState::new();
                 t.start(&mut s, i32::MAX);
                 let _ = t.tick(&mut s, i32::MIN);
             }
-        }
-        if let Ok(plan) = SwitchOff::new(l, r, 12.0, 0.1, clamp) {
-            if let Ok(p) = PlannedOffTimer::new(&plan, thr, max, tick) {
+        if let Ok(plan) = SwitchOff::new(l, r, 12.0, 0.1, clamp)
+            && let Ok(p) = PlannedOffTimer::new(&plan, thr, max, tick) {
                 let mut s = OffTimerState::new();
                 p.start(&mut s, i32::MIN);
                 let _ = p.tick(&mut s);
             }
-        }
     }
 }

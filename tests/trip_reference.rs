@@ -702,11 +702,9 @@ proptest! {
                 let _ = cfg.sample(&mut s, r, on);
             }
         }
-        if let Ok(th) = Thermal::new(a, b, c) {
-            if let Ok(t) = th.trip_time_s(d, a) { prop_assert!(t.is_finite()); }
-        }
-        if let Ok(s) = ShortedLoad::new(a, b, c) {
-            if let Ok(i) = s.current_after_a(d, b) { prop_assert!(i.is_finite()); }
-        }
+        if let Ok(th) = Thermal::new(a, b, c)
+            && let Ok(t) = th.trip_time_s(d, a) { prop_assert!(t.is_finite()); }
+        if let Ok(s) = ShortedLoad::new(a, b, c)
+            && let Ok(i) = s.current_after_a(d, b) { prop_assert!(i.is_finite()); }
     }
 }

@@ -93,11 +93,11 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, SiError> {
     let t = text.trim();
     let mut body = t;
     for sym in unit.symbols() {
-        if let Some(stripped) = t.strip_suffix(sym) {
-            if !stripped.is_empty() {
-                body = stripped;
-                break;
-            }
+        if let Some(stripped) = t.strip_suffix(sym)
+            && !stripped.is_empty()
+        {
+            body = stripped;
+            break;
         }
     }
     // Split the number from the prefix: the longest leading part that parses as a number.

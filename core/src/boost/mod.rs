@@ -705,11 +705,11 @@ impl BoostStage {
             (saturation, LimitReason::Saturation),
             (light_load, LimitReason::LightLoadOvervoltage),
         ] {
-            if let Some(d) = lim {
-                if d < duty_max {
-                    duty_max = d;
-                    reason = why;
-                }
+            if let Some(d) = lim
+                && d < duty_max
+            {
+                duty_max = d;
+                reason = why;
             }
         }
         let f = |x: f64| finite_result("duty_limits", x as f32);

@@ -279,10 +279,10 @@ impl Stage64 {
     /// Mode and figures at duty `d` into a resistive load `r` (forward model).
     pub fn at_duty(&self, d: f64, vg: f64, r: f64) -> Point {
         let ccm = self.ccm_point(d, vg, r);
-        if ccm.valley <= 0.0 {
-            if let Some(v) = self.dcm_output(d, vg, r) {
-                return self.dcm_point(d, vg, v);
-            }
+        if ccm.valley <= 0.0
+            && let Some(v) = self.dcm_output(d, vg, r)
+        {
+            return self.dcm_point(d, vg, v);
         }
         Point {
             ccm: true,

@@ -418,14 +418,14 @@ impl ThresholdParams {
         }
         let peak = finite_result("delay_s", peak)?;
         let margin = normal.map(|n| threshold - n);
-        if let (Some(n), Some(m)) = (normal, margin) {
-            if m.is_nan() || m <= 0.0 {
-                return Err(Error::Unreachable {
-                    param: "normal_peak_a",
-                    target: n,
-                    limit: threshold,
-                });
-            }
+        if let (Some(n), Some(m)) = (normal, margin)
+            && (m.is_nan() || m <= 0.0)
+        {
+            return Err(Error::Unreachable {
+                param: "normal_peak_a",
+                target: n,
+                limit: threshold,
+            });
         }
         Ok(ThresholdPlan {
             threshold_a: threshold,

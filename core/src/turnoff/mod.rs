@@ -615,14 +615,14 @@ impl SwitchOff {
         if i0 == 0.0 {
             return Ok(DecayEnd::Finite { time_s: 0.0 });
         }
-        if let Some(c) = self.constant_loop() {
-            if c.vc > 0.0 {
-                let x = i0 * c.loop_r / c.vc;
-                let t = (self.inductance_h / c.loop_r) * libm::log1pf(x);
-                return Ok(DecayEnd::Finite {
-                    time_s: finite_result("initial_current_a", t)?,
-                });
-            }
+        if let Some(c) = self.constant_loop()
+            && c.vc > 0.0
+        {
+            let x = i0 * c.loop_r / c.vc;
+            let t = (self.inductance_h / c.loop_r) * libm::log1pf(x);
+            return Ok(DecayEnd::Finite {
+                time_s: finite_result("initial_current_a", t)?,
+            });
         }
         let t = self.time_to_current_s(TAIL_FRACTION * i0)?;
         Ok(DecayEnd::Exponential {

@@ -35,7 +35,7 @@ fn alternating_series(x: f32, first: u32, scale: f32) -> f32 {
     while j > 0 {
         j -= 1;
         let term = scale / (j + first) as f32;
-        let signed = if j % 2 == 0 { term } else { -term };
+        let signed = if j.is_multiple_of(2) { term } else { -term };
         acc = signed + x * acc;
     }
     acc

@@ -137,13 +137,15 @@ fn plan(a: &Args) -> Result<SwitchOff, CliError> {
         }
         (None, _) => 0.0,
     };
-    if let Clamp::Switch { clamp_v } = clamp {
-        if clamp_v.is_finite() && supply.is_finite() && clamp_v <= supply {
-            return Err(CliError(format!(
-                "--clamp VCL: a clamp across the switch at {clamp_v} V does not lie above the \
+    if let Clamp::Switch { clamp_v } = clamp
+        && clamp_v.is_finite()
+        && supply.is_finite()
+        && clamp_v <= supply
+    {
+        return Err(CliError(format!(
+            "--clamp VCL: a clamp across the switch at {clamp_v} V does not lie above the \
                  supply of {supply} V, so the current would not decay"
-            )));
-        }
+        )));
     }
     SwitchOff::new(
         a.inductance as f32,
