@@ -12,20 +12,22 @@
 //!    reading at or above the full-scale code (a saturated ADC hides the true current: fail
 //!    safe). For `blank` samples after each switch-on (rising edge of `switch_on`) samples
 //!    count as not over, which hides the turn-on spike. The last `M` over/not-over bits are
-//!    kept in a shift register with a running count; the detector trips when at least `N` of
-//!    the last `M` samples were over.
+//!    kept in a shift register; the detector trips when at least `N` of the last `M` samples
+//!    were over (the bits are counted only at a sample that is over, the only sample at which
+//!    the count can reach `N`). Every sample is decided: this element resolves to one sample.
 //! 2. **Inverse time.** The standard digital form of the integral equation
 //!    `∫ dt/t(M) = 1` (IEEE Std C37.112-1996): each sample adds `T_s/t(M)` to an accumulator
 //!    that trips at one. The increment comes from a precomputed table of `2³²·T_s/t(M)` (see
-//!    *Table*), so the per-sample work is a multiply, shifts and one interpolation: no
-//!    division. Below pickup an IEEE curve runs back by `T_s/t_r(M) = T_s(1 − M²)/(TD·t_r)`
-//!    (computed directly: `1 − M²` is a polynomial); an IEC curve resets to zero.
+//!    *Table*): no division. Below pickup an IEEE curve runs back by
+//!    `T_s/t_r(M) = T_s(1 − M²)/(TD·t_r)` (computed directly: `1 − M²` is a polynomial); an
+//!    IEC curve resets to zero. The accumulator moves once per block of `K` samples (see
+//!    *Blocks*) by `K` increments at the block's mean multiple.
 //! 3. **Thermal.** The exact discrete update of the IEC 60255-149 thermal image
-//!    (see [`crate::trip::thermal`]):
-//!    `θ[n+1] = b·θ[n] + (1 − b)·x²` with `x = I/(k I_B)` and `b = exp(−T_s/τ)`, written as
-//!    `θ += (1 − b)(x² − θ)`; it trips at `θ ≥ 1`. θ is Q24 (`1.0 = 2²⁴`, up to 256) and the
-//!    fraction below one Q24 LSB is carried from sample to sample (error feedback), so tiny
-//!    steps `(1 − b) ≈ 10⁻⁸` neither stall nor drift.
+//!    (see [`crate::trip::thermal`]) over one block, `Δt = K·T_s`:
+//!    `θ ← b_K·θ + (1 − b_K)·x̄²` with `x̄²` the block's mean of `(I/(k I_B))²` and
+//!    `b_K = exp(−K·T_s/τ)`, written as `θ += (1 − b_K)(x̄² − θ)`; it trips at `θ ≥ 1`. θ is
+//!    Q24 (`1.0 = 2²⁴`, up to 256) and 16 bits below one Q24 LSB are carried from block to
+//!    block (error feedback), so tiny steps `(1 − b_K) ≈ 10⁻⁸` neither stall nor drift.
 //! 4. **Sensor fault.** A reading that stays exactly the same for `stuck` samples while the
 //!    switch is on counts as a stuck sensor: it trips and latches at once (no retry into an
 //!    unknown current). Real readings of a live current carry noise of a count or more; set
@@ -34,10 +36,48 @@
 //!    delay (and, after a thermal trip, until θ is below one again), then [`Verdict::Allow`]
 //!    once more. After the stated number of retries the next trip latches:
 //!    [`Verdict::Latched`] until [`TripConfig::reset`]. The retry count clears only with
-//!    `reset`.
+//!    `reset`. The block sums and both accumulators go on while waiting or latched (the
+//!    winding cools).
 //!
 //! Trips are checked in the order sensor fault, instantaneous, inverse time, thermal; the
 //! first that fires is the cause.
+//!
+//! # Blocks
+//!
+//! Heating goes with the mean of `I²` and the inverse-time integral with `T_s/t(M)` summed over
+//! the samples; neither needs its full arithmetic at every sample. Each sample adds only the
+//! reading `r` to a running sum `Σr` and `r² >> 5` (one 16×16 multiply) to `Σr²/32`; at the
+//! last sample of each block of `K = 2^k` samples (`k ≤` [`BLOCK_LOG2_MAX`] = 5, so `Σr` fits
+//! 21 bits and `Σ(r² >> 5)` 32 bits) the block update runs once:
+//!
+//! - inverse time: `M̄ = Σr·(2³²/pickup) >> (16 + k)` in Q16, exactly the `M` of a constant
+//!   reading equal to the block's mean; the accumulator moves by `K·inc(M̄)` (or runs back by
+//!   `K` decrements, or resets);
+//! - thermal: `x̄² = (Σ(r² >> 5)·2^(5−k) + 16)·2^(24+s)/(k I_B)² >> s` in Q24, the block's mean
+//!   square; the truncation of `r² >> 5` is at most 32 of `r²`'s units per sample, and adding
+//!   16 back centres it, so `x̄²` is within `16/r²` relative of the true mean square
+//!   (`< 4·10⁻⁵` at the trip level for `k·I_B ≥ 650` counts); the exact update above with
+//!   `1 − b_K` precomputed.
+//!
+//! For a constant current the block update gives exactly the accumulator of `K` per-sample
+//! updates (unit test `block_equals_per_sample_updates_at_constant_current`); for a current that
+//! varies within a block, inverse time sees the block's mean multiple and thermal the block's
+//! exact mean square.
+//!
+//! **Resolution.** The inverse-time and thermal elements are decided at block ends only: they
+//! trip at the end of the block in which a per-sample update would have reached one, at most
+//! `K − 1` samples later. For a constant current the inverse-time trip therefore comes within
+//! one block (`K` samples) plus the stated table error of the curve's time (late, never
+//! early), and the thermal trip within one block of the exact discrete update; a block that
+//! starts hot (after [`TripConfig::reset`] or from [`TripState::with_theta_q24`]) trips at its
+//! end. The instantaneous, stuck-sensor, blanking and retry logic stay per sample.
+//!
+//! **Choice of `K`** (plan side, [`TripConfig::new`]): the largest `K ≤ 32` with
+//! `K·T_s` at most the curve's trip time at the lower of the instantaneous threshold and
+//! [`INVERSE_M_MAX`] (above the threshold the instantaneous element trips first), and at most
+//! `τ/`[`BLOCK_TAU_FRACTION`] (`τ/8`) of the thermal element, i.e. one block is at most the
+//! shortest inverse-time trip the element has to make. [`TripConfig::with_block_log2`] takes
+//! any `k ≤ 5` instead (`k = 0`: every sample, the finest resolution at the highest cost).
 //!
 //! # Table
 //!
@@ -57,28 +97,31 @@
 //! range ([`TripConfig::inverse_table_error`]) and rejects a configuration above the stated
 //! bound (measured worst cases, 2.5 A pickup at 4 mA per count, 1 ms and 0.1 ms samples:
 //! at most 0.11 % for the IEC SI, IEC EI and IEEE MI/VI/EI curves, 0.03 % for IEC VI and LTI, whose
-//! rate is linear in `M`). For a constant current the kernel therefore trips within one sample plus that
-//! relative error of the curve's time. Rounding the increment to an integer adds
+//! rate is linear in `M`). For a constant current the kernel therefore trips within one block
+//! (see *Blocks*) plus that relative error of the curve's time. Rounding the increment to an integer adds
 //! `0.5/increment`, included in the measured error; it stays small while `t(M)/T_s < 10⁶`.
 //!
 //! # Cost and state
 //!
-//! Per sample: at most five multiplies into 64 bits (`M` and `x` scaling, the interpolation,
-//! `x²`, the thermal step), shifts, compares and adds; no float, no division, no panic (table
-//! access by `.get()`). Host figure: about 24 ns per sample with every element enabled
-//! (criterion bench `trip`, x86-64). `M` and `x` are truncated to Q16, which makes the kernel
-//! trip marginally later (relative `2⁻¹⁶/(M − 1)` on the inverse-time rate near pickup,
-//! included in the measured table error).
+//! The per-sample fast path, taken when the channel is running with the switch as at the last
+//! sample, not blanking, the reading below the instantaneous threshold with no over bit in the
+//! history, the stuck count short of its limit and the block not ending: the tick, the two
+//! block sums (one multiply), six compares and the stuck count; no call. Every other sample
+//! (switch edges, blanking, an over reading or history, a stuck reading near the limit, the
+//! end of a block, waiting or latched) takes the full path, which is the same logic written out
+//! plus the block update. The block update forms `M̄`, `x̄²` and the thermal step with 64-bit
+//! products (on Cortex-M0 the library multiply `__aeabi_lmul`, no division) and one table
+//! interpolation through [`super::q::mul_wide`]; Cortex-M0 has no `CLZ`, so there the table
+//! octave comes from five compares. No float, no division, no panic (table access by `.get()`).
 //!
-//! The products are formed from 32-bit multiplies wherever the ranges allow (the reading is
-//! 16 bits, `M < 1` on the reset path, `x ≤ 16`, and the interpolation and thermal differences
-//! fit an `i32` but at raw-configuration extremes, which fall back to `i64`), through
-//! [`super::q::mul_wide`] for the signed ones: Cortex-M0 has no 32×32→64 multiply and would
-//! call the 64-bit library multiply. It has no `CLZ` either, so there the table octave comes
-//! from five compares. Results are identical to the 64-bit formulation (unit test
-//! `same_as_the_64_bit_formulation`). Measured under emulation (`lenz cost`, every element
-//! on): about 323 instructions per sample on Cortex-M0, 180 on Cortex-M3 and 178 on Cortex-M4F,
-//! above the hard caps of 150 and 50 (see the target README).
+//! Measured under emulation (`lenz cost`, the cost run of the target README: every element on,
+//! switch on, readings with noise around the inverse-time pickup and below the thermal level,
+//! `K = 32` by the rule above for its IEEE VI, TMS 0.05, τ 0.5 s, 1 kHz setting): on average
+//! about 68 instructions per sample on Cortex-M0, 47 on Cortex-M3 and 48 on Cortex-M4F (before
+//! the blocks: 323, 180 and 178). The average is `(K − 1)/K` fast paths plus one full path
+//! with the block update; the worst single call is that block-ending sample (the full path
+//! with the table lookup and the thermal update, a few hundred instructions on Cortex-M0 with
+//! its library multiplies), which the firmware's sample period must allow for once per block.
 //!
 //! [`TripConfig::new`] builds the table and measures its error in f64 over every reading of
 //! the documented range (about `19·pickup` curve evaluations): run it on the host or at
@@ -1034,7 +1077,7 @@ impl TripConfig {
         // last sample, nothing over and no over bit in the history, a stuck count that cannot
         // reach the limit at this sample, and not the end of a block. Everything else takes
         // the full path.
-        if (ctl ^ (u32::from(switch_on) << 23)) & (PHASE_MASK | PREV_ON) == 0
+        if (ctl >> 21) & 0b111 == u32::from(switch_on) << 2
             && reading_counts < self.over_counts
             && s.history == 0
             && sense >> 16 < self.stuck_fast
