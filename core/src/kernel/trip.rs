@@ -368,18 +368,23 @@ mod table_serde {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+// Laid out as written: the fields of the fast path first, the two words adjacent (one
+// load of both on Cortex-M3/M4F) and at small offsets (short loads on Cortex-M0).
+#[repr(C)]
 pub struct TripConfig {
-    instantaneous_counts: u16,
-    full_scale_counts: u16,
+    /// `stuck_limit − 1`: below it the next count cannot reach the limit.
+    stuck_fast: u32,
+    /// `K − 1`: the block ends at a sample whose tick has these bits all set.
+    block_mask: u32,
     /// The lower of the two: a reading at or above it is over.
     over_counts: u16,
+    instantaneous_counts: u16,
+    full_scale_counts: u16,
     blank_samples: u16,
     stuck_samples: u16,
     retry_samples: u16,
     /// `stuck_samples`, or above any count when 0 (off): one compare per sample.
     stuck_limit: u32,
-    /// `stuck_limit − 1`: below it the next count cannot reach the limit.
-    stuck_fast: u32,
     /// The last `M` bits of the persistence history.
     history_mask: u32,
     /// `N`, at least 1.
@@ -388,17 +393,15 @@ pub struct TripConfig {
     retries: u8,
     /// `k` of the block of `K = 2^k` samples (at most [`BLOCK_LOG2_MAX`]).
     block_log2: u8,
-    /// `K − 1`: the block ends at a sample whose tick has these bits all set.
-    block_mask: u32,
-    inverse: InverseTable,
     /// `x²` in Q24 is `(mean r²) · x2_mul >> x2_shift` (`2^(24+shift)/(k I_B in counts)²`).
     /// Zero disables the thermal element.
-    x2_mul: u32,
     x2_shift: u8,
+    x2_mul: u32,
     /// `1 − b^K = 1 − exp(−K T_s/τ)` in Q32, below `2³¹`.
     thermal_step_q32: u32,
     /// Measured relative table error, parts per million.
     table_error_ppm: u32,
+    inverse: InverseTable,
 }
 
 /// Per-channel trip detector state: 32 bytes.
@@ -942,8 +945,9 @@ impl TripConfig {
     }
 
     /// The end of a block (`tick + 1` a multiple of `K`): both accumulators over the
-    /// block from its sums, which restart; the cause if one trips.
-    #[inline(always)]
+    /// block from its sums, which restart; the cause if one trips. Not inlined: one copy
+    /// for its three callers, called once per block.
+    #[inline(never)]
     fn block(&self, s: &mut TripState, ctl: u32) -> Option<Cause> {
         let k = self.k();
         // Σ(r² >> 5) over 2^k samples, times 2^(5−k): the mean square, less the truncation,
