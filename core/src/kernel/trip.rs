@@ -117,11 +117,14 @@
 //! Measured under emulation (`lenz cost`, the cost run of the target README: every element on,
 //! switch on, readings with noise around the inverse-time pickup and below the thermal level,
 //! `K = 32` by the rule above for its IEEE VI, TMS 0.05, τ 0.5 s, 1 kHz setting): on average
-//! about 68 instructions per sample on Cortex-M0, 47 on Cortex-M3 and 48 on Cortex-M4F (before
-//! the blocks: 323, 180 and 178). The average is `(K − 1)/K` fast paths plus one full path
-//! with the block update; the worst single call is that block-ending sample (the full path
-//! with the table lookup and the thermal update, a few hundred instructions on Cortex-M0 with
-//! its library multiplies), which the firmware's sample period must allow for once per block.
+//! 67.3 instructions per sample on Cortex-M0, 41.8 on Cortex-M3 and 42.8 on Cortex-M4F (before
+//! the blocks: 323.4, 180.0 and 177.7). The average is `(K − 1)/K` fast paths plus one full
+//! path with the block update per block. The worst single call in normal operation is that
+//! block-ending sample; it is not measured on its own, but the fast path's length in the
+//! disassembly (about 55 instructions on Cortex-M0, 35 on Cortex-M3) and the averages put it
+//! at roughly 430 instructions on Cortex-M0 (its 64-bit products are library multiplies) and
+//! 200 to 250 on Cortex-M3/M4F: the firmware's sample period must allow for it once per block.
+//! A trip, a switch edge or a stuck-sensor run near its limit also takes the full path.
 //!
 //! [`TripConfig::new`] builds the table and measures its error in f64 over every reading of
 //! the documented range (about `19·pickup` curve evaluations): run it on the host or at
@@ -372,7 +375,7 @@ mod table_serde {
 // load of both on Cortex-M3/M4F) and at small offsets (short loads on Cortex-M0).
 #[repr(C)]
 pub struct TripConfig {
-    /// `stuck_limit − 1`: below it the next count cannot reach the limit.
+    /// `stuck_limit − 1`: a count below it is short of the limit.
     stuck_fast: u32,
     /// `K − 1`: the block ends at a sample whose tick has these bits all set.
     block_mask: u32,
@@ -405,7 +408,7 @@ pub struct TripConfig {
 }
 
 /// Per-channel trip detector state: 32 bytes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
 pub struct TripState {
@@ -419,8 +422,10 @@ pub struct TripState {
     sum_sq: u32,
     inverse_q32: u32,
     theta_q24: u32,
-    /// The last reading (bits 0..=15) and how many samples in a row it was the same with the
-    /// switch on (bits 16..=31, saturating).
+    /// The last reading (bits 0..=15) and the low 16 bits of the tick at which the current
+    /// run of equal readings with the switch on began (bits 16..=31): the stuck count is
+    /// `tick − start` (mod 2¹⁶, held at 65535 once there), so a repeated reading stores
+    /// nothing.
     sense: u32,
     /// Blanking samples left while blanking, retry delay left while waiting.
     timer: u16,
@@ -437,6 +442,12 @@ const BLANKING: u32 = 3 << 21;
 const PREV_ON: u32 = 1 << 23;
 const RETRY_SHIFT: u32 = 24;
 
+impl Default for TripState {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
 impl TripState {
     /// A cold, untripped channel.
     #[must_use]
@@ -448,7 +459,8 @@ impl TripState {
             sum_sq: 0,
             inverse_q32: 0,
             theta_q24: 0,
-            sense: 0,
+            // Last reading 0, run started at tick −1: a first reading of 0 counts one.
+            sense: 0xFFFF_0000,
             timer: 0,
             theta_frac: 0,
         }
@@ -930,7 +942,8 @@ impl TripConfig {
         }
         s.history = 0;
         s.inverse_q32 = 0;
-        s.sense &= 0xFFFF;
+        // The stuck count restarts: the run begins at the last sample.
+        s.sense = (s.sense & 0xFFFF) | (s.tick.wrapping_sub(1) << 16);
     }
 
     /// `k`, at most [`BLOCK_LOG2_MAX`] whatever the field holds.
@@ -1069,31 +1082,33 @@ impl TripConfig {
     #[inline]
     pub fn sample(&self, s: &mut TripState, reading_counts: u16, switch_on: bool) -> Verdict {
         let r = u32::from(reading_counts);
-        let next = s.tick.wrapping_add(1);
+        let tick = s.tick;
+        let next = tick.wrapping_add(1);
         s.tick = next;
         // The block sums: Σr in the low bits of the control word (2⁵ readings < 2²¹) and
         // Σ(r² >> 5) (r² < 2³², so 2⁵ terms fit). Wrapping only on a corrupted state.
         let ctl = s.sum_ctl.wrapping_add(r);
         s.sum_ctl = ctl;
         s.sum_sq = s.sum_sq.wrapping_add((r * r) >> BLOCK_LOG2_MAX);
+        // Stuck sensor: the same reading again with the switch on continues the run (its
+        // count `tick − start` is then 1 ..= limit − 1 on the fast path: not wrapped, not at
+        // the limit); any other reading starts a new one.
         let sense = s.sense;
+        let same = switch_on && sense & 0xFFFF == r;
+        let stuck_ok =
+            !same || (tick.wrapping_sub(sense >> 16) & 0xFFFF).wrapping_sub(1) < self.stuck_fast;
         // The common case, one test each: running (not blanking) with the switch as at the
-        // last sample, nothing over and no over bit in the history, a stuck count that cannot
-        // reach the limit at this sample, and not the end of a block. Everything else takes
-        // the full path.
+        // last sample, nothing over and no over bit in the history, the stuck count short of
+        // its limit, and not the end of a block. Everything else takes the full path.
         if (ctl >> 21) & 0b111 == u32::from(switch_on) << 2
             && reading_counts < self.over_counts
             && s.history == 0
-            && sense >> 16 < self.stuck_fast
+            && stuck_ok
             && next & self.block_mask != 0
         {
-            // The same reading again with the switch on counts towards a stuck sensor (no
-            // overflow: the count is below the limit less one here).
-            s.sense = if switch_on && sense & 0xFFFF == r {
-                sense.wrapping_add(0x1_0000)
-            } else {
-                r
-            };
+            if !same {
+                s.sense = r | (tick << 16);
+            }
             return Verdict::Allow;
         }
         self.full(s, r | (u32::from(switch_on) << 16))
@@ -1110,16 +1125,19 @@ impl TripConfig {
         let tick = s.tick.wrapping_sub(1);
         let mut ctl = s.sum_ctl;
         let sense = s.sense;
-        let sense = if switch_on && sense & 0xFFFF == r {
-            if sense < 0xFFFF_0000 {
-                sense + 0x1_0000
+        let stuck = if switch_on && sense & 0xFFFF == r {
+            let count = tick.wrapping_sub(sense >> 16) & 0xFFFF;
+            if count == 0 {
+                // 65536 in a row: hold the count at 65535 (the run starts one tick later).
+                s.sense = r | (tick.wrapping_sub(0xFFFF) << 16);
+                0xFFFF
             } else {
-                sense
+                count
             }
         } else {
-            r
+            s.sense = r | (tick << 16);
+            0
         };
-        s.sense = sense;
         let mut phase = ctl & PHASE_MASK;
         if phase == WAITING || phase == LATCHED {
             return self.held(s, ctl, tick);
@@ -1150,7 +1168,7 @@ impl TripConfig {
         let history = ((s.history << 1) | u32::from(over)) & self.history_mask;
         s.history = history;
 
-        let cause = if sense >> 16 >= self.stuck_limit {
+        let cause = if stuck >= self.stuck_limit {
             Cause::SensorFault
         } else if over && history.count_ones() >= self.persistence_n {
             Cause::Instantaneous
