@@ -59,10 +59,15 @@
 //!   (`< 4·10⁻⁵` at the trip level for `k·I_B ≥ 650` counts); the exact update above with
 //!   `1 − b_K` precomputed.
 //!
-//! For a constant current the block update gives exactly the accumulator of `K` per-sample
-//! updates (unit test `block_equals_per_sample_updates_at_constant_current`); for a current that
-//! varies within a block, inverse time sees the block's mean multiple and thermal the block's
-//! exact mean square.
+//! For a constant current the block update moves the inverse-time accumulator exactly as `K`
+//! per-sample updates (unit test `block_equals_per_sample_updates_at_constant_current`), and
+//! the thermal update over `K·T_s` is the exact result of `K` per-sample steps (up to the
+//! fixed-point rounding). For a current that varies within a block, thermal sees the block's
+//! mean square (within the truncation above), which is what heats the winding; inverse time
+//! takes the increment at the block's mean multiple, which differs from the mean of per-sample
+//! increments by the curvature of the rate `1/t(M)` over the block's spread of readings (none
+//! for the IEC VI and LTI curves, whose rate is linear in `M`). Changes from block to block are
+//! followed as they come.
 //!
 //! **Resolution.** The inverse-time and thermal elements are decided at block ends only: they
 //! trip at the end of the block in which a per-sample update would have reached one, at most
