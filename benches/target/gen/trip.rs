@@ -21,8 +21,10 @@ struct Raw {
     stuck_samples: u16,
     retries: u8,
     retry_samples: u16,
+    block_log2: u8,
     inverse: InverseTable,
-    x_scale_q32: u32,
+    x2_mul: u32,
+    x2_shift: u8,
     thermal_step_q32: u32,
 }
 
@@ -37,8 +39,10 @@ impl Raw {
             stuck_samples: p.stuck_samples,
             retries: p.retries,
             retry_samples: c.retry_samples(),
+            block_log2: c.block_log2(),
             inverse: *c.inverse_table(),
-            x_scale_q32: c.x_scale_q32(),
+            x2_mul: c.x2_scale().0,
+            x2_shift: c.x2_scale().1,
             thermal_step_q32: c.thermal_step_q32(),
         }
     }
@@ -53,8 +57,10 @@ impl Raw {
             self.stuck_samples,
             self.retries,
             self.retry_samples,
+            self.block_log2,
             self.inverse,
-            self.x_scale_q32,
+            self.x2_mul,
+            self.x2_shift,
             self.thermal_step_q32,
         )
     }
@@ -66,7 +72,7 @@ impl Raw {
             let _ = write!(table, "{r}, ");
         }
         format!(
-            "TripConfig::from_raw({}, {}, {}, {}, {}, {}, {}, {}, InverseTable {{ m_scale_q32: {}, rate_q32: [{table}], reset_q32: {}, instant_reset: {} }}, {}, {})",
+            "TripConfig::from_raw({}, {}, {}, {}, {}, {}, {}, {}, {}, InverseTable {{ m_scale_q32: {}, rate_q32: [{table}], reset_q32: {}, instant_reset: {} }}, {}, {}, {})",
             self.instantaneous_counts,
             self.full_scale_counts,
             self.blank_samples,
@@ -75,10 +81,12 @@ impl Raw {
             self.stuck_samples,
             self.retries,
             self.retry_samples,
+            self.block_log2,
             t.m_scale_q32,
             t.reset_q32,
             t.instant_reset,
-            self.x_scale_q32,
+            self.x2_mul,
+            self.x2_shift,
             self.thermal_step_q32
         )
     }
@@ -237,8 +245,10 @@ pub fn generate() -> String {
             stuck_samples: rng.range(0, 6) as u16,
             retries: rng.range(0, 4) as u8,
             retry_samples: rng.range(0, 10) as u16,
+            block_log2: rng.range(0, 7) as u8,
             inverse: table,
-            x_scale_q32: rng.any_i32() as u32,
+            x2_mul: rng.any_i32() as u32,
+            x2_shift: rng.range(0, 70) as u8,
             thermal_step_q32: rng.any_i32() as u32,
         };
         let inputs = (0..150)
