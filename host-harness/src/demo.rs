@@ -8,6 +8,17 @@
 
 use lenz::{CoilParams, Error, Range, bounds::CoilSpread};
 
+/// Valve inductance, H (invented).
+pub const VALVE_INDUCTANCE_H: f64 = 0.120;
+/// Valve winding resistance at 20 °C, Ω (invented).
+pub const VALVE_RESISTANCE_OHM: f64 = 32.0;
+/// Relay inductance, H (invented).
+pub const RELAY_INDUCTANCE_H: f64 = 0.3;
+/// Relay winding resistance at 20 °C, Ω (invented).
+pub const RELAY_RESISTANCE_OHM: f64 = 120.0;
+/// Freewheel diode drop of both coils, V (invented).
+pub const DIODE_DROP_V: f64 = 0.7;
+
 /// One demo coil with its spreads and pull-in current.
 #[derive(Debug, Clone, Copy)]
 pub struct DemoCoil {
@@ -48,7 +59,8 @@ fn coil(
 pub fn valve() -> Result<DemoCoil, Error> {
     coil(
         "irrigation valve (24 V)",
-        CoilParams::new(0.120, 32.0).with_diode_drop_v(0.7),
+        CoilParams::new(VALVE_INDUCTANCE_H as f32, VALVE_RESISTANCE_OHM as f32)
+            .with_diode_drop_v(DIODE_DROP_V as f32),
         (21.6, 26.4),
         (-20.0, 85.0),
         (0.10, 0.05),
@@ -64,7 +76,8 @@ pub fn valve() -> Result<DemoCoil, Error> {
 pub fn relay() -> Result<DemoCoil, Error> {
     coil(
         "vent relay (12 V)",
-        CoilParams::new(0.3, 120.0).with_diode_drop_v(0.7),
+        CoilParams::new(RELAY_INDUCTANCE_H as f32, RELAY_RESISTANCE_OHM as f32)
+            .with_diode_drop_v(DIODE_DROP_V as f32),
         (11.4, 13.2),
         (-20.0, 70.0),
         (0.10, 0.05),

@@ -14,6 +14,10 @@
 
 use super::{AdcChannel, Limits, LoopConfig, Release, Sensors};
 use crate::controllers::{BoostPlan, BoostRegulatorConfig, ValveDriverConfig, ValvePlan};
+use crate::demo::{
+    DIODE_DROP_V, RELAY_INDUCTANCE_H, RELAY_RESISTANCE_OHM, VALVE_INDUCTANCE_H,
+    VALVE_RESISTANCE_OHM,
+};
 use crate::faults::FaultAt;
 use crate::plant::{
     Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec,
@@ -61,17 +65,29 @@ fn coil_drive(l_h: f64, r20: f64, temp_c: f64, supply_v: f64, clamp: Clamp) -> C
 /// The valve at coil temperature `temp_c` and supply `supply_v`, with clamp `clamp`.
 #[must_use]
 pub fn valve_plant(temp_c: f64, supply_v: f64, clamp: Clamp) -> CoilDrive {
-    coil_drive(0.120, 32.0, temp_c, supply_v, clamp)
+    coil_drive(
+        VALVE_INDUCTANCE_H,
+        VALVE_RESISTANCE_OHM,
+        temp_c,
+        supply_v,
+        clamp,
+    )
 }
 
 /// The relay at coil temperature `temp_c` and supply `supply_v`.
 #[must_use]
 pub fn relay_plant(temp_c: f64, supply_v: f64) -> CoilDrive {
-    coil_drive(0.3, 120.0, temp_c, supply_v, Clamp::Freewheel { vf_v: 0.7 })
+    coil_drive(
+        RELAY_INDUCTANCE_H,
+        RELAY_RESISTANCE_OHM,
+        temp_c,
+        supply_v,
+        DIODE,
+    )
 }
 
 /// The freewheel diode of the demo.
-pub const DIODE: Clamp = Clamp::Freewheel { vf_v: 0.7 };
+pub const DIODE: Clamp = Clamp::Freewheel { vf_v: DIODE_DROP_V };
 
 /// The sense channels (true converter, with its errors).
 #[must_use]
@@ -122,7 +138,7 @@ pub fn driver_plan(
     let coil = lenz::CoilParams::new(l_h, r20_ohm)
         .with_switch_resistance_ohm(0.1)
         .with_shunt_resistance_ohm(0.010)
-        .with_diode_drop_v(0.7)
+        .with_diode_drop_v(DIODE_DROP_V as f32)
         .validate()?;
     let s = sensors();
     ValveDriverConfig::new(&ValvePlan {
@@ -157,7 +173,15 @@ pub fn driver_plan(
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn valve_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.120, 32.0, temp_c, 0.54, 0.45, 2.0, 0.075)
+    driver_plan(
+        VALVE_INDUCTANCE_H as f32,
+        VALVE_RESISTANCE_OHM as f32,
+        temp_c,
+        0.54,
+        0.45,
+        2.0,
+        0.075,
+    )
 }
 
 /// The relay driver planned at `temp_c`: pull-in to 90 mA (75 mA must-operate plus 20 %),
@@ -167,7 +191,15 @@ pub fn valve_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(0.3, 120.0, temp_c, 0.090, 0.55, 0.5, 0.010)
+    driver_plan(
+        RELAY_INDUCTANCE_H as f32,
+        RELAY_RESISTANCE_OHM as f32,
+        temp_c,
+        0.090,
+        0.55,
+        0.5,
+        0.010,
+    )
 }
 
 /// The valve's limits: switch rated 60 V and 10 mJ per switch-off, clamp diode 100 mJ, 10 A
