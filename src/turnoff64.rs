@@ -1,5 +1,5 @@
 //! f64 references for switch-off, written from the formulas of the reference sheet
-//! (CHECKS.md F2.1–F2.5) independently of the f32 plan routines in `lenz::turnoff`.
+//! (docs/references.md F2.1–F2.5) independently of the f32 plan routines in `lenz::turnoff`.
 //!
 //! A constant voltage `vc` opposes the current in a loop of resistance `r` and inductance `l`
 //! (freewheel diode, diode plus zener, clamp across the switch with `vc = Vcl − Vs`, resistor

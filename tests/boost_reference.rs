@@ -6,7 +6,7 @@
 //!   Ch. 3 (loss model) and Ch. 5 (DCM).
 //! - SLVA372: TI application report SLVA372, "Basic Calculation of a Boost Converter's Power
 //!   Stage" (ripple and peak current forms; equations from memory in the sheet).
-//! - TOFF: TI TPS40210 datasheet (SLUS772), minimum off and on time limits.
+//! - TOFF: the controller datasheet convention for minimum off and on times (docs/references.md).
 //! - "computed": closed form cross-checked numerically (the sheet's script, scipy).
 //!
 //! The switched simulation (below) integrates the circuit interval by interval with the

@@ -1,5 +1,5 @@
 //! Coil model against the published and computed values of the reference sheet
-//! (`shared/reference/CHECKS.md`, section 1). Each check names its source.
+//! (`docs/references.md`, section 1). Each check names its source.
 
 use lenz::{CoilParams, Error};
 use lenz_checks::{assert_close, copper_resistance, rl_step};

@@ -1,5 +1,5 @@
 //! Off-timer kernel against the f64 closed form of the switch-off decay (reference sheet
-//! CHECKS.md F2.1, "computed": closed form cross-checked numerically).
+//! docs/references.md F2.1, "computed": closed form cross-checked numerically).
 //!
 //! The property: the timer never reports "released" while the f64 closed-form current is still
 //! above the threshold, with a stated tolerance of 1 µA (the kernel's current unit). And, so

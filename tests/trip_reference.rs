@@ -425,7 +425,7 @@ fn c4_4_curve_tables() {
 
 #[test]
 fn c4_4_reset_demo_and_integral_form() {
-    // IEEE reset at M = 0.5, TD = 1 (published: IEEE Std C37.112-1996 constants).
+    // IEEE reset at M = 0.5, TD = 1 (published: C37, the IEEE Std C37.112-1996 constants).
     for (curve, want) in [
         (Curve::IeeeModeratelyInverse, 6.466666667),
         (Curve::IeeeVeryInverse, 28.8),

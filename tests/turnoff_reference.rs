@@ -1,5 +1,5 @@
 //! Switch-off reference checks: every value of the switch-off section (C2.1–C2.7) of the
-//! project's reference sheet CHECKS.md with its source, a cross-check of every clamp kind
+//! project's reference sheet docs/references.md with its source, a cross-check of every clamp kind
 //! against the circuit's ODE integrated by a general-purpose solver (`ode_solvers`, DOP853),
 //! and property tests (energy balance, monotonic release, f32 against f64, no panics).
 //!

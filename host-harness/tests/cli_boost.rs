@@ -2,7 +2,7 @@
 //!
 //! Sources as named beside each check: Erickson & Maksimović, Fundamentals of Power Electronics,
 //! 2nd ed., Ch. 3 and 5 ("EM"); TI SLVA372, Basic Calculation of a Boost Converter's Power
-//! Stage; TI TPS40210 datasheet (SLUS772) for the timing limits; "computed" = closed form
+//! Stage; TOFF, the controller datasheet convention for the timing limits; "computed" = closed form
 //! cross-checked numerically.
 
 mod common;
@@ -83,12 +83,12 @@ fn heater_rail_ccm_values() {
 #[test]
 fn gain_peak_binds_before_the_min_off_time() {
     // CHECKS C3.3 / C3.4 decision test: D_max = 1 − 100 ns · 500 kHz = 0.95 (published form:
-    // TI TPS40210 datasheet) lies above the gain peak 0.9481457103 (computed), so the peak binds.
+    // TOFF) lies above the gain peak 0.9481457103 (computed), so the peak binds.
     let v = json(&with(HEATER, &["--min-off-time", "100n", "--json"]));
     assert_eq!(v["duty_max_reason"], "gain_peak");
     close(&v, "duty_max", 0.9481457103, 1e-6);
     assert!(v.get("output_ripple_v").is_none(), "no --cout, no ripple");
-    // 250 ns: D_max = 0.875 (published form: TPS40210) binds below the peak.
+    // 250 ns: D_max = 0.875 (published form: TOFF) binds below the peak.
     let v = json(&with(HEATER, &["--min-off-time", "250n", "--json"]));
     assert_eq!(v["duty_max_reason"], "min_off_time");
     close(&v, "duty_max", 0.875, 1e-6);

@@ -1,5 +1,5 @@
 //! `lenz turnoff` from the outside: runs the binary and checks its JSON against the switch-off
-//! values (C2.x) of the project's reference sheet CHECKS.md, and its exit codes.
+//! values (C2.x) of the project's reference sheet docs/references.md, and its exit codes.
 //!
 //! Sources: "computed" = closed form cross-checked numerically (the sheet's ODE script);
 //! TOSH = Toshiba Electronic Devices & Storage, MOSFET FAQ "How to calculate the avalanche

@@ -1,4 +1,4 @@
-//! The boost plant's periodic steady state against CHECKS.md C3.6 (computed: switched ODE,
+//! The boost plant's periodic steady state against docs/references.md C3.6 (computed: switched ODE,
 //! periodic steady state by shooting, DOP853 per switch interval, in the CHECKS script) and the
 //! closed form of C3.5/F3.4 (Erickson & Maksimović, Fundamentals of Power Electronics, 2nd
 //! ed., Ch. 5: DCM peak current `I_pk = Vg D Ts / L`).

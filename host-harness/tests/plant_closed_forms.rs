@@ -1,9 +1,9 @@
-//! The plant against closed forms on linear cases: switch-off with every clamp kind (CHECKS.md
+//! The plant against closed forms on linear cases: switch-off with every clamp kind (docs/references.md
 //! section 2: C2.1 to C2.6), the RL step and PWM steady state (C1.1, C1.3), and the `lenz`
 //! plan routines. Every figure here is measured on the simulated waveform (zero crossings,
 //! energies per element, peaks), not computed from the same formulas.
 //!
-//! Labels as in CHECKS.md: "computed" = computed: closed form cross-checked numerically with
+//! Labels as in docs/references.md: "computed" = computed: closed form cross-checked numerically with
 //! scipy solve_ivp; "published: RLT" = first-order step table (63.2 / 86.5 / 95.0 / 98.2 /
 //! 99.3 % at 1..5 τ); "published form: TOSH" = Toshiba Electronic Devices & Storage, MOSFET FAQ
 //! "How to calculate the avalanche energy"; "IFX" = Infineon smart high-side switch datasheets,

@@ -1,5 +1,5 @@
 //! Unit tests of the switch-off plan: errors, verdicts, comparison and worst-case corners.
-//! The reference values of CHECKS.md, the ODE cross-check and the property tests live in the
+//! The reference values of docs/references.md, the ODE cross-check and the property tests live in the
 //! root package's `tests/turnoff_reference.rs`.
 
 use super::*;

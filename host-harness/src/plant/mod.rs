@@ -28,7 +28,7 @@
 //!
 //! Accuracy (asserted in `host-harness/tests/plant_closed_forms.rs` and `plant_reference.rs`):
 //! on linear cases decay times, energies per element and waveforms agree with the closed forms
-//! of CHECKS.md section 2 (C2.1 to C2.6) and section 1 (C1.1, C1.3) to 1e-7 relative, peak
+//! of docs/references.md section 2 (C2.1 to C2.6) and section 1 (C1.1, C1.3) to 1e-7 relative, peak
 //! voltages to 1e-9; the energy balance closes to 1e-10. Nonlinear segments run at relative
 //! tolerance 1e-12 (coil) and 1e-10 (boost) and agree with an outside general-purpose solver (`ode_solvers` Dop853) to
 //! 1e-8 relative on a saturating coil and to 1e-6 of the peak on a boost start-up.
