@@ -7,6 +7,9 @@
 //! - [`thermal`]: first-order thermal model of the winding, feeding back into its resistance.
 //! - [`coil_drive`]: a low-side switched coil with every clamp network, a switch with
 //!   on-resistance and breakdown (avalanche energy recorded), supply source resistance and shunt.
+//! - [`armature`]: a coil whose armature moves (position and velocity coupled to the flux
+//!   linkage through the gap inductance of [`gap_magnet`]), with end stops, bounce, release
+//!   and armature faults, driven through a switch with a freewheel diode.
 //! - [`boost`]: a boost stage with a saturating inductor and DCR, switch, diode that blocks
 //!   reverse current (DCM), output capacitor with ESR and a resistive load.
 //!
@@ -33,18 +36,25 @@
 //! tolerance 1e-12 (coil) and 1e-10 (boost) and agree with an outside general-purpose solver (`ode_solvers` Dop853) to
 //! 1e-8 relative on a saturating coil and to 1e-6 of the peak on a boost start-up.
 
+pub mod armature;
 pub mod boost;
 pub mod coil_drive;
+pub mod gap_magnet;
 pub mod inductance;
 pub(crate) mod linalg;
 pub(crate) mod rk;
 pub mod thermal;
 
+pub use armature::{
+    ArmatureDrive, ArmatureDriveSpec, ArmatureEnergies, ArmatureEvent, ArmatureEventKind,
+    ArmatureFaults, ArmatureMode, ArmatureSpec, EndStop, Stroke, Topology,
+};
 pub use boost::{Boost, BoostMode, BoostSpec};
 pub use coil_drive::{
     Clamp, CoilDrive, CoilDriveSpec, CoilSpec, CoilState, Energies, PlantEvent, PlantEventKind,
     SwitchOff, SwitchSpec,
 };
+pub use gap_magnet::{GapCurve, GapMagnet};
 pub use inductance::{InductanceCurve, Magnetisation};
 pub use thermal::Thermal;
 
