@@ -203,8 +203,17 @@ pub struct MovementParams {
 /// [`Motion::Moving`], and a dip deeper than `hysteresis + 2a` is reported at a tick where the
 /// noise-free current lies within `2a` of its valley (property tests below). Gaussian ADC noise
 /// is not bounded: choose the hysteresis several RMS values above it and the persistence to
-/// make a run of large deviations improbable; `host-harness/tests/movement_detector.rs`
-/// measures the latency and the false detections over a tolerance sweep with ADC noise.
+/// make a run of large deviations improbable. `host-harness/tests/movement_detector.rs`
+/// measures it on the moving-armature plant over a tolerance sweep (invented demo valve and
+/// relay, 12-bit ADC, 10 kHz tick, persistence 3): with a hysteresis of 5 LSB against
+/// 0.7 LSB RMS noise there was no false detection in 300 healthy and 60 stuck or overloaded
+/// runs; the valley lay within −0.04 ..= +0.11 ms of the first impact and seating was decided
+/// 0.3 ..= 1.0 ms after it. At 1.4 LSB RMS the same 5 LSB gave false seats on the flat top of
+/// a stuck armature's current (13 of 60 faulted runs); 10 LSB was clean again.
+///
+/// The drop-out minimum lags the mechanical lift-off (the motional EMF grows with the speed
+/// from zero): by 0.4 ..= 1.6 ms in that sweep, and the verdict came 0.9 ..= 2.7 ms after the
+/// lift-off, still before the armature reached the open stop.
 ///
 /// *NOTE* The switch must be fully on during the pull-in (no PWM before the seating), the dip
 /// must be deeper than the hysteresis at every tolerance corner (a strongly overdriven coil
