@@ -430,6 +430,12 @@ fn compare(spec: ArmatureDriveSpec, n_off: usize, n_end: usize) -> (ArmatureDriv
         re.len(),
         "event count: plant {pe:#?}\nreference {re:#?}"
     );
+    let dt_max = pe
+        .iter()
+        .zip(re)
+        .map(|((tp, _), (tr, _))| (tp - tr).abs())
+        .fold(0.0, f64::max);
+    println!("largest event time difference {dt_max:e} s");
     for ((tp, kp), (tr, kr)) in pe.iter().zip(re) {
         assert!(
             kp.same_kind(kr),
