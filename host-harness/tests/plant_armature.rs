@@ -418,9 +418,9 @@ fn compare(spec: ArmatureDriveSpec, n_off: usize, n_end: usize) -> (ArmatureDriv
         "worst current difference {worst:e} A of {peak} A; {} events",
         reference.events.len()
     );
-    // Current samples within 1e-7 of the peak current.
+    // Current samples within 1e-10 of the peak current (measured: below 1e-13).
     assert!(
-        worst <= 1e-7 * peak,
+        worst <= 1e-10 * peak,
         "current differs by {worst:e} A (peak {peak} A)"
     );
     let pe = plant_kinds(&plant);
@@ -441,9 +441,9 @@ fn compare(spec: ArmatureDriveSpec, n_off: usize, n_end: usize) -> (ArmatureDriv
             kp.same_kind(kr),
             "plant {kp:?} at {tp} vs reference {kr:?} at {tr}"
         );
-        // Event times within 1 ns.
+        // Event times within 1 ps (measured: below 1e-15 s).
         assert!(
-            (tp - tr).abs() <= 1e-9,
+            (tp - tr).abs() <= 1e-12,
             "{kp:?}: plant {tp} s, reference {tr} s"
         );
         if let (
