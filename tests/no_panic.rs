@@ -1,6 +1,9 @@
 //! No public function of the plan side panics, whatever f32 it is given: NaN, ±inf,
 //! subnormals, zero, negatives and huge values. Every `Ok` result is finite.
 
+use lenz::armature::{
+    Armature, ArmatureSpread, GapInductance, GapTable, MagneticCircuit, Mechanics,
+};
 use lenz::bounds::{CoilSpread, worst_case};
 use lenz::kernel::{EstimatorConfig, MonitorConfig, MonitorParams, SenseScale};
 use lenz::{CoilParams, Range};
@@ -99,6 +102,56 @@ proptest! {
                 abs_tol_a: tol, rel_tol: rel, open_min_estimate_a: tol, open_max_a: a,
                 persistence: p, stuck_samples: p, stuck_min_change_a: tol,
             });
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
+
+    #[test]
+    fn armature_routines(v in proptest::array::uniform14(wild()), use_sat in any::<bool>()) {
+        let [l0, x0, sat, i, x, f, open, closed, preload, rate, load, tol, tx, tl] = v;
+        let _ = GapTable::new(&[(0.0, 0.2), (tx, tl), (2.0e-3, 0.05)]);
+        let _ = GapTable::new(&[(tx, tl)]);
+        let gaps = [
+            GapInductance::Reluctance { zero_gap_h: l0, halving_gap_m: x0 },
+            GapInductance::Reluctance { zero_gap_h: 0.36, halving_gap_m: 0.6e-3 },
+        ];
+        let sats = [if use_sat { Some(sat) } else { None }, Some(0.05), None];
+        for g in gaps {
+            ok_finite(g.inductance_h(x))?;
+            ok_finite(g.slope_h_per_m(x))?;
+            for s in sats {
+                let Ok(m) = MagneticCircuit::new(g, s) else { continue };
+                ok_finite(m.flux_linkage_vs(i, x))?;
+                ok_finite(m.coenergy_j(i, x))?;
+                ok_finite(m.pull_force_n(i, x))?;
+                ok_finite(m.current_for_force_a(f, x))?;
+                if let Ok(Some(v)) = m.force_limit_n(x) {
+                    prop_assert!(v.is_finite());
+                }
+                let mechs = [
+                    Mechanics { open_gap_m: open, closed_gap_m: closed, spring_preload_n: preload, spring_rate_n_per_m: rate, load_n: load },
+                    Mechanics { open_gap_m: 1.2e-3, closed_gap_m: 0.05e-3, spring_preload_n: 5.0, spring_rate_n_per_m: 1000.0, load_n: 1.5 },
+                ];
+                for mech in mechs {
+                    ok_finite(mech.opening_force_n(x))?;
+                    let Ok(a) = Armature::new(m, mech) else { continue };
+                    if let Ok(p) = a.pull_in_current() {
+                        prop_assert!(p.current_a.is_finite() && p.gap_m.is_finite());
+                    }
+                    ok_finite(a.hold_current_a())?;
+                    if s.is_none()
+                        && let (Ok(r_open), Ok(r_pre)) = (Range::new("open_gap_m", open, open * 1.05), Range::tolerance("spring_preload_n", preload, 0.1))
+                        && let Ok(spread) = ArmatureSpread::new(a, tol, r_open, r_pre, Range::exact("spring_rate_n_per_m", rate).unwrap_or(r_pre), Range::new("load_n", 0.0, load).unwrap_or(r_pre))
+                    {
+                        for b in [spread.pull_in_current_a(), spread.hold_current_a()].into_iter().flatten() {
+                            prop_assert!(b.min.is_finite() && b.max.is_finite() && b.min <= b.max);
+                        }
+                    }
+                }
+            }
         }
     }
 }

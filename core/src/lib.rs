@@ -1,6 +1,7 @@
 #![doc = include_str!("../README.md")]
 #![cfg_attr(not(test), no_std)]
 
+pub mod armature;
 pub mod boost;
 pub mod bounds;
 pub mod coil;

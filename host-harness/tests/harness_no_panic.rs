@@ -3,7 +3,8 @@
 
 use lenz_harness::closed_loop::AdcChannel;
 use lenz_harness::plant::{
-    Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec,
+    ArmatureDrive, Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve,
+    SwitchSpec,
 };
 use proptest::prelude::*;
 use rand::SeedableRng;
@@ -85,5 +86,44 @@ proptest! {
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
         let code = ch.convert(x, x, &mut rng);
         prop_assert!(code <= ch.max_code());
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(128))]
+
+    #[test]
+    fn armature_drive_never_panics(
+        v in proptest::array::uniform8(any_f64()), sat in any::<bool>(), stuck in any::<bool>(),
+        steps in proptest::collection::vec((any::<bool>(), any_f64()), 0..8),
+    ) {
+        use lenz_harness::demo::armature::VALVE;
+        // Each draw changes a few values of the demo valve, so both errors and runs occur.
+        let mut spec = VALVE.drive();
+        let a = &mut spec.armature;
+        a.saturation_flux_vs = sat.then_some(v[0]);
+        a.mass_kg = if v[1].is_finite() && v[1] > 0.0 { v[1].min(1.0) } else { v[1] };
+        a.spring_preload_n = v[2];
+        a.restitution = v[3];
+        a.faults.stuck = stuck;
+        a.faults.extra_load_n = v[4].abs();
+        spec.supply_v = v[5];
+        spec.freewheel_vf_v = v[6];
+        if v[7].is_nan() {
+            a.gap = lenz_harness::plant::GapCurve::Table(vec![(0.0, v[7]), (1e-3, 0.1)]);
+        }
+        match ArmatureDrive::new(spec) {
+            Err(e) => prop_assert!(!e.param().is_empty()),
+            Ok(mut p) => {
+                for (on, dt) in steps {
+                    p.set_switch(on);
+                    let t1 = p.time_s() + dt.abs().min(2e-3);
+                    p.advance_to(t1);
+                    let _ = (p.current_a(), p.gap_m(), p.velocity_m_s(), p.magnetic_energy_j());
+                    p.set_supply_v(dt);
+                }
+                prop_assert!(p.gap_m() >= VALVE.closed_gap_m && p.gap_m() <= VALVE.open_gap_m);
+            }
+        }
     }
 }

@@ -12,6 +12,7 @@
 mod duty;
 mod estimator;
 mod monitor;
+mod movement;
 mod offtimer;
 pub mod q;
 mod trip;
@@ -22,6 +23,7 @@ pub use duty::{
 };
 pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorState, OffPath};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
+pub use movement::{Motion, MovementConfig, MovementParams, MovementRaw, MovementState};
 pub use offtimer::{OffStatus, OffTimerState, PLANNED_POINTS, PlannedOffTimer, TrackingOffTimer};
 pub use trip::{
     Cause, INVERSE_M_MAX, INVERSE_M_MIN, INVERSE_TABLE_ERROR_MAX, InverseTable, TABLE_LEN,
