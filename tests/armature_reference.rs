@@ -1,5 +1,5 @@
 //! The moving armature's plan routines against the textbook relations and the reference sheet
-//! (`shared/reference/CHECKS.md`, section 5, C5.2). Each check names its source.
+//! (`docs/references.md`, section 5, C5.2). Each check names its source.
 //!
 //! The force is checked against the co-energy it must derive from: `f = ∂W′(i, x)/∂x` at
 //! constant current (A. E. Fitzgerald, C. Kingsley, S. D. Umans, *Electric Machinery*, ch. 3;
