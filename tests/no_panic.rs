@@ -2,7 +2,10 @@
 //! subnormals, zero, negatives and huge values. Every `Ok` result is finite.
 
 use lenz::bounds::{CoilSpread, worst_case};
-use lenz::kernel::{EstimatorConfig, MonitorConfig, MonitorParams, SenseScale};
+use lenz::kernel::{
+    BridgeGuardConfig, BridgeGuardParams, EstimatorConfig, JamConfig, JamParams, MonitorConfig,
+    MonitorParams, SenseScale, SpeedErrorTerms, SpeedEstimatorConfig,
+};
 use lenz::motor::{MotorParams, MotorSpread, Rail, ReturnPath};
 use lenz::{CoilParams, Range};
 use proptest::prelude::*;
@@ -108,6 +111,18 @@ proptest! {
             if let Ok((i, w)) = m.state_after(x, t, load, y, z, x) {
                 prop_assert!(i.is_finite() && w.is_finite());
             }
+            ok_finite(m.brake_peak_from_speed(t, load, x).map(|p| p.current_a))?;
+            ok_finite(m.ramp_time_to_speed_s(v, t, load, x, y))?;
+            let _ = SpeedEstimatorConfig::new(&m, t, x, y);
+            ok_finite(SpeedEstimatorConfig::error_bound_rad_s(&m, t, &m, v, x, y, &SpeedErrorTerms {
+                current_max_a: z, current_step_max_a: x, speed_max_rad_s: y, accel_max_rad_s2: v,
+                voltage_error_v: load,
+            }))?;
+            ok_finite(SpeedEstimatorConfig::pwm_voltage_error_v(&m, t, x, v, y))?;
+            let _ = BridgeGuardConfig::new(&m, &BridgeGuardParams {
+                supply_v: v, temp_c: t, load_torque_nm: load, current_limit_a: x, tick_s: y,
+                dead_time_s: z, reverse_speed_rad_s: x,
+            });
             for rail in [Rail::Sinks, Rail::Capacitor { capacitance_f: y }] {
                 for path in [ReturnPath::Switches, ReturnPath::Diodes { diode_drop_v: z }] {
                     if let Ok(ret) = m.rail_return(v, t, load, path, rail) {
@@ -118,6 +133,15 @@ proptest! {
                 }
             }
         }
+    }
+
+    #[test]
+    fn jam_plan(a in wild(), b in wild(), c in wild(), d in wild(), e in wild()) {
+        let _ = JamConfig::new(&JamParams {
+            jam_current_a: a, jam_speed_rad_s: b, persistence_s: c, blanking_s: d,
+            overload_current_a: Some(e), overload_s: a, open_current_a: Some(b), open_min_duty: c,
+            tick_s: d,
+        });
     }
 
     #[test]

@@ -36,23 +36,35 @@ struct RampStart {
     p: [f64; 2],
     q: [f64; 2],
     current: Mode2,
+    speed: Mode2,
     after: Transient,
     lambda: f64,
+    /// Slowest decay rate of the free response, 1/s.
+    slow: f64,
 }
 
 impl RampStart {
     fn new(d: &Dynamics, v: f64, load: f64, ramp: f64) -> Self {
         let (alpha, w0sq) = d.alpha_w0sq();
         let lambda = d.r / d.l + d.b / d.j + d.k / libm::sqrt(d.l * d.j);
+        let disc = alpha * alpha - w0sq;
+        let slow = if disc > 0.0 {
+            w0sq / (alpha + libm::sqrt(disc))
+        } else {
+            alpha
+        };
         if ramp <= 0.0 {
             let after = Transient::new(d, v, load, 0.0, 0.0);
+            let zero = Mode2::new(alpha, w0sq, 0.0, 0.0);
             return Self {
                 ramp: 0.0,
                 p: [0.0; 2],
                 q: [0.0; 2],
-                current: Mode2::new(alpha, w0sq, 0.0, 0.0),
+                current: zero,
+                speed: zero,
                 after,
                 lambda,
+                slow,
             };
         }
         let rho = v / ramp;
@@ -73,9 +85,63 @@ impl RampStart {
             p: [pi, pw],
             q: [qi, qw],
             current,
+            speed,
             after: Transient::new(d, v, load, i_r, w_r),
             lambda,
+            slow,
         }
+    }
+
+    /// Speed at `t`, rad/s.
+    fn speed_at(&self, t: f64) -> f64 {
+        if t < self.ramp {
+            self.p[1] + self.q[1] * t + self.speed.value(t)
+        } else {
+            self.after.speed_at(t - self.ramp)
+        }
+    }
+
+    /// First time the speed reaches `target` (> 0): samples every `1/(4λ)` (growing by 1 % of
+    /// the elapsed time once past the ramp and the fast part of the response, where the speed
+    /// moves on the slow time constant alone) up to 50 slow time constants after the ramp,
+    /// then bisection.
+    fn time_to_speed(&self, target: f64) -> Option<f64> {
+        let h0 = 0.25 / self.lambda;
+        let end = self.ramp + 50.0 / self.slow;
+        let (mut t0, mut t1) = (0.0f64, 0.0f64);
+        let mut found = false;
+        for _ in 0..1_000_000 {
+            let grow = if t0 > self.ramp + 4.0 * h0 * 16.0 {
+                0.01 * (t0 - self.ramp)
+            } else {
+                0.0
+            };
+            t1 = (t0 + h0.max(grow)).min(end);
+            if self.speed_at(t1) >= target {
+                found = true;
+                break;
+            }
+            if t1 >= end {
+                break;
+            }
+            t0 = t1;
+        }
+        if !found {
+            return None;
+        }
+        let (mut lo, mut hi) = (t0, t1);
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if mid <= lo || mid >= hi {
+                break;
+            }
+            if self.speed_at(mid) >= target {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        Some(hi)
     }
 
     fn current_in_ramp(&self, t: f64) -> f64 {
@@ -165,6 +231,40 @@ impl Motor {
                 None => None,
             },
         })
+    }
+
+    /// Time for a start from standstill with the applied voltage ramped over `ramp_s` (0: a
+    /// step) to bring the rotor to `speed_rad_s`, load torque held, s. Use it to blank a jam
+    /// detector for the start ([`crate::kernel::JamConfig`]): at the slowest corner (lowest
+    /// supply, hottest winding, heaviest load) it is the longest a healthy start takes.
+    ///
+    /// # Errors
+    ///
+    /// As [`Motor::ramp_start_peak`]; `speed_rad_s` not positive or not finite;
+    /// [`Error::Unreachable`] (param `speed_rad_s`, limit the final speed) when the rotor
+    /// never reaches that speed.
+    pub fn ramp_time_to_speed_s(
+        &self,
+        supply_v: f32,
+        temp_c: f32,
+        load_torque_nm: f32,
+        ramp_s: f32,
+        speed_rad_s: f32,
+    ) -> Result<f32, Error> {
+        let v = check_supply(supply_v)?;
+        let load = check_load(load_torque_nm)?;
+        let ramp = f64::from(in_range("ramp_s", ramp_s, 0.0, RAMP_MAX_S)?);
+        let target = f64::from(crate::error::positive("speed_rad_s", speed_rad_s)?);
+        let d = self.dynamics(temp_c, true)?;
+        let start = RampStart::new(&d, v, load, ramp);
+        match start.time_to_speed(target) {
+            Some(t) => finite_result("speed_rad_s", t as f32),
+            None => Err(Error::Unreachable {
+                param: "speed_rad_s",
+                target: speed_rad_s,
+                limit: start.after.w_final as f32,
+            }),
+        }
     }
 
     /// The shortest soft-start ramp (found by bisection to 10⁻⁶ relative, with the peak at the

@@ -315,6 +315,31 @@ impl Motor {
         peak_result(&self.transient(temp_c, 0.0, t, i0, w0)?)
     }
 
+    /// Peak current of a short-circuit brake from a steady run at `speed_rad_s` (the current
+    /// of that run is `(b·ω + T)/k`, whatever supply it took), load torque held.
+    ///
+    /// # Errors
+    ///
+    /// `speed_rad_s` negative, not finite or above 10⁶ rad/s; load and temperature as
+    /// [`Motor::start_peak`]; inertia not stated.
+    pub fn brake_peak_from_speed(
+        &self,
+        temp_c: f32,
+        load_torque_nm: f32,
+        speed_rad_s: f32,
+    ) -> Result<Peak, Error> {
+        let w = f64::from(crate::error::in_range(
+            "speed_rad_s",
+            speed_rad_s,
+            0.0,
+            1.0e6,
+        )?);
+        let t = check_load(load_torque_nm)?;
+        let d = self.dynamics(temp_c, true)?;
+        let i0 = (d.b * w + t) / d.k;
+        peak_result(&Transient::new(&d, 0.0, t, i0, w))
+    }
+
     /// Current and speed `t_s` seconds after the applied voltage steps from the state
     /// `(i0_a, w0_rad_s)` to `applied_v` (which may be negative or zero), load torque held:
     /// `(current A, speed rad/s)`.

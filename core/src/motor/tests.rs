@@ -322,6 +322,7 @@ fn ramp_peak_matches_a_fine_simulation() {
     };
     let h = 1e-7;
     let (mut y, mut t, mut best) = ([0.0f64; 2], 0.0, 0.0f64);
+    let mut t_200: Option<f64> = None;
     while t < 0.2 {
         let add = |a: [f64; 2], d: [f64; 2], s: f64| [a[0] + s * d[0], a[1] + s * d[1]];
         let k1 = f(t, y);
@@ -333,12 +334,37 @@ fn ramp_peak_matches_a_fine_simulation() {
         }
         t += h;
         best = best.max(y[0].abs());
+        if t_200.is_none() && y[1] >= 200.0 {
+            t_200 = Some(t);
+        }
     }
     let got = c51().ramp_start_peak(12.0, 20.0, 0.02, 20e-3).unwrap();
     assert!(
         isclose(f64::from(got.magnitude_a()), best, 1e-5, 0.0),
         "{got:?} {best}"
     );
+    // The time to 200 rad/s, to the simulation's step.
+    let t = f64::from(
+        c51()
+            .ramp_time_to_speed_s(12.0, 20.0, 0.02, 20e-3, 200.0)
+            .unwrap(),
+    );
+    assert!((t - t_200.unwrap()).abs() <= 2.0 * h, "{t} vs {t_200:?}");
+    // A speed above the final one is never reached.
+    assert!(matches!(
+        c51().ramp_time_to_speed_s(12.0, 20.0, 0.02, 20e-3, 400.0),
+        Err(Error::Unreachable {
+            param: "speed_rad_s",
+            ..
+        })
+    ));
+    // With a step (no ramp) sooner.
+    let step = f64::from(
+        c51()
+            .ramp_time_to_speed_s(12.0, 20.0, 0.02, 0.0, 200.0)
+            .unwrap(),
+    );
+    assert!(step < t && step > 0.0);
 }
 
 #[test]
