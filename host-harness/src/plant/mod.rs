@@ -9,6 +9,10 @@
 //!   on-resistance and breakdown (avalanche energy recorded), supply source resistance and shunt.
 //! - [`boost`]: a boost stage with a saturating inductor and DCR, switch, diode that blocks
 //!   reverse current (DCM), output capacitor with ESR and a resistive load.
+//! - [`motor`]: a brushed DC motor on an H-bridge (drive both ways, brake, coast through the
+//!   diodes, PWM with either decay), load torque profile with a jam, copper heating, supply
+//!   with source resistance and bus capacitor that may be unable to sink current. Standalone:
+//!   not yet a closed-loop plant.
 //!
 //! # Integration
 //!
@@ -37,6 +41,7 @@ pub mod boost;
 pub mod coil_drive;
 pub mod inductance;
 pub(crate) mod linalg;
+pub mod motor;
 pub(crate) mod rk;
 pub mod thermal;
 
@@ -46,6 +51,7 @@ pub use coil_drive::{
     SwitchOff, SwitchSpec,
 };
 pub use inductance::{InductanceCurve, Magnetisation};
+pub use motor::{Decay, LoadProfile, MotorEvent, MotorEventKind, MotorPlant, MotorSpec};
 pub use thermal::Thermal;
 
 use lenz::Error;
