@@ -111,7 +111,7 @@ proptest! {
             if let Ok((i, w)) = m.state_after(x, t, load, y, z, x) {
                 prop_assert!(i.is_finite() && w.is_finite());
             }
-            ok_finite(m.brake_peak_from_speed(t, load, x).map(|p| p.current_a))?;
+            ok_finite(m.brake_peak_from_state(t, load, y, x).map(|p| p.current_a))?;
             ok_finite(m.ramp_time_to_speed_s(v, t, load, x, y))?;
             let _ = SpeedEstimatorConfig::new(&m, t, x, y);
             ok_finite(SpeedEstimatorConfig::error_bound_rad_s(&m, t, &m, v, x, y, &SpeedErrorTerms {
@@ -121,7 +121,7 @@ proptest! {
             ok_finite(SpeedEstimatorConfig::pwm_voltage_error_v(&m, t, x, v, y))?;
             let _ = BridgeGuardConfig::new(&m, &BridgeGuardParams {
                 supply_v: v, temp_c: t, load_torque_nm: load, current_limit_a: x, tick_s: y,
-                dead_time_s: z, reverse_speed_rad_s: x,
+                dead_time_s: z, reverse_speed_rad_s: x, probe_interval_s: y,
             });
             for rail in [Rail::Sinks, Rail::Capacitor { capacitance_f: y }] {
                 for path in [ReturnPath::Switches, ReturnPath::Diodes { diode_drop_v: z }] {

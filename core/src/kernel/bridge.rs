@@ -22,7 +22,9 @@
 //!    fast rotor would exceed the limit; coasting lets it slow down first). A non-zero request
 //!    drives in its direction, unless the rotor turns the other way faster than
 //!    `reverse_speed`: then it stops first (brake or coast as above) and reverses only below
-//!    that speed.
+//!    that speed. A load that drives the braked rotor (a constant load torque `T` turns it
+//!    at `R·T/(k² + R·b)` against a shorted winding) must leave it below `reverse_speed`, or
+//!    the guard keeps braking; the plan checks this for the stated load.
 //! 2. **Dead time.** A change between two of `Forward`, `Reverse`, `Brake` passes through
 //!    `Coast` for `dead_ticks` ticks; leaving `Coast` waits until it has lasted that long. With
 //!    `dead_ticks = 0` modes change directly.
@@ -30,6 +32,13 @@
 //!    `slew_q16` per tick towards the request and falls at once. The plan picks the slew so
 //!    that the start's peak current stays at or below the limit
 //!    ([`crate::motor::Motor::soft_start_ramp_s`]).
+//! 4. **Speed probes while coasting.** A coasting rotor leaves no trace in the current once
+//!    the diodes block, so the speed estimate ([`super::SpeedEstimatorConfig::hold`]) cannot
+//!    fall and the guard would coast forever. Every `probe_ticks` ticks of coasting (and not
+//!    before the dead time has passed) it brakes for one tick: the back-EMF then drives a
+//!    small current through the shorted winding, which the estimator reads. The plan checks
+//!    that one such tick from the no-load speed stays within the current limit. With
+//!    `probe_ticks = 0` there are no probes (the firmware then needs another speed source).
 //!
 //! No float, no division: compares, a saturating add. State: 8 bytes.
 
@@ -115,6 +124,8 @@ pub struct BridgeGuardParams {
     pub dead_time_s: f32,
     /// Reversal only at or below this speed magnitude. Units: rad/s.
     pub reverse_speed_rad_s: f32,
+    /// Interval of the one-tick brake probes while coasting; 0 for none. Units: s.
+    pub probe_interval_s: f32,
 }
 
 /// Raw coefficients of a [`BridgeGuardConfig`] (emitted constants can live in flash).
@@ -130,6 +141,8 @@ pub struct BridgeGuardRaw {
     pub reverse_speed_mrad_s: i32,
     /// Ticks in `Coast` between two driven modes.
     pub dead_ticks: u16,
+    /// Coasting ticks between one-tick brake probes; 0 for none.
+    pub probe_ticks: u16,
 }
 
 /// Bridge guard coefficients (shared by channels); decisions in the module docs of this file.
@@ -145,9 +158,10 @@ pub struct BridgeGuardRaw {
 ///     temp_c: -20.0,
 ///     load_torque_nm: 0.0,
 ///     current_limit_a: 4.0,
-///     tick_s: 1e-3,
-///     dead_time_s: 1e-3,
+///     tick_s: 100e-6,
+///     dead_time_s: 200e-6,
 ///     reverse_speed_rad_s: 20.0,
+///     probe_interval_s: 5e-3,
 /// })?;
 /// let mut s = BridgeGuardState::new();
 /// let first = cfg.update(&mut s, DUTY_ONE_Q16, 0);
@@ -208,10 +222,16 @@ impl BridgeGuardConfig {
     /// whose short-circuit brake peak stays within it (found by bisection to 10⁻⁴ relative,
     /// rounded down to mrad/s), both at the stated supply, temperature and load.
     ///
+    /// The probes: `probe_interval_s` rounded up to whole ticks; one brake tick from the
+    /// no-load speed, `(k·ω₀/R)·(1 − e^(−T·R/L))` with `ω₀ = V/k`, must stay within the limit.
+    ///
     /// # Errors
     ///
     /// Bad parameters, named; the plan's errors ([`Motor::soft_start_ramp_s`]: a limit at or
-    /// below the running current cannot be met).
+    /// below the running current cannot be met); a probe tick whose brake current would exceed
+    /// the limit (`tick_s`); a reversal speed below the speed at which the stated load turns the
+    /// braked rotor, `R·T/(k² + R·b)` at the stated temperature (`reverse_speed_rad_s`: the
+    /// guard would brake for ever).
     pub fn new(motor: &Motor, p: &BridgeGuardParams) -> Result<Self, Error> {
         let tick = f64::from(in_range("tick_s", positive("tick_s", p.tick_s)?, 0.0, 1.0)?);
         let dead = f64::from(in_range(
@@ -230,6 +250,54 @@ impl BridgeGuardConfig {
             });
         }
         let reverse = in_range("reverse_speed_rad_s", p.reverse_speed_rad_s, 0.0, 2.0e6)?;
+        let creep = {
+            let r = f64::from(motor.loop_resistance_ohm(p.temp_c)?);
+            let k = f64::from(motor.torque_constant_nm_per_a());
+            let b = f64::from(motor.params().friction_nm_s_per_rad);
+            let load = f64::from(crate::error::non_negative(
+                "load_torque_nm",
+                p.load_torque_nm,
+            )?);
+            r * load / (k * k + r * b)
+        };
+        if f64::from(reverse) < creep {
+            return Err(Error::OutOfRange {
+                param: "reverse_speed_rad_s",
+                value: reverse,
+                min: creep as f32,
+                max: 2.0e6,
+            });
+        }
+        let probe = f64::from(in_range(
+            "probe_interval_s",
+            non_negative("probe_interval_s", p.probe_interval_s)?,
+            0.0,
+            1.0e3,
+        )?);
+        let probe_ticks = libm::ceil(probe / tick);
+        if probe_ticks > f64::from(u16::MAX) {
+            return Err(Error::OutOfRange {
+                param: "probe_interval_s",
+                value: p.probe_interval_s,
+                min: 0.0,
+                max: (f64::from(u16::MAX) * tick) as f32,
+            });
+        }
+        if probe_ticks > 0.0 {
+            let r = f64::from(motor.loop_resistance_ohm(p.temp_c)?);
+            let x = tick * r / f64::from(motor.inductance_h());
+            let i_probe = f64::from(p.supply_v) / r * -libm::expm1(-x);
+            if !i_probe.is_finite() || i_probe > f64::from(p.current_limit_a) {
+                return Err(Error::OutOfRange {
+                    param: "tick_s",
+                    value: p.tick_s,
+                    min: 0.0,
+                    max: (-libm::log1p(-f64::from(p.current_limit_a) * r / f64::from(p.supply_v))
+                        * f64::from(motor.inductance_h())
+                        / r) as f32,
+                });
+            }
+        }
         let ramp = f64::from(motor.soft_start_ramp_s(
             p.supply_v,
             p.temp_c,
@@ -243,11 +311,20 @@ impl BridgeGuardConfig {
             DUTY_ONE_Q16
         };
         let limit = p.current_limit_a;
+        // The brake may start from a steady run (current (b·ω + T)/k) or from coasting (no
+        // current); the peak is largest at one of the two.
+        let k = motor.torque_constant_nm_per_a();
+        let b = motor.params().friction_nm_s_per_rad;
         let brake_ok = |w: f32| -> Result<bool, Error> {
-            Ok(motor
-                .brake_peak_from_speed(p.temp_c, p.load_torque_nm, w)?
-                .magnitude_a()
-                <= limit)
+            let running = (b * w + p.load_torque_nm) / k;
+            let mut ok = true;
+            for i0 in [0.0, running] {
+                ok &= motor
+                    .brake_peak_from_state(p.temp_c, p.load_torque_nm, i0, w)?
+                    .magnitude_a()
+                    <= limit;
+            }
+            Ok(ok)
         };
         // The fastest speed of interest: no-load speed at the stated supply.
         let w_top = (p.supply_v / motor.torque_constant_nm_per_a()).min(1.0e6);
@@ -272,6 +349,7 @@ impl BridgeGuardConfig {
             brake_speed_mrad_s: libm::floor(brake_speed * 1e3) as i32,
             reverse_speed_mrad_s: libm::floor(f64::from(reverse) * 1e3) as i32,
             dead_ticks: dead_ticks as u16,
+            probe_ticks: probe_ticks as u16,
         }))
     }
 
@@ -309,6 +387,12 @@ impl BridgeGuardConfig {
     #[must_use]
     pub const fn dead_ticks(&self) -> u16 {
         self.r.dead_ticks
+    }
+
+    /// Coasting ticks between brake probes (0: none).
+    #[must_use]
+    pub const fn probe_ticks(&self) -> u16 {
+        self.r.probe_ticks
     }
 
     /// One tick: the application's request in, the bridge command out.
@@ -354,8 +438,15 @@ impl BridgeGuardConfig {
             }
         };
         let cur = BridgeMode::from_code(state.mode);
+        let probe = r.probe_ticks > 0
+            && state.off_ticks >= r.probe_ticks
+            && state.off_ticks >= r.dead_ticks;
         let next = if target == cur {
-            cur
+            if cur == BridgeMode::Coast && probe {
+                BridgeMode::Brake
+            } else {
+                cur
+            }
         } else if cur == BridgeMode::Coast {
             if state.off_ticks >= r.dead_ticks {
                 target
@@ -418,7 +509,8 @@ mod tests {
                 current_limit_a: limit,
                 tick_s: 100e-6,
                 dead_time_s: dead,
-                reverse_speed_rad_s: 20.0,
+                reverse_speed_rad_s: 40.0,
+                probe_interval_s: 0.0,
             },
         )
         .unwrap()
@@ -439,17 +531,17 @@ mod tests {
                 .magnitude_a()
                 <= 4.0
         );
-        // Brake speed: the brake from there peaks at the limit (within the bisection).
+        // Brake speed: the brake from there peaks at the limit (within the bisection), from
+        // the coasting state (no current), which is the worse start here.
         let wb = g.brake_speed_mrad_s() as f32 * 1e-3;
-        let at = m
-            .brake_peak_from_speed(20.0, 0.02, wb)
-            .unwrap()
-            .magnitude_a();
-        let above = m
-            .brake_peak_from_speed(20.0, 0.02, wb * 1.01)
-            .unwrap()
-            .magnitude_a();
-        assert!(at <= 4.0 && above > 4.0, "{wb} {at} {above}");
+        let peak = |i0: f32, w: f32| {
+            m.brake_peak_from_state(20.0, 0.02, i0, w)
+                .unwrap()
+                .magnitude_a()
+        };
+        let running = (1e-6 * wb + 0.02) / 0.03;
+        assert!(peak(0.0, wb) <= 4.0 && peak(running, wb) <= 4.0);
+        assert!(peak(0.0, wb * 1.01) > 4.0, "{wb} {}", peak(0.0, wb * 1.01));
         // A generous limit: no soft start, brake at any speed up to no-load.
         let g = guard(20.0, 0.0);
         assert_eq!(g.slew_q16(), DUTY_ONE_Q16);
@@ -485,19 +577,36 @@ mod tests {
         let wb = g.brake_speed_mrad_s();
         assert_eq!(g.update(&mut s, -DUTY_ONE_Q16, wb).mode, BridgeMode::Brake);
         assert_eq!(
-            g.update(&mut s, -DUTY_ONE_Q16, 25_000).mode,
+            g.update(&mut s, -DUTY_ONE_Q16, 45_000).mode,
             BridgeMode::Brake
         );
-        // Below 20 rad/s: two ticks of dead time, then reverse from duty zero up.
+        // The stated load turns the braked rotor at 33.3 rad/s: a reversal speed below that
+        // would keep the guard braking, the plan refuses it.
+        let err = BridgeGuardConfig::new(
+            &vent(),
+            &BridgeGuardParams {
+                supply_v: 12.0,
+                temp_c: 20.0,
+                load_torque_nm: 0.02,
+                current_limit_a: 4.0,
+                tick_s: 100e-6,
+                dead_time_s: 0.0,
+                reverse_speed_rad_s: 20.0,
+                probe_interval_s: 0.0,
+            },
+        )
+        .unwrap_err();
+        assert_eq!(err.param(), "reverse_speed_rad_s");
+        // Below 40 rad/s: two ticks of dead time, then reverse from duty zero up.
         assert_eq!(
-            g.update(&mut s, -DUTY_ONE_Q16, 15_000).mode,
+            g.update(&mut s, -DUTY_ONE_Q16, 35_000).mode,
             BridgeMode::Coast
         );
         assert_eq!(
-            g.update(&mut s, -DUTY_ONE_Q16, 14_000).mode,
+            g.update(&mut s, -DUTY_ONE_Q16, 34_000).mode,
             BridgeMode::Coast
         );
-        let c = g.update(&mut s, -DUTY_ONE_Q16, 13_000);
+        let c = g.update(&mut s, -DUTY_ONE_Q16, 33_000);
         assert_eq!(c.mode, BridgeMode::Reverse);
         assert_eq!(c.duty_q16, g.slew_q16());
         assert_eq!(c.signed_duty_q16(), -g.slew_q16());
@@ -527,8 +636,13 @@ mod tests {
         };
         let (cur, duty, off) = *hist;
         let dead = i64::from(r.dead_ticks);
+        let probe_due = r.probe_ticks > 0 && off >= i64::from(r.probe_ticks) && off >= dead;
         let next = if target == cur {
-            cur
+            if cur == BridgeMode::Coast && probe_due {
+                BridgeMode::Brake
+            } else {
+                cur
+            }
         } else if cur == BridgeMode::Coast {
             if off >= dead {
                 target
@@ -575,11 +689,15 @@ mod tests {
         #[test]
         fn matches_model_and_keeps_dead_time(
             slew in any::<i32>(), bs in any::<i32>(), rs in any::<i32>(), dead in 0u16..5,
+            probe in 0u16..8,
             seq in proptest::collection::vec((
                 prop_oneof![Just(0i32), Just(DUTY_ONE_Q16), Just(-DUTY_ONE_Q16), any::<i32>()],
                 any::<i32>()), 1..150),
         ) {
-            let raw = BridgeGuardRaw { slew_q16: slew, brake_speed_mrad_s: bs, reverse_speed_mrad_s: rs, dead_ticks: dead };
+            let raw = BridgeGuardRaw {
+                slew_q16: slew, brake_speed_mrad_s: bs, reverse_speed_mrad_s: rs, dead_ticks: dead,
+                probe_ticks: probe,
+            };
             let g = BridgeGuardConfig::from_raw(raw);
             let mut s = BridgeGuardState::new();
             let mut hist = (BridgeMode::Coast, 0i64, i64::from(u16::MAX));

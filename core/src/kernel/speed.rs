@@ -20,6 +20,12 @@
 //! decay the off interval applies `−V_supply` and `u` would be `(2d − 1)·V_supply`. An
 //! optional first-order low-pass `ω̃ += c·(ω̂ − ω̃)`, `c = 1 − e^(−T/τ_f)`, smooths ADC noise.
 //!
+//! While the bridge coasts the applied voltage is not known (the diodes conduct against the
+//! bus, or they block and the back-EMF leaves no trace in the current at all): such ticks call
+//! [`SpeedEstimatorConfig::hold`], which keeps the last estimate and only records the current.
+//! A brake tick (duty 0) is a measurement: the winding is shorted, `u = 0`. The bridge guard
+//! ([`super::BridgeGuardConfig`]) inserts such brake ticks while it coasts a fast rotor down.
+//!
 //! # Fixed point
 //!
 //! Duty in Q16 (`±65 536` is `±1`, the sign is the direction), supply in mV, current in µA
@@ -305,6 +311,15 @@ impl SpeedEstimatorConfig {
         state.last_current_ua = i1;
         state.speed_mrad_s = speed;
         speed
+    }
+
+    /// A tick whose applied voltage is unknown (the bridge coasts): keeps the speed estimate,
+    /// records the sensed current as the start of the next tick, and returns the estimate,
+    /// mrad/s.
+    #[inline]
+    pub fn hold(&self, state: &mut SpeedEstimatorState, current_ua: i32) -> i32 {
+        state.last_current_ua = current_ua;
+        state.speed_mrad_s
     }
 
     /// The error bound of the module docs for this configuration, planned from `plan` at

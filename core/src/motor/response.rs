@@ -315,28 +315,34 @@ impl Motor {
         peak_result(&self.transient(temp_c, 0.0, t, i0, w0)?)
     }
 
-    /// Peak current of a short-circuit brake from a steady run at `speed_rad_s` (the current
-    /// of that run is `(b·ω + T)/k`, whatever supply it took), load torque held.
+    /// Peak current of a short-circuit brake from the state `(current_a, speed_rad_s)`, load
+    /// torque held. A steady run at speed `ω` carries `(b·ω + T)/k`; a rotor coasting with its
+    /// diodes blocked carries none. The response is linear in the initial current, so over a
+    /// range of initial currents the largest peak is at one of its ends.
     ///
     /// # Errors
     ///
-    /// `speed_rad_s` negative, not finite or above 10⁶ rad/s; load and temperature as
-    /// [`Motor::start_peak`]; inertia not stated.
-    pub fn brake_peak_from_speed(
+    /// `speed_rad_s` negative, not finite or above 10⁶ rad/s; `current_a` not finite or beyond
+    /// ±[`crate::coil::CURRENT_MAX_A`]; load and temperature as [`Motor::start_peak`]; inertia
+    /// not stated.
+    pub fn brake_peak_from_state(
         &self,
         temp_c: f32,
         load_torque_nm: f32,
+        current_a: f32,
         speed_rad_s: f32,
     ) -> Result<Peak, Error> {
-        let w = f64::from(crate::error::in_range(
-            "speed_rad_s",
-            speed_rad_s,
-            0.0,
-            1.0e6,
+        use crate::coil::CURRENT_MAX_A;
+        use crate::error::in_range;
+        let w = f64::from(in_range("speed_rad_s", speed_rad_s, 0.0, 1.0e6)?);
+        let i0 = f64::from(in_range(
+            "current_a",
+            current_a,
+            -CURRENT_MAX_A,
+            CURRENT_MAX_A,
         )?);
         let t = check_load(load_torque_nm)?;
         let d = self.dynamics(temp_c, true)?;
-        let i0 = (d.b * w + t) / d.k;
         peak_result(&Transient::new(&d, 0.0, t, i0, w))
     }
 
