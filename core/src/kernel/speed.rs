@@ -360,13 +360,13 @@ impl SpeedEstimatorConfig {
         let k = f64::from(actual.torque_constant_nm_per_a());
         // Rounding: 0.5 mV (u) + 0.5 mV (ê) + half an LSB of each Q24 gain on |i| in µA.
         let q_v = 1e-3 + 2.0 * i_max * 1e6 / Q24 * 1e-3;
-        let volts = (g1 - g1p).abs() * di_max + (r - rp).abs() * i_max + du + q_v;
+        let volts = libm::fabs(g1 - g1p) * di_max + libm::fabs(r - rp) * i_max + du + q_v;
         let lag = if filter > 0.0 {
             a_max * tick / -libm::expm1(-tick / filter)
         } else {
             0.0
         };
-        let bound = volts / kp + (k - kp).abs() / kp * w_max + a_max * tick + lag + 5e-4;
+        let bound = volts / kp + libm::fabs(k - kp) / kp * w_max + a_max * tick + lag + 5e-4;
         finite_result("tick_s", bound as f32)
     }
 
@@ -396,7 +396,7 @@ impl SpeedEstimatorConfig {
         let x = tick * r / f64::from(motor.inductance_h());
         let one_minus_a = -libm::expm1(-x);
         let a = libm::exp(-x);
-        let err = v * (d - a * libm::expm1(d * x) / one_minus_a).abs();
+        let err = v * libm::fabs(d - a * libm::expm1(d * x) / one_minus_a);
         finite_result("tick_s", err as f32)
     }
 }
