@@ -517,6 +517,12 @@ mod tests {
     }
 
     #[test]
+    fn state_size_is_as_documented() {
+        // The kernel rule: at most 32 bytes of state per channel.
+        assert_eq!(core::mem::size_of::<BridgeGuardState>(), 8);
+    }
+
+    #[test]
     fn plan_limits_hold() {
         let g = guard(4.0, 200e-6);
         assert_eq!(g.dead_ticks(), 2);

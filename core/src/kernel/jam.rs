@@ -412,6 +412,12 @@ mod tests {
     }
 
     #[test]
+    fn state_size_is_as_documented() {
+        // The kernel rule: at most 32 bytes of state per channel.
+        assert_eq!(core::mem::size_of::<JamState>(), 20);
+    }
+
+    #[test]
     fn constructor_rounds_times_up_and_names_bad_input() {
         let c = JamConfig::new(&params()).unwrap();
         assert_eq!(c.persist_ticks(), 20);

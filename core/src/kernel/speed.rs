@@ -435,6 +435,12 @@ mod tests {
     }
 
     #[test]
+    fn state_size_is_as_documented() {
+        // The kernel rule: at most 32 bytes of state per channel.
+        assert_eq!(core::mem::size_of::<SpeedEstimatorState>(), 12);
+    }
+
+    #[test]
     fn start_up_tracks_the_true_speed() {
         // Step start at 12 V, load 0.02 N·m, 10 kHz tick, currents sampled exactly: the error
         // stays within the bound of the module docs with the plan equal to the motor.
