@@ -5,7 +5,11 @@ use lenz::armature::{
     Armature, ArmatureSpread, GapInductance, GapTable, MagneticCircuit, Mechanics,
 };
 use lenz::bounds::{CoilSpread, worst_case};
-use lenz::kernel::{EstimatorConfig, MonitorConfig, MonitorParams, SenseScale};
+use lenz::kernel::{
+    BridgeGuardConfig, BridgeGuardParams, EstimatorConfig, JamConfig, JamParams, MonitorConfig,
+    MonitorParams, SenseScale, SpeedErrorTerms, SpeedEstimatorConfig,
+};
+use lenz::motor::{MotorParams, MotorSpread, Rail, ReturnPath};
 use lenz::{CoilParams, Range};
 use proptest::prelude::*;
 
@@ -66,6 +70,95 @@ proptest! {
             let _ = EstimatorConfig::new(&c, t, x);
             let _ = EstimatorConfig::with_clamp(&c, t, x, rs, vd, true);
         }
+    }
+
+    #[test]
+    fn motor_routines(
+        l in wild(), r in wild(), k in wild(), j in wild(), b in wild(), rb in wild(),
+        v in wild(), t in wild(), load in wild(), x in wild(), y in wild(), z in wild(),
+    ) {
+        let p = MotorParams::new(l, r, k)
+            .with_inertia_kg_m2(j)
+            .with_friction_nm_s_per_rad(b)
+            .with_bridge_resistance_ohm(rb);
+        // Also a valid motor, so the routines themselves see the wild arguments.
+        let valid = MotorParams::new(2e-3, 1.5, 0.03)
+            .with_inertia_kg_m2(2e-5)
+            .with_friction_nm_s_per_rad(1e-6)
+            .validate()
+            .unwrap();
+        let motors: Vec<_> = [p.validate().ok(), Some(valid)].into_iter().flatten().collect();
+        for m in motors {
+            ok_finite(m.resistance_ohm(t))?;
+            ok_finite(m.stall_current_a(v, t))?;
+            ok_finite(m.stall_torque_nm(v, t))?;
+            if let Ok(s) = m.steady_state(v, t, load) {
+                prop_assert!(s.speed_rad_s.is_finite() && s.current_a.is_finite());
+            }
+            ok_finite(m.electrical_time_constant_s(t))?;
+            ok_finite(m.mechanical_time_constant_s(t))?;
+            ok_finite(m.kinetic_energy_j(x))?;
+            for peak in [
+                m.start_peak(v, t, load),
+                m.reversal_peak(v, t, load),
+                m.brake_peak(v, t, load),
+                m.ramp_start_peak(v, t, load, x),
+            ]
+            .into_iter()
+            .flatten()
+            {
+                prop_assert!(peak.current_a.is_finite());
+                prop_assert!(peak.time_s.is_none_or(f32::is_finite));
+            }
+            ok_finite(m.soft_start_ramp_s(v, t, load, x))?;
+            if let Ok((i, w)) = m.state_after(x, t, load, y, z, x) {
+                prop_assert!(i.is_finite() && w.is_finite());
+            }
+            ok_finite(m.brake_peak_from_state(t, load, y, x).map(|p| p.current_a))?;
+            ok_finite(m.ramp_time_to_speed_s(v, t, load, x, y))?;
+            let _ = SpeedEstimatorConfig::new(&m, t, x, y);
+            ok_finite(SpeedEstimatorConfig::error_bound_rad_s(&m, t, &m, v, x, y, &SpeedErrorTerms {
+                current_max_a: z, current_step_max_a: x, speed_max_rad_s: y, accel_max_rad_s2: v,
+                voltage_error_v: load,
+            }))?;
+            ok_finite(SpeedEstimatorConfig::pwm_voltage_error_v(&m, t, x, v, y))?;
+            let _ = BridgeGuardConfig::new(&m, &BridgeGuardParams {
+                supply_v: v, temp_c: t, load_torque_nm: load, current_limit_a: x, tick_s: y,
+                dead_time_s: z, reverse_speed_rad_s: x, probe_interval_s: y,
+            });
+            for rail in [Rail::Sinks, Rail::Capacitor { capacitance_f: y }] {
+                for path in [ReturnPath::Switches, ReturnPath::Diodes { diode_drop_v: z }] {
+                    if let Ok(ret) = m.rail_return(v, t, load, path, rail) {
+                        for q in [ret.charge_c, ret.energy_j, ret.duration_s, ret.peak_bus_v, ret.speed_rad_s] {
+                            prop_assert!(q.is_finite());
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn jam_plan(a in wild(), b in wild(), c in wild(), d in wild(), e in wild()) {
+        let _ = JamConfig::new(&JamParams {
+            jam_current_a: a, jam_speed_rad_s: b, persistence_s: c, blanking_s: d,
+            overload_current_a: Some(e), overload_s: a, open_current_a: Some(b), open_min_duty: c,
+            tick_s: d,
+        });
+    }
+
+    #[test]
+    fn motor_spread(v0 in wild(), v1 in wild(), t0 in wild(), t1 in wild(), tol in wild(), load in wild()) {
+        let motor = MotorParams::new(2e-3, 1.5, 0.03).with_inertia_kg_m2(2e-5);
+        if let (Ok(sv), Ok(st)) = (Range::new("supply_v", v0, v1), Range::new("temp_c", t0, t1))
+            && let Ok(s) = MotorSpread::new(motor, sv, st, load, [tol; 4]) {
+                for b in [s.stall_current_a(), s.steady_speed_rad_s(), s.start_peak_current_a()]
+                    .into_iter()
+                    .flatten()
+                {
+                    prop_assert!(b.min.is_finite() && b.max.is_finite() && b.min <= b.max);
+                }
+            }
     }
 
     #[test]

@@ -7,6 +7,7 @@ pub mod bounds;
 pub mod coil;
 mod error;
 pub mod kernel;
+pub mod motor;
 #[cfg(test)]
 mod testing;
 pub mod trip;

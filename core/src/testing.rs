@@ -196,4 +196,195 @@ pub mod armature64 {
         let v = need(x);
         if v > best.0 { (v, x) } else { best }
     }
+/// f64 reference evaluations of the motor model, written from the textbook equations
+/// `V = R·i + L·di/dt + k·ω`, `J·dω/dt = k·i − b·ω − T` independently of [`crate::motor`]:
+/// steady state by Cramer's rule, transients in the eigenvalue form of the 2×2 system, peaks by
+/// a dense scan refined by golden-section search (not from the derivative's zero), returned
+/// charge by Gauss–Legendre quadrature, and the bus capacitor case by classical RK4.
+pub mod motor64 {
+    /// The motor at one temperature.
+    #[derive(Debug, Clone, Copy)]
+    pub struct M {
+        /// Loop resistance, Ω.
+        pub r: f64,
+        /// Inductance, H.
+        pub l: f64,
+        /// Torque constant, N·m/A.
+        pub k: f64,
+        /// Inertia, kg·m².
+        pub j: f64,
+        /// Viscous friction, N·m·s/rad.
+        pub b: f64,
+    }
+
+    impl M {
+        /// Steady (current, speed) at voltage `v` and load `t`: solves
+        /// `[[R, k], [k, −b]]·[i, ω] = [v, t]` by Cramer's rule.
+        pub fn steady(&self, v: f64, t: f64) -> (f64, f64) {
+            let det = -self.r * self.b - self.k * self.k;
+            (
+                (-self.b * v - self.k * t) / det,
+                (self.r * t - self.k * v) / det,
+            )
+        }
+
+        /// Current at `t` after stepping to `v` from `(i0, w0)`, eigenvalue form.
+        pub fn current(&self, v: f64, load: f64, i0: f64, w0: f64, t: f64) -> f64 {
+            let (i_f, _) = self.steady(v, load);
+            let e0 = i0 - i_f;
+            let d0 = (v - self.r * i0 - self.k * w0) / self.l;
+            let tr = -self.r / self.l - self.b / self.j;
+            let det = (self.r * self.b + self.k * self.k) / (self.l * self.j);
+            let disc = tr * tr / 4.0 - det;
+            let sigma = tr / 2.0;
+            if disc.abs() <= 1e-14 * sigma * sigma {
+                return i_f + (sigma * t).exp() * (e0 + (d0 - sigma * e0) * t);
+            }
+            if disc > 0.0 {
+                let s = disc.sqrt();
+                let (l1, l2) = (sigma + s, sigma - s);
+                let c1 = (d0 - l2 * e0) / (l1 - l2);
+                let c2 = e0 - c1;
+                i_f + c1 * (l1 * t).exp() + c2 * (l2 * t).exp()
+            } else {
+                let w = (-disc).sqrt();
+                i_f + (sigma * t).exp()
+                    * (e0 * (w * t).cos() + (d0 - sigma * e0) / w * (w * t).sin())
+            }
+        }
+
+        /// Slowest and fastest decay rates (1/s) of the system.
+        pub fn rates(&self) -> (f64, f64) {
+            let tr = self.r / self.l + self.b / self.j;
+            let det = (self.r * self.b + self.k * self.k) / (self.l * self.j);
+            let disc = tr * tr / 4.0 - det;
+            if disc > 0.0 {
+                (det / (tr / 2.0 + disc.sqrt()), tr / 2.0 + disc.sqrt())
+            } else {
+                (tr / 2.0, det.sqrt())
+            }
+        }
+
+        /// Largest |current| over t ≥ 0 by a log-spaced scan to 40 slow time constants and a
+        /// golden-section refinement of the best sample; the final value when the scan's
+        /// largest sample is its last.
+        pub fn peak(&self, v: f64, load: f64, i0: f64, w0: f64) -> f64 {
+            let (slow, fast) = self.rates();
+            let f = |t: f64| self.current(v, load, i0, w0, t).abs();
+            let (t_lo, t_hi) = (1e-4 / fast, 40.0 / slow);
+            let n = 20_000;
+            let grid = |k: usize| t_lo * (t_hi / t_lo).powf(k as f64 / n as f64);
+            let mut best = (0usize, f(grid(0)));
+            for k in 1..=n {
+                let y = f(grid(k));
+                if y > best.1 {
+                    best = (k, y);
+                }
+            }
+            let start = f(0.0);
+            if best.0 == n {
+                return start.max(self.steady(v, load).0.abs());
+            }
+            let (mut a, mut b) = (grid(best.0.saturating_sub(1)), grid(best.0 + 1));
+            let g = 0.618_033_988_749_894_9;
+            for _ in 0..200 {
+                let (x1, x2) = (b - g * (b - a), a + g * (b - a));
+                if f(x1) > f(x2) {
+                    b = x2;
+                } else {
+                    a = x1;
+                }
+            }
+            f(0.5 * (a + b)).max(start)
+        }
+
+        /// Coast or reversal from the steady state at `v0` into a sinking rail against
+        /// `v0 + drop`: (charge, time to zero current).
+        pub fn returned_sink(&self, v0: f64, load: f64, drop: f64) -> (f64, f64) {
+            let (i0, w0) = self.steady(v0, load);
+            let v = -(v0 + drop);
+            let (_, fast) = self.rates();
+            let i = |t: f64| self.current(v, load, i0, w0, t);
+            // Steps of 1/50 of the fast time constant, growing with t (0.2 %) once the fast
+            // part has died out.
+            let mut t = 0.0;
+            let mut h = 0.02 / fast;
+            while i(t + h) > 0.0 {
+                t += h;
+                h = (0.02 / fast).max(0.002 * t);
+                assert!(t < 1e9 / fast, "no zero crossing");
+            }
+            let (mut a, mut b) = (t, t + h);
+            for _ in 0..200 {
+                let m = 0.5 * (a + b);
+                if i(m) > 0.0 {
+                    a = m;
+                } else {
+                    b = m;
+                }
+            }
+            let t0 = 0.5 * (a + b);
+            // Gauss–Legendre, 5 points on each of 400 panels.
+            let nodes = [
+                (0.0, 128.0 / 225.0),
+                (-0.538_469_310_105_683_1, 0.478_628_670_499_366_5),
+                (0.538_469_310_105_683_1, 0.478_628_670_499_366_5),
+                (-0.906_179_845_938_664, 0.236_926_885_056_189_1),
+                (0.906_179_845_938_664, 0.236_926_885_056_189_1),
+            ];
+            let panels = 400;
+            let w = t0 / panels as f64;
+            let mut q = 0.0;
+            for p in 0..panels {
+                let mid = (p as f64 + 0.5) * w;
+                for (x, wt) in nodes {
+                    q += wt * 0.5 * w * i(mid + 0.5 * w * x);
+                }
+            }
+            (q, t0)
+        }
+
+        /// Coast into the bus capacitor `c` alone (supply cannot sink): (charge, time to zero
+        /// current) by RK4 on `[i, ω, q]`, the crossing by linear interpolation.
+        pub fn returned_cap(&self, v0: f64, load: f64, drop: f64, c: f64) -> (f64, f64) {
+            let (i0, w0) = self.steady(v0, load);
+            let f = |y: [f64; 3]| -> [f64; 3] {
+                let vbus = v0 + y[2] / c;
+                [
+                    (-(vbus + drop) - self.r * y[0] - self.k * y[1]) / self.l,
+                    (self.k * y[0] - self.b * y[1] - load) / self.j,
+                    y[0],
+                ]
+            };
+            let (_, fast) = self.rates();
+            let lc = 1.0 / (self.l * c).sqrt();
+            // Steps well inside every rate, and inside the time the current takes to fall at its
+            // initial slope (a short coast of a small current).
+            let t_fall = self.l * i0 / (v0 + drop + self.r * i0 + self.k * w0);
+            let h =
+                (0.002 / (fast + lc + self.r / self.l + 1.0 / (self.r * c))).min(t_fall / 2000.0);
+            let mut y = [i0, w0, 0.0];
+            let mut t = 0.0;
+            loop {
+                let k1 = f(y);
+                let add = |a: [f64; 3], b: [f64; 3], s: f64| {
+                    [a[0] + s * b[0], a[1] + s * b[1], a[2] + s * b[2]]
+                };
+                let k2 = f(add(y, k1, h / 2.0));
+                let k3 = f(add(y, k2, h / 2.0));
+                let k4 = f(add(y, k3, h));
+                let mut n = y;
+                for m in 0..3 {
+                    n[m] += h / 6.0 * (k1[m] + 2.0 * k2[m] + 2.0 * k3[m] + k4[m]);
+                }
+                if n[0] <= 0.0 {
+                    let frac = y[0] / (y[0] - n[0]);
+                    return (y[2] + frac * (n[2] - y[2]), t + frac * h);
+                }
+                y = n;
+                t += h;
+                assert!(t < 1e7 * h, "no zero crossing");
+            }
+        }
+    }
 }

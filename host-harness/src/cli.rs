@@ -18,6 +18,12 @@ volts and dumps its stored energy into the switch and clamp. These figures are d
 a safety approval: mains-powered coils are lethal; follow local electrical codes and licensed \
 practice.";
 
+/// Caution printed with motor results, beside [`CAUTION`].
+pub const MOTOR_CAUTION: &str = "CAUTION: a motor draws up to its stall current at every start, \
+nearly twice that when reversed at speed, and returns its current to the supply when it coasts \
+or brakes, which can lift a bus that cannot sink current above its rating. Keep hands clear of \
+the driven mechanism while testing.";
+
 /// `lenz`: coil current, safe switch-off, boost duty limits and overcurrent trips.
 #[derive(Debug, Parser)]
 #[command(name = "lenz", version, about, long_about = None)]
@@ -30,6 +36,9 @@ pub struct Cli {
 enum Command {
     /// Quick coil calculation: time constant, steady current, step response, time to a target.
     Coil(cmd::coil::Args),
+    /// Brushed DC motor on an H-bridge: stall, steady state, time constants and the exact peak
+    /// currents of start, reversal and short-circuit brake.
+    Motor(cmd::motor::Args),
     /// The worked example: worst-case plans of the greenhouse demo (invented values), its
     /// scenarios in the closed loop and a report folder.
     Demo(cmd::demo::Args),
@@ -102,6 +111,10 @@ unit_parsers! {
     hertz => Unit::Hertz,
     farad => Unit::Farad,
     celsius => Unit::Celsius,
+    newton_metre => Unit::NewtonMetre,
+    newton_metre_per_ampere => Unit::NewtonMetrePerAmpere,
+    kilogram_square_metre => Unit::KilogramSquareMetre,
+    newton_metre_second => Unit::NewtonMetreSecondPerRadian,
     plain => Unit::None,
 }
 
@@ -151,6 +164,7 @@ where
     };
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
+        Command::Motor(a) => cmd::motor::run(&a),
         Command::Demo(a) => cmd::demo::run(&a),
         Command::Plan(a) => cmd::plan::run(&a),
         Command::Sim(a) => cmd::sim::run(&a),

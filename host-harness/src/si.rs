@@ -43,6 +43,15 @@ pub enum Unit {
     Watt,
     /// Degree Celsius: `C`, `°C` (no prefixes).
     Celsius,
+    /// Newton metre (torque): `Nm`, `N·m`.
+    NewtonMetre,
+    /// Newton metre per ampere (torque constant, equal to V·s/rad): `Nm/A`, `N·m/A`, `Vs/rad`,
+    /// `V·s/rad`.
+    NewtonMetrePerAmpere,
+    /// Kilogram square metre (inertia): `kgm2`, `kgm²`, `kg·m²`.
+    KilogramSquareMetre,
+    /// Newton metre second per radian (viscous friction): `Nms/rad`, `N·m·s/rad`, `Nms`.
+    NewtonMetreSecondPerRadian,
     /// A plain number (ratios, multipliers, counts).
     None,
 }
@@ -60,6 +69,10 @@ impl Unit {
             Unit::Joule => &["J"],
             Unit::Watt => &["W"],
             Unit::Celsius => &["°C", "C"],
+            Unit::NewtonMetre => &["N·m", "Nm"],
+            Unit::NewtonMetrePerAmpere => &["N·m/A", "Nm/A", "V·s/rad", "Vs/rad"],
+            Unit::KilogramSquareMetre => &["kg·m²", "kgm²", "kgm2"],
+            Unit::NewtonMetreSecondPerRadian => &["N·m·s/rad", "Nms/rad", "Nms"],
             Unit::None => &[],
         }
     }
@@ -147,6 +160,19 @@ mod tests {
         assert!(close(parse("85C", Unit::Celsius).unwrap(), 85.0));
         assert!(close(parse("24", Unit::Volt).unwrap(), 24.0));
         assert!(close(parse("24V", Unit::Volt).unwrap(), 24.0));
+        assert!(close(parse("20mNm", Unit::NewtonMetre).unwrap(), 0.02));
+        assert!(close(
+            parse("30mNm/A", Unit::NewtonMetrePerAmpere).unwrap(),
+            0.03
+        ));
+        assert!(close(
+            parse("20ukgm2", Unit::KilogramSquareMetre).unwrap(),
+            2e-5
+        ));
+        assert!(close(
+            parse("1uNms/rad", Unit::NewtonMetreSecondPerRadian).unwrap(),
+            1e-6
+        ));
     }
 
     #[test]

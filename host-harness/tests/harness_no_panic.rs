@@ -1,10 +1,11 @@
 //! No public function of the plant or the closed loop panics on any input: arbitrary f64
 //! (NaN, ±inf, subnormals, zero, negatives) either gives a named error or a run.
 
+use lenz::kernel::BridgeMode;
 use lenz_harness::closed_loop::AdcChannel;
 use lenz_harness::plant::{
-    ArmatureDrive, Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve,
-    SwitchSpec,
+    ArmatureDrive, Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, Decay,
+    InductanceCurve, LoadProfile, MotorPlant, MotorSpec, SwitchSpec,
 };
 use proptest::prelude::*;
 use rand::SeedableRng;
@@ -23,6 +24,50 @@ fn any_f64() -> impl Strategy<Value = f64> {
 }
 
 proptest! {
+    #[test]
+    fn motor_plant_never_panics(
+        l in any_f64(), r in any_f64(), k in any_f64(), j in any_f64(), vs in any_f64(),
+        rs in any_f64(), c in any_f64(), sinks in any::<bool>(),
+        steps in proptest::collection::vec((0u8..6, any_f64()), 0..8),
+    ) {
+        let mut spec = MotorSpec::new(l, r, k, j);
+        spec.supply_v = vs;
+        spec.source_resistance_ohm = rs;
+        spec.bus_capacitance_f = c;
+        spec.supply_sinks = sinks;
+        // Also a valid motor, so the operations themselves see the wild arguments.
+        let mut valid = MotorSpec::new(2e-3, 1.5, 0.03, 2e-5);
+        valid.supply_sinks = sinks;
+        for spec in [spec, valid] {
+            match MotorPlant::new(spec) {
+                Err(e) => prop_assert!(!e.param().is_empty()),
+                Ok(mut p) => {
+                    for (op, x) in &steps {
+                        let t1 = p.time_s() + x.abs().min(2e-3);
+                        match op {
+                            0 => p.set_bridge(BridgeMode::Forward),
+                            1 => p.set_bridge(BridgeMode::Coast),
+                            2 => {
+                                let _ = p.advance_pwm(BridgeMode::Reverse, *x, 5e-5, Decay::Fast, t1);
+                            }
+                            3 => {
+                                p.set_load_torque_nm(*x);
+                                p.set_supply_v(*x);
+                            }
+                            4 => p.set_load_profile(LoadProfile { steps: vec![(*x, *x)], jam_at_s: Some(*x) }),
+                            _ => {
+                                p.set_state(*x, *x, *x);
+                                p.set_supply_sinks(!sinks);
+                            }
+                        }
+                        p.advance_to(t1);
+                        let _ = (p.current_a(), p.speed_rad_s(), p.bus_v(), p.peak_current_a());
+                    }
+                }
+            }
+        }
+    }
+
     #[test]
     fn coil_drive_never_panics(
         l in any_f64(), r in any_f64(), t in any_f64(), vs in any_f64(), bv in any_f64(),

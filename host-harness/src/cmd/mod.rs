@@ -4,6 +4,7 @@ pub mod boost;
 pub mod coil;
 pub mod cost;
 pub mod demo;
+pub mod motor;
 pub mod plan;
 pub mod sim;
 pub mod sweep;

@@ -12,6 +12,10 @@
 //!   and armature faults, driven through a switch with a freewheel diode.
 //! - [`boost`]: a boost stage with a saturating inductor and DCR, switch, diode that blocks
 //!   reverse current (DCM), output capacitor with ESR and a resistive load.
+//! - [`motor`]: a brushed DC motor on an H-bridge (drive both ways, brake, coast through the
+//!   diodes, PWM with either decay), load torque profile with a jam, copper heating, supply
+//!   with source resistance and bus capacitor that may be unable to sink current. Standalone:
+//!   not yet a closed-loop plant.
 //!
 //! # Integration
 //!
@@ -45,6 +49,7 @@ pub mod coil_drive;
 pub mod gap_magnet;
 pub mod inductance;
 pub(crate) mod linalg;
+pub mod motor;
 pub(crate) mod rk;
 pub mod thermal;
 
@@ -59,6 +64,7 @@ pub use coil_drive::{
 };
 pub use gap_magnet::{GapCurve, GapMagnet};
 pub use inductance::{InductanceCurve, Magnetisation};
+pub use motor::{Decay, LoadProfile, MotorEvent, MotorEventKind, MotorPlant, MotorSpec};
 pub use thermal::Thermal;
 
 use lenz::Error;
