@@ -196,6 +196,8 @@ pub mod armature64 {
         let v = need(x);
         if v > best.0 { (v, x) } else { best }
     }
+}
+
 /// f64 reference evaluations of the motor model, written from the textbook equations
 /// `V = R·i + L·di/dt + k·ω`, `J·dω/dt = k·i − b·ω − T` independently of [`crate::motor`]:
 /// steady state by Cramer's rule, transients in the eigenvalue form of the 2×2 system, peaks by
