@@ -21,7 +21,7 @@
 //!
 //! # Tables and interpolation without division
 //!
-//! Each limit is stored at `N` = [`TABLE_LEN`] input readings `vin_lo_counts + i·2^shift`, in
+//! Each limit is stored at `N` = [`DUTY_TABLE_LEN`] input readings `vin_lo_counts + i·2^shift`, in
 //! duty counts with 8 fractional bits (Q8). Between nodes the kernel interpolates linearly:
 //! with `o = vin − vin_lo`, `i = o >> shift`, `f = o & (2^shift − 1)`,
 //! `y = t[i] + ((t[i+1] − t[i])·f >> shift)`: one multiply and shifts, no division. The output
@@ -52,8 +52,8 @@ use crate::boost::{BoostStage, LightLoad, OperatingPoint};
 use crate::bounds::Range;
 use crate::error::{Error, in_range, positive};
 
-/// Number of nodes of each limit table.
-pub const TABLE_LEN: usize = 32;
+/// Number of nodes of each duty-limit table.
+pub const DUTY_TABLE_LEN: usize = 32;
 
 /// Interior points per table segment at which the constructor checks the chord.
 const CHECKS_PER_SEGMENT: usize = 5;
@@ -116,11 +116,11 @@ pub struct DutyLimiterRaw {
     /// Node spacing `2^shift` counts (at most 16 is used).
     pub shift: u8,
     /// Saturation limit at the nodes, duty counts Q8.
-    pub saturation_q8: [i32; TABLE_LEN],
+    pub saturation_q8: [i32; DUTY_TABLE_LEN],
     /// Gain-peak limit at the nodes, duty counts Q8.
-    pub gain_peak_q8: [i32; TABLE_LEN],
+    pub gain_peak_q8: [i32; DUTY_TABLE_LEN],
     /// Light-load overvoltage limit at the nodes, duty counts Q8.
-    pub light_load_q8: [i32; TABLE_LEN],
+    pub light_load_q8: [i32; DUTY_TABLE_LEN],
     /// Minimum-off-time limit, duty counts Q8.
     pub min_off_q8: i32,
     /// Duties below this are output as 0, counts.
@@ -181,10 +181,10 @@ pub struct DutyLimiterRaw {
 /// let mut s = DutyLimiterState::new();
 /// let mut d = 0;
 /// for _ in 0..200 {
-///     d = cfg.tick(&mut s, 1000, 3103, 2979); // full request, 5.0 V in, 12.0 V out
+///     d = cfg.update(&mut s, 1000, 3103, 2979); // full request, 5.0 V in, 12.0 V out
 /// }
 /// assert!(d > 0 && d <= cfg.limit_counts(3103));
-/// assert_eq!(cfg.tick(&mut s, 1000, 3103, 3500), 0); // 14.1 V: cut at once
+/// assert_eq!(cfg.update(&mut s, 1000, 3103, 3500), 0); // 14.1 V: cut at once
 /// # Ok::<(), lenz::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -224,6 +224,12 @@ impl DutyLimiterState {
     pub const fn last_q8(&self) -> i32 {
         self.last_q8
     }
+
+    /// Back to not switching, soft start from zero, no overvoltage latched (as
+    /// [`DutyLimiterState::new`]).
+    pub fn reset(&mut self) {
+        *self = Self::new();
+    }
 }
 
 fn counts(param: &'static str, v: f32, v_per_count: f32, max: u16) -> Result<f32, Error> {
@@ -262,7 +268,7 @@ impl DutyLimiterConfig {
         let (lo, hi) = (lo as u16, hi as u16);
         let span = u32::from(hi - lo);
         let mut shift = 0u8;
-        while ((TABLE_LEN as u32 - 1) << shift) < span {
+        while ((DUTY_TABLE_LEN as u32 - 1) << shift) < span {
             shift += 1;
         }
         let tick = positive("tick_s", p.tick_s)?;
@@ -340,8 +346,8 @@ impl DutyLimiterConfig {
             Ok(out)
         };
         let step = f64::from(1u32 << shift);
-        let mut nodes = [[0.0f64; TABLE_LEN]; LIMIT_TABLES];
-        for i in 0..TABLE_LEN {
+        let mut nodes = [[0.0f64; DUTY_TABLE_LEN]; LIMIT_TABLES];
+        for i in 0..DUTY_TABLE_LEN {
             let l = limits_at(f64::from(lo) + i as f64 * step)?;
             for (t, v) in nodes.iter_mut().zip(l) {
                 t[i] = v;
@@ -350,7 +356,7 @@ impl DutyLimiterConfig {
         // Lower the nodes until every chord lies at or below the limit at the interior checks.
         let mut lowered = nodes;
         if shift > 0 {
-            for seg in 0..TABLE_LEN - 1 {
+            for seg in 0..DUTY_TABLE_LEN - 1 {
                 let mut excess = [0.0f64; LIMIT_TABLES];
                 for j in 1..=CHECKS_PER_SEGMENT {
                     let frac = j as f64 / (CHECKS_PER_SEGMENT + 1) as f64;
@@ -370,7 +376,7 @@ impl DutyLimiterConfig {
         }
         let to_q8 = |d: f64| libm::floor((d - NODE_MARGIN).clamp(0.0, 1.0) * fs_q8) as i32;
         let table = |k: usize| {
-            let mut t = [0i32; TABLE_LEN];
+            let mut t = [0i32; DUTY_TABLE_LEN];
             for (q, d) in t.iter_mut().zip(lowered[k]) {
                 *q = to_q8(d);
             }
@@ -406,13 +412,97 @@ impl DutyLimiterConfig {
         Self { r: raw }
     }
 
-    /// The raw coefficients.
+    /// The raw coefficients: `DutyLimiterConfig::from_raw(cfg.raw()) == cfg`.
     #[must_use]
-    pub const fn raw(&self) -> &DutyLimiterRaw {
-        &self.r
+    pub const fn raw(&self) -> DutyLimiterRaw {
+        self.r
     }
 
-    fn interp(&self, t: &[i32; TABLE_LEN], off: u32) -> i64 {
+    /// Lowest valid input reading and first table node, counts.
+    #[must_use]
+    pub const fn vin_lo_counts(&self) -> u16 {
+        self.r.vin_lo_counts
+    }
+
+    /// Highest valid input reading, counts.
+    #[must_use]
+    pub const fn vin_hi_counts(&self) -> u16 {
+        self.r.vin_hi_counts
+    }
+
+    /// Node spacing `2^shift` counts (at most 16 is used).
+    #[must_use]
+    pub const fn shift(&self) -> u8 {
+        self.r.shift
+    }
+
+    /// Saturation limit at the nodes, duty counts Q8.
+    #[must_use]
+    pub const fn saturation_q8(&self) -> &[i32; DUTY_TABLE_LEN] {
+        &self.r.saturation_q8
+    }
+
+    /// Gain-peak limit at the nodes, duty counts Q8.
+    #[must_use]
+    pub const fn gain_peak_q8(&self) -> &[i32; DUTY_TABLE_LEN] {
+        &self.r.gain_peak_q8
+    }
+
+    /// Light-load overvoltage limit at the nodes, duty counts Q8.
+    #[must_use]
+    pub const fn light_load_q8(&self) -> &[i32; DUTY_TABLE_LEN] {
+        &self.r.light_load_q8
+    }
+
+    /// Minimum-off-time limit, duty counts Q8.
+    #[must_use]
+    pub const fn min_off_q8(&self) -> i32 {
+        self.r.min_off_q8
+    }
+
+    /// Duties below this are output as 0, counts.
+    #[must_use]
+    pub const fn min_on_counts(&self) -> u16 {
+        self.r.min_on_counts
+    }
+
+    /// Duty register value for duty 1.
+    #[must_use]
+    pub const fn full_scale(&self) -> u16 {
+        self.r.full_scale
+    }
+
+    /// Soft-start rise per tick, duty counts Q8.
+    #[must_use]
+    pub const fn slew_q8(&self) -> i32 {
+        self.r.slew_q8
+    }
+
+    /// Lowest valid output reading, counts.
+    #[must_use]
+    pub const fn vout_lo_counts(&self) -> u16 {
+        self.r.vout_lo_counts
+    }
+
+    /// Highest valid output reading, counts.
+    #[must_use]
+    pub const fn vout_hi_counts(&self) -> u16 {
+        self.r.vout_hi_counts
+    }
+
+    /// Output reading that cuts switching, counts.
+    #[must_use]
+    pub const fn ov_trip_counts(&self) -> u16 {
+        self.r.ov_trip_counts
+    }
+
+    /// Output reading at or below which switching resumes, counts.
+    #[must_use]
+    pub const fn ov_resume_counts(&self) -> u16 {
+        self.r.ov_resume_counts
+    }
+
+    fn interp(&self, t: &[i32; DUTY_TABLE_LEN], off: u32) -> i64 {
         let shift = if self.r.shift > 16 { 16 } else { self.r.shift } as u32;
         let idx = (off >> shift) as usize;
         let frac = i64::from(off & ((1u32 << shift) - 1));
@@ -481,7 +571,7 @@ impl DutyLimiterConfig {
     /// otherwise at most the request, the limit at `vin_counts` and the soft-start ramp, and
     /// either 0 or at least `min_on_counts`.
     #[inline]
-    pub fn tick(
+    pub fn update(
         &self,
         s: &mut DutyLimiterState,
         request: i32,
@@ -606,6 +696,46 @@ mod tests {
         (12.0 / VPC_OUT) as u16
     }
 
+    /// The raw values carry every field, and the getters read them.
+    #[test]
+    fn raw_round_trip() {
+        let c = cfg_soft();
+        assert_eq!(DutyLimiterConfig::from_raw(c.raw()), *c);
+        let r = c.raw();
+        assert_eq!(
+            (c.vin_lo_counts(), c.vin_hi_counts(), c.shift(), c.min_off_q8()),
+            (r.vin_lo_counts, r.vin_hi_counts, r.shift, r.min_off_q8)
+        );
+        assert_eq!(
+            (c.saturation_q8(), c.gain_peak_q8(), c.light_load_q8()),
+            (&r.saturation_q8, &r.gain_peak_q8, &r.light_load_q8)
+        );
+        assert_eq!(
+            (
+                c.min_on_counts(),
+                c.full_scale(),
+                c.slew_q8(),
+                c.vout_lo_counts(),
+                c.vout_hi_counts(),
+                c.ov_trip_counts(),
+                c.ov_resume_counts()
+            ),
+            (
+                r.min_on_counts,
+                r.full_scale,
+                r.slew_q8,
+                r.vout_lo_counts,
+                r.vout_hi_counts,
+                r.ov_trip_counts,
+                r.ov_resume_counts
+            )
+        );
+        let mut s = DutyLimiterState::new();
+        c.update(&mut s, 500, 3103, mid_vout());
+        s.reset();
+        assert_eq!(s, DutyLimiterState::new());
+    }
+
     #[test]
     fn every_reading_in_the_window_is_within_one_lsb_below_the_plan() {
         let c = cfg();
@@ -673,14 +803,14 @@ mod tests {
         let c = cfg();
         let mut s = DutyLimiterState::new();
         let vin = (5.0 / VPC_IN) as u16;
-        assert_eq!(c.tick(&mut s, 300, vin, mid_vout()), 300);
+        assert_eq!(c.update(&mut s, 300, vin, mid_vout()), 300);
         let trip = c.raw().ov_trip_counts;
         let resume = c.raw().ov_resume_counts;
-        assert_eq!(c.tick(&mut s, 300, vin, trip), 0);
+        assert_eq!(c.update(&mut s, 300, vin, trip), 0);
         assert!(s.overvoltage());
-        assert_eq!(c.tick(&mut s, 300, vin, resume + 1), 0);
-        assert_eq!(c.tick(&mut s, 300, vin, trip - 1), 0);
-        assert_eq!(c.tick(&mut s, 300, vin, resume), 300);
+        assert_eq!(c.update(&mut s, 300, vin, resume + 1), 0);
+        assert_eq!(c.update(&mut s, 300, vin, trip - 1), 0);
+        assert_eq!(c.update(&mut s, 300, vin, resume), 300);
         assert!(!s.overvoltage());
     }
 
@@ -692,12 +822,12 @@ mod tests {
         let vin = (5.0 / VPC_IN) as u16;
         let mut s = DutyLimiterState::new();
         let outs: std::vec::Vec<u16> = (0..6)
-            .map(|_| c.tick(&mut s, 500, vin, mid_vout()))
+            .map(|_| c.update(&mut s, 500, vin, mid_vout()))
             .collect();
         assert_eq!(outs, [0, 0, 0, 40, 50, 60]);
         // An implausible output reading restarts the soft start.
-        assert_eq!(c.tick(&mut s, 500, vin, 0), 0);
-        assert_eq!(c.tick(&mut s, 500, vin, mid_vout()), 0);
+        assert_eq!(c.update(&mut s, 500, vin, 0), 0);
+        assert_eq!(c.update(&mut s, 500, vin, mid_vout()), 0);
     }
 
     #[test]
@@ -728,8 +858,8 @@ mod tests {
                                      shift in 0u8..20) {
             let mut raw = DutyLimiterConfig::from_raw(DutyLimiterRaw {
                 vin_lo_counts: 0, vin_hi_counts: u16::MAX, shift,
-                saturation_q8: [a; TABLE_LEN], gain_peak_q8: [0; TABLE_LEN],
-                light_load_q8: [0; TABLE_LEN], min_off_q8: 0, min_on_counts: 0,
+                saturation_q8: [a; DUTY_TABLE_LEN], gain_peak_q8: [0; DUTY_TABLE_LEN],
+                light_load_q8: [0; DUTY_TABLE_LEN], min_off_q8: 0, min_on_counts: 0,
                 full_scale: 1, slew_q8: 0, vout_lo_counts: 0, vout_hi_counts: 0,
                 ov_trip_counts: 0, ov_resume_counts: 0,
             }).r;
@@ -758,7 +888,7 @@ mod tests {
         ) {
             let c = cfg();
             let mut s = DutyLimiterState::new();
-            let out = c.tick(&mut s, request, vin, mid_vout());
+            let out = c.update(&mut s, request, vin, mid_vout());
             let exact = plan_limit(vin) * f64::from(FS);
             let want = exact.min(f64::from(request.clamp(0, i32::from(FS))));
             let want_counts = libm::floor(want) as i64;
@@ -773,11 +903,11 @@ mod tests {
             seq in proptest::collection::vec((any::<i32>(), 2400u16..3800, 0u16..4096), 1..64),
         ) {
             let c = cfg_soft();
-            let r = *c.raw();
+            let r = c.raw();
             let mut s = DutyLimiterState::new();
             for (req, vin, vout) in seq {
                 let before = s;
-                let out = c.tick(&mut s, req, vin, vout);
+                let out = c.update(&mut s, req, vin, vout);
                 prop_assert!(out <= r.full_scale);
                 prop_assert!(i32::from(out) <= req.max(0));
                 prop_assert!(out <= c.limit_counts(vin));
@@ -792,7 +922,7 @@ mod tests {
         #[test]
         fn raw_coefficients_never_panic(
             lo in any::<u16>(), hi in any::<u16>(), shift in any::<u8>(),
-            t in any::<[i32; TABLE_LEN]>(), min_off in any::<i32>(), min_on in any::<u16>(),
+            t in any::<[i32; DUTY_TABLE_LEN]>(), min_off in any::<i32>(), min_on in any::<u16>(),
             fs in any::<u16>(), slew in any::<i32>(), thresholds in any::<[u16; 4]>(),
             seq in proptest::collection::vec((any::<i32>(), any::<u16>(), any::<u16>()), 1..32),
         ) {
@@ -805,7 +935,7 @@ mod tests {
             });
             let mut s = DutyLimiterState::new();
             for (req, vin, vout) in seq {
-                let out = c.tick(&mut s, req, vin, vout);
+                let out = c.update(&mut s, req, vin, vout);
                 prop_assert!(out <= fs);
             }
         }
@@ -856,11 +986,11 @@ mod tests {
                 resistance_tol: v(7, 0.0, 0.3),
             };
             if let Ok(c) = DutyLimiterConfig::new(&stage(), &p) {
-                let r = *c.raw();
+                let r = c.raw();
                 prop_assert!(r.vin_lo_counts <= r.vin_hi_counts);
                 prop_assert!(r.ov_resume_counts < r.ov_trip_counts);
                 let mut s = DutyLimiterState::new();
-                let out = c.tick(&mut s, i32::MAX, r.vin_lo_counts, r.ov_resume_counts);
+                let out = c.update(&mut s, i32::MAX, r.vin_lo_counts, r.ov_resume_counts);
                 prop_assert!(out <= r.full_scale);
             }
         }

@@ -67,6 +67,22 @@ pub struct OffPath {
     pub supply_coupled: bool,
 }
 
+/// The raw coefficients of an [`EstimatorConfig`], for constants emitted by the host tool
+/// ([`EstimatorConfig::from_raw`], [`EstimatorConfig::raw`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct EstimatorRaw {
+    /// `1 − exp(−T·R_on/L)` of the on path, Q31 (`0 ..= 2³¹ − 1` from a plan).
+    pub on_step_q31: i32,
+    /// `1/R_on`, µA per mV, Q16.
+    pub on_conductance_q16: i32,
+    /// Voltage across the closed switch, mV.
+    pub switch_drop_mv: i32,
+    /// The freewheel path.
+    pub off: OffPath,
+}
+
 /// Estimator coefficients for one coil, temperature and tick period (shared by channels).
 ///
 /// # Examples
@@ -126,6 +142,11 @@ impl EstimatorState {
     #[must_use]
     pub const fn current_ua(&self) -> i32 {
         self.current_ua
+    }
+
+    /// Back to zero current (as [`EstimatorState::new`]).
+    pub fn reset(&mut self) {
+        *self = Self::new();
     }
 }
 
@@ -194,17 +215,23 @@ impl EstimatorConfig {
     /// Coefficients from raw fixed-point values (for constants emitted by the host tool).
     /// The caller is responsible for their validity; the update still cannot overflow or panic.
     #[must_use]
-    pub const fn from_raw(
-        on_step_q31: i32,
-        on_conductance_q16: i32,
-        switch_drop_mv: i32,
-        off: OffPath,
-    ) -> Self {
+    pub const fn from_raw(raw: EstimatorRaw) -> Self {
         Self {
-            on_step_q31,
-            on_conductance_q16,
-            switch_drop_mv,
-            off,
+            on_step_q31: raw.on_step_q31,
+            on_conductance_q16: raw.on_conductance_q16,
+            switch_drop_mv: raw.switch_drop_mv,
+            off: raw.off,
+        }
+    }
+
+    /// The raw coefficients: `EstimatorConfig::from_raw(cfg.raw()) == cfg`.
+    #[must_use]
+    pub const fn raw(&self) -> EstimatorRaw {
+        EstimatorRaw {
+            on_step_q31: self.on_step_q31,
+            on_conductance_q16: self.on_conductance_q16,
+            switch_drop_mv: self.switch_drop_mv,
+            off: self.off,
         }
     }
 
@@ -335,6 +362,33 @@ mod tests {
         CoilParams::new(0.040, 24.0).validate().unwrap()
     }
 
+    /// The raw values carry every field, and `from_raw` is usable in a constant.
+    #[test]
+    fn raw_round_trip() {
+        let cfg = EstimatorConfig::with_clamp(&reference_coil(), 60.0, 100e-6, 10.0, 24.7, true)
+            .unwrap();
+        assert_eq!(EstimatorConfig::from_raw(cfg.raw()), cfg);
+        const C: EstimatorConfig = EstimatorConfig::from_raw(EstimatorRaw {
+            on_step_q31: 1,
+            on_conductance_q16: 2,
+            switch_drop_mv: 3,
+            off: OffPath {
+                step_q31: 4,
+                conductance_q16: 5,
+                clamp_mv: 6,
+                supply_coupled: true,
+            },
+        });
+        assert_eq!(
+            (C.on_step_q31(), C.on_conductance_q16(), C.switch_drop_mv()),
+            (1, 2, 3)
+        );
+        assert_eq!(C.off_path().clamp_mv, 6);
+        let mut s = EstimatorState::with_current_ua(5);
+        s.reset();
+        assert_eq!(s, EstimatorState::new());
+    }
+
     #[test]
     fn exact_not_euler() {
         // CHECKS C1.2 (computed: closed form, ODE difference 1e-13): 40 mH, 24 Ω, 12 V step,
@@ -450,8 +504,12 @@ mod tests {
             coupled in any::<bool>(), start in any::<i32>(),
             seq in proptest::collection::vec((any::<bool>(), any::<i32>()), 1..50),
         ) {
-            let cfg = EstimatorConfig::from_raw(on_step, g, drop, OffPath {
-                step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp, supply_coupled: coupled,
+            let cfg = EstimatorConfig::from_raw(EstimatorRaw {
+                on_step_q31: on_step, on_conductance_q16: g, switch_drop_mv: drop,
+                off: OffPath {
+                    step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp,
+                    supply_coupled: coupled,
+                },
             });
             let mut s = EstimatorState::with_current_ua(start);
             let mut r = s;
@@ -468,8 +526,12 @@ mod tests {
             coupled in any::<bool>(), start in any::<i32>(),
             seq in proptest::collection::vec((any::<bool>(), any::<i32>()), 1..50),
         ) {
-            let cfg = EstimatorConfig::from_raw(on_step, g, drop, OffPath {
-                step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp, supply_coupled: coupled,
+            let cfg = EstimatorConfig::from_raw(EstimatorRaw {
+                on_step_q31: on_step, on_conductance_q16: g, switch_drop_mv: drop,
+                off: OffPath {
+                    step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp,
+                    supply_coupled: coupled,
+                },
             });
             let mut s = EstimatorState::with_current_ua(start);
             for (on, v) in seq {

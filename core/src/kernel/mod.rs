@@ -17,14 +17,17 @@ pub mod q;
 mod trip;
 
 pub use duty::{
-    DutyLimiterConfig, DutyLimiterParams, DutyLimiterRaw, DutyLimiterState,
-    TABLE_LEN as DUTY_TABLE_LEN,
+    DUTY_TABLE_LEN, DutyLimiterConfig, DutyLimiterParams, DutyLimiterRaw, DutyLimiterState,
 };
-pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorState, OffPath};
-pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
-pub use offtimer::{OffStatus, OffTimerState, PLANNED_POINTS, PlannedOffTimer, TrackingOffTimer};
+pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorRaw, EstimatorState, OffPath};
+pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorRaw, MonitorState, SenseScale};
+pub use offtimer::{
+    OffStatus, OffTimerState, PLANNED_TABLE_LEN, PlannedOffTimerConfig, PlannedOffTimerRaw,
+    TrackingOffTimerConfig, TrackingOffTimerRaw,
+};
 pub use trip::{
-    Cause, INVERSE_M_MAX, INVERSE_M_MIN, INVERSE_TABLE_ERROR_MAX, InverseTable, TABLE_LEN,
-    TABLE_OCTAVES, TABLE_STEPS, THETA_ONE_Q24, TripConfig, TripEvent, TripLog, TripParams,
-    TripState, Verdict, theta_q24_from_f32,
+    BLOCK_LOG2_MAX, BLOCK_TAU_FRACTION, Cause, INVERSE_M_MAX, INVERSE_M_MIN,
+    INVERSE_TABLE_ERROR_MAX, INVERSE_TABLE_LEN, INVERSE_TABLE_OCTAVES, INVERSE_TABLE_STEPS,
+    InverseTable, THETA_ONE_Q24, TripConfig, TripEvent, TripLog, TripParams, TripRaw, TripState,
+    Verdict, theta_q24_from_f32,
 };

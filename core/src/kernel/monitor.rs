@@ -148,11 +148,12 @@ impl SenseScale {
     }
 }
 
-/// Thresholds and persistence of the plausibility monitor.
+/// The raw thresholds of a [`MonitorConfig`], for constants emitted by the host tool
+/// ([`MonitorConfig::from_raw`], [`MonitorConfig::raw`]).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
-pub struct MonitorConfig {
+pub struct MonitorRaw {
     /// Sense scaling and valid window.
     pub scale: SenseScale,
     /// Absolute part of the tolerance band, µA.
@@ -169,6 +170,21 @@ pub struct MonitorConfig {
     pub stuck_samples: u16,
     /// Change of the estimate during a frozen reading that proves it stuck, µA.
     pub stuck_min_change_ua: i32,
+}
+
+/// Thresholds and persistence of the plausibility monitor (shared by channels).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct MonitorConfig {
+    scale: SenseScale,
+    abs_tol_ua: i32,
+    rel_tol_q16: i32,
+    open_min_estimate_ua: i32,
+    open_max_ua: i32,
+    persistence: u16,
+    stuck_samples: u16,
+    stuck_min_change_ua: i32,
 }
 
 /// Plan-side description of the monitor, in SI units.
@@ -227,6 +243,85 @@ impl MonitorConfig {
         })
     }
 
+    /// Thresholds from raw values (constants emitted by the host tool). Any values are safe
+    /// to run; wrong ones only make the monitor wrong, never panic.
+    #[must_use]
+    pub const fn from_raw(raw: MonitorRaw) -> Self {
+        Self {
+            scale: raw.scale,
+            abs_tol_ua: raw.abs_tol_ua,
+            rel_tol_q16: raw.rel_tol_q16,
+            open_min_estimate_ua: raw.open_min_estimate_ua,
+            open_max_ua: raw.open_max_ua,
+            persistence: raw.persistence,
+            stuck_samples: raw.stuck_samples,
+            stuck_min_change_ua: raw.stuck_min_change_ua,
+        }
+    }
+
+    /// The raw thresholds: `MonitorConfig::from_raw(cfg.raw()) == cfg`.
+    #[must_use]
+    pub const fn raw(&self) -> MonitorRaw {
+        MonitorRaw {
+            scale: self.scale,
+            abs_tol_ua: self.abs_tol_ua,
+            rel_tol_q16: self.rel_tol_q16,
+            open_min_estimate_ua: self.open_min_estimate_ua,
+            open_max_ua: self.open_max_ua,
+            persistence: self.persistence,
+            stuck_samples: self.stuck_samples,
+            stuck_min_change_ua: self.stuck_min_change_ua,
+        }
+    }
+
+    /// Sense scaling and valid window.
+    #[must_use]
+    pub const fn scale(&self) -> &SenseScale {
+        &self.scale
+    }
+
+    /// Absolute part of the tolerance band, µA.
+    #[must_use]
+    pub const fn abs_tol_ua(&self) -> i32 {
+        self.abs_tol_ua
+    }
+
+    /// Relative part of the tolerance band, Q16 (65536 = 100 %).
+    #[must_use]
+    pub const fn rel_tol_q16(&self) -> i32 {
+        self.rel_tol_q16
+    }
+
+    /// Estimates at or above this expect a measurable current, µA.
+    #[must_use]
+    pub const fn open_min_estimate_ua(&self) -> i32 {
+        self.open_min_estimate_ua
+    }
+
+    /// Measured currents at or below this count as none, µA.
+    #[must_use]
+    pub const fn open_max_ua(&self) -> i32 {
+        self.open_max_ua
+    }
+
+    /// Consecutive samples before a fault is raised.
+    #[must_use]
+    pub const fn persistence(&self) -> u16 {
+        self.persistence
+    }
+
+    /// Consecutive unchanged readings before the sensor counts as stuck.
+    #[must_use]
+    pub const fn stuck_samples(&self) -> u16 {
+        self.stuck_samples
+    }
+
+    /// Change of the estimate during a frozen reading that proves it stuck, µA.
+    #[must_use]
+    pub const fn stuck_min_change_ua(&self) -> i32 {
+        self.stuck_min_change_ua
+    }
+
     /// Checks one sample and returns the latched fault, if any.
     ///
     /// # Arguments
@@ -236,8 +331,9 @@ impl MonitorConfig {
     ///
     /// # Returns
     ///
-    /// `None` while plausible; the first fault raised, from then on until reset.
-    pub fn check(&self, s: &mut MonitorState, estimate_ua: i32, counts: u16) -> Option<Fault> {
+    /// `None` while plausible; the first fault raised, from then on until
+    /// [`MonitorState::reset`].
+    pub fn update(&self, s: &mut MonitorState, estimate_ua: i32, counts: u16) -> Option<Fault> {
         // Test the byte first: the common case (no fault) is then one compare.
         if s.fault != 0
             && let Some(f) = Fault::from_code(s.fault)
@@ -363,15 +459,15 @@ mod tests {
             p in any::<u16>(), stuck in any::<u16>(), change in any::<i32>(),
             samples in proptest::collection::vec((any::<i32>(), any::<u16>()), 1..100),
         ) {
-            let m = MonitorConfig {
+            let m = MonitorConfig::from_raw(MonitorRaw {
                 scale: SenseScale { offset_counts: off, ua_per_count_q16: scale, min_valid_counts: lo, max_valid_counts: hi },
                 abs_tol_ua: abs, rel_tol_q16: rel, open_min_estimate_ua: omin, open_max_ua: omax,
                 persistence: p, stuck_samples: stuck, stuck_min_change_ua: change,
-            };
+            });
             let mut s = MonitorState::new();
             let mut first = None;
             for (est, counts) in samples {
-                let f = m.check(&mut s, est, counts);
+                let f = m.update(&mut s, est, counts);
                 if first.is_none() {
                     first = f;
                 }
@@ -382,7 +478,7 @@ mod tests {
     }
 
     /// The decisions as first written, with every product and sum in i64 (the reference for
-    /// the narrowed arithmetic of [`MonitorConfig::check`]).
+    /// the narrowed arithmetic of [`MonitorConfig::update`]).
     fn check_i64(
         m: &MonitorConfig,
         s: &mut MonitorState,
@@ -466,14 +562,14 @@ mod tests {
             samples in proptest::collection::vec(
                 (prop_oneof![edgy_i32(), 0i32..3], prop_oneof![any::<u16>(), 0u16..4]), 1..60),
         ) {
-            let m = MonitorConfig {
+            let m = MonitorConfig::from_raw(MonitorRaw {
                 scale: SenseScale { offset_counts: off, ua_per_count_q16: scale, min_valid_counts: lo.min(hi), max_valid_counts: lo.max(hi) },
                 abs_tol_ua: abs, rel_tol_q16: rel, open_min_estimate_ua: omin, open_max_ua: omax,
                 persistence: p, stuck_samples: stuck, stuck_min_change_ua: change,
-            };
+            });
             let (mut a, mut b) = (MonitorState::new(), MonitorState::new());
             for (est, counts) in samples {
-                prop_assert_eq!(m.check(&mut a, est, counts), check_i64(&m, &mut b, est, counts));
+                prop_assert_eq!(m.update(&mut a, est, counts), check_i64(&m, &mut b, est, counts));
                 prop_assert_eq!(a, b);
                 let d = counts as i64 - off as i64;
                 let want = ((d * scale as i64) >> 16).clamp(i32::MIN as i64, i32::MAX as i64);
@@ -505,6 +601,41 @@ mod tests {
         (100.0 + a / 4.028e-3).round() as u16
     }
 
+    /// The raw values carry every field, and `from_raw` is usable in a constant.
+    #[test]
+    fn raw_round_trip() {
+        let m = monitor();
+        assert_eq!(MonitorConfig::from_raw(m.raw()), m);
+        const C: MonitorConfig = MonitorConfig::from_raw(MonitorRaw {
+            scale: SenseScale {
+                offset_counts: 1,
+                ua_per_count_q16: 2,
+                min_valid_counts: 3,
+                max_valid_counts: 4,
+            },
+            abs_tol_ua: 5,
+            rel_tol_q16: 6,
+            open_min_estimate_ua: 7,
+            open_max_ua: 8,
+            persistence: 9,
+            stuck_samples: 10,
+            stuck_min_change_ua: 11,
+        });
+        assert_eq!(
+            (
+                C.scale().max_valid_counts,
+                C.abs_tol_ua(),
+                C.rel_tol_q16(),
+                C.open_min_estimate_ua(),
+                C.open_max_ua(),
+                C.persistence(),
+                C.stuck_samples(),
+                C.stuck_min_change_ua()
+            ),
+            (4, 5, 6, 7, 8, 9, 10, 11)
+        );
+    }
+
     #[test]
     fn healthy_coil_raises_nothing() {
         let m = monitor();
@@ -512,7 +643,7 @@ mod tests {
         for k in 0..200 {
             let i = 0.75 * (1.0 - (-(k as f32) / 30.0).exp());
             assert_eq!(
-                m.check(&mut s, (i * 1e6) as i32, counts_for(i * 0.95)),
+                m.update(&mut s, (i * 1e6) as i32, counts_for(i * 0.95)),
                 None
             );
         }
@@ -523,34 +654,34 @@ mod tests {
         let m = monitor();
         // Open coil: estimate 0.5 A, reading at zero current.
         let mut s = MonitorState::new();
-        assert_eq!(m.check(&mut s, 500_000, 100), None);
-        assert_eq!(m.check(&mut s, 500_000, 101), None);
-        assert_eq!(m.check(&mut s, 500_000, 100), Some(Fault::OpenCoil));
+        assert_eq!(m.update(&mut s, 500_000, 100), None);
+        assert_eq!(m.update(&mut s, 500_000, 101), None);
+        assert_eq!(m.update(&mut s, 500_000, 100), Some(Fault::OpenCoil));
         assert_eq!(s.fault(), Some(Fault::OpenCoil));
         // Low resistance: measured 1.0 A against an estimate of 0.5 A.
         let mut s = MonitorState::new();
         let c = counts_for(1.0);
-        assert_eq!(m.check(&mut s, 500_000, c), None);
-        assert_eq!(m.check(&mut s, 500_000, c + 1), None);
-        assert_eq!(m.check(&mut s, 500_000, c), Some(Fault::LowResistance));
+        assert_eq!(m.update(&mut s, 500_000, c), None);
+        assert_eq!(m.update(&mut s, 500_000, c + 1), None);
+        assert_eq!(m.update(&mut s, 500_000, c), Some(Fault::LowResistance));
         // Out of range: a reading at the rail is a fault, not zero current.
         let mut s = MonitorState::new();
         for _ in 0..2 {
-            assert_eq!(m.check(&mut s, 0, 0), None);
+            assert_eq!(m.update(&mut s, 0, 0), None);
         }
-        assert_eq!(m.check(&mut s, 0, 0), Some(Fault::SensorOutOfRange));
+        assert_eq!(m.update(&mut s, 0, 0), Some(Fault::SensorOutOfRange));
         let mut s = MonitorState::new();
         for _ in 0..2 {
-            assert_eq!(m.check(&mut s, 0, 4095), None);
+            assert_eq!(m.update(&mut s, 0, 4095), None);
         }
-        assert_eq!(m.check(&mut s, 0, 4095), Some(Fault::SensorOutOfRange));
+        assert_eq!(m.update(&mut s, 0, 4095), Some(Fault::SensorOutOfRange));
         // Stuck: the reading freezes at 0.3 A while the estimate rises to 0.6 A.
         let mut s = MonitorState::new();
         let frozen = counts_for(0.3);
         let mut raised = None;
         for k in 0..40 {
             let est = 300_000 + k * 10_000;
-            raised = m.check(&mut s, est, frozen);
+            raised = m.update(&mut s, est, frozen);
             if raised.is_some() {
                 break;
             }

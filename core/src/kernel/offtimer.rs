@@ -3,13 +3,13 @@
 //!
 //! # Two modes
 //!
-//! - [`TrackingOffTimer`] runs the estimator's exact off-state update
+//! - [`TrackingOffTimerConfig`] runs the estimator's exact off-state update
 //!   ([`EstimatorConfig::with_clamp`], see [`OffPath`](super::OffPath)) with the clamp voltage,
 //!   from the current at switch-off, and compares the estimate with the threshold every tick.
 //!   It follows the measured supply (which matters for a clamp across the switch, where the
 //!   coil sees `V_cl − V_s`).
-//! - [`PlannedOffTimer`] counts down a tick count chosen at switch-off from a table planned
-//!   with the closed forms of [`crate::turnoff`]: for [`PLANNED_POINTS`] breakpoint currents, the ticks the
+//! - [`PlannedOffTimerConfig`] counts down a tick count chosen at switch-off from a table planned
+//!   with the closed forms of [`crate::turnoff`]: for [`PLANNED_TABLE_LEN`] breakpoint currents, the ticks the
 //!   decay from that current takes. At switch-off the smallest breakpoint at or above the actual
 //!   current is taken, which is the safe side because the decay time grows with the current.
 //!
@@ -17,14 +17,14 @@
 //!
 //! When unsure the timer says [`OffStatus::NotYet`]:
 //!
-//! - before [`start`](TrackingOffTimer::start) is called;
+//! - before [`start`](TrackingOffTimerConfig::start) is called;
 //! - in tracking mode the estimate must lie at least a margin below the threshold. The margin
 //!   bounds the error of the integer update against the closed form: the rounding of the
 //!   target current (`u·g` with `g` in Q16 and the clamp in whole millivolts), the sub-µA bias
 //!   of the carried fraction, and the rounding of the Q31 step coefficient, whose effect grows
 //!   with the current at switch-off (`(i₀ + |I_t|)·δ`, `δ` the relative coefficient error, taken
 //!   as a right shift of `i₀`: no division). It is set by the plan constructor
-//!   ([`TrackingOffTimer::margin_ua`]);
+//!   ([`TrackingOffTimerConfig::margin_ua`]);
 //! - in planned mode a current above the table's highest breakpoint never releases (the plan
 //!   did not cover it), and every count is rounded up and has one tick added for the unknown
 //!   phase between the switch opening and the first tick.
@@ -32,10 +32,10 @@
 //! # Cost and state
 //!
 //! Tracking: one estimator update (two 32×32→64 multiplies) and a compare per tick. Planned: a
-//! decrement per tick, a scan of [`PLANNED_POINTS`] entries at switch-off. No float, no division, no panic.
+//! decrement per tick, a scan of [`PLANNED_TABLE_LEN`] entries at switch-off. No float, no division, no panic.
 //! State: [`OffTimerState`], 20 bytes.
 
-use super::estimator::{EstimatorConfig, EstimatorState};
+use super::estimator::{EstimatorConfig, EstimatorRaw, EstimatorState};
 use super::q::clamp_i64;
 use crate::coil::Coil;
 use crate::error::{Error, in_range, positive};
@@ -45,11 +45,11 @@ use crate::turnoff::{Clamp, SwitchOff};
 const CURRENT_LIMIT_UA: i32 = super::estimator::CURRENT_LIMIT_UA;
 const UA_PER_A: f32 = 1.0e6;
 
-/// Number of breakpoints in a [`PlannedOffTimer`] table. With the breakpoints spaced
+/// Number of breakpoints in a [`PlannedOffTimerConfig`] table. With the breakpoints spaced
 /// geometrically over a current ratio `r`, a count overstates the decay time by at most
 /// `τ·ln(r)/16` plus two ticks.
-pub const PLANNED_POINTS: usize = 16;
-const N: usize = PLANNED_POINTS;
+pub const PLANNED_TABLE_LEN: usize = 16;
+const N: usize = PLANNED_TABLE_LEN;
 
 /// What the off-timer says this tick.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -122,20 +122,36 @@ fn off_path_of(clamp: &Clamp) -> Result<(f32, f32, bool), Error> {
     })
 }
 
+/// The raw values of a [`TrackingOffTimerConfig`], for constants emitted by the host tool
+/// ([`TrackingOffTimerConfig::from_raw`], [`TrackingOffTimerConfig::raw`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct TrackingOffTimerRaw {
+    /// The estimator coefficients (only the off path is used).
+    pub estimator: EstimatorRaw,
+    /// Release threshold, µA.
+    pub threshold_ua: i32,
+    /// Constant part of the margin below the threshold, µA.
+    pub base_margin_ua: i32,
+    /// The margin adds the current at switch-off shifted right by this many bits.
+    pub margin_shift: u32,
+}
+
 /// Tracking off-timer: the estimator's off-state update against a threshold.
 ///
 /// # Examples
 ///
 /// ```
-/// # use lenz::{CoilParams, turnoff::Clamp, kernel::{OffStatus, OffTimerState, TrackingOffTimer}};
+/// # use lenz::{CoilParams, turnoff::Clamp, kernel::{OffStatus, OffTimerState, TrackingOffTimerConfig}};
 /// // Demo valve (invented): 120 mH, 32 Ω, 0.75 A at switch-off, 24 V zener + 0.7 V diode.
 /// let coil = CoilParams::new(0.120, 32.0).validate()?;
 /// let clamp = Clamp::Zener { zener_v: 24.0, forward_v: 0.7 };
-/// let timer = TrackingOffTimer::new(&coil, 20.0, 100e-6, &clamp, 0.075)?;
+/// let timer = TrackingOffTimerConfig::new(&coil, 20.0, 100e-6, &clamp, 0.075)?;
 /// let mut s = OffTimerState::new();
 /// timer.start(&mut s, 750_000);
 /// let mut ticks = 0;
-/// while timer.tick(&mut s, 24_000) == OffStatus::NotYet {
+/// while timer.update(&mut s, 24_000) == OffStatus::NotYet {
 ///     ticks += 1;
 /// }
 /// // Closed form: 2.198 ms to 75 mA, so release on the 22nd tick.
@@ -145,21 +161,21 @@ fn off_path_of(clamp: &Clamp) -> Result<(f32, f32, bool), Error> {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
-pub struct TrackingOffTimer {
+pub struct TrackingOffTimerConfig {
     estimator: EstimatorConfig,
     threshold_ua: i32,
     base_margin_ua: i32,
     margin_shift: u32,
 }
 
-impl TrackingOffTimer {
+impl TrackingOffTimerConfig {
     /// Plan side: a timer for `coil` at `temp_c`, ticking every `tick_s`, decaying through
     /// `clamp`, reporting release below `threshold_a`.
     ///
     /// # Errors
     ///
     /// The errors of [`EstimatorConfig::with_clamp`]; an [`Clamp::Unclamped`] clamp (`clamp`:
-    /// a ring is not tracked, use [`PlannedOffTimer`]); `threshold_a` not positive, or so small
+    /// a ring is not tracked, use [`PlannedOffTimerConfig`]); `threshold_a` not positive, or so small
     /// against the timer's margin that it could not be trusted (out of range, with the smallest
     /// usable threshold).
     pub fn new(
@@ -220,18 +236,37 @@ impl TrackingOffTimer {
     /// From raw values (constants emitted by the host tool). Any values are safe to run; wrong
     /// ones only make the timer wrong, never panic.
     #[must_use]
-    pub const fn from_raw(
-        estimator: EstimatorConfig,
-        threshold_ua: i32,
-        base_margin_ua: i32,
-        margin_shift: u32,
-    ) -> Self {
+    pub const fn from_raw(raw: TrackingOffTimerRaw) -> Self {
         Self {
-            estimator,
-            threshold_ua,
-            base_margin_ua,
-            margin_shift,
+            estimator: EstimatorConfig::from_raw(raw.estimator),
+            threshold_ua: raw.threshold_ua,
+            base_margin_ua: raw.base_margin_ua,
+            margin_shift: raw.margin_shift,
         }
+    }
+
+    /// The raw values: `TrackingOffTimerConfig::from_raw(cfg.raw()) == cfg`.
+    #[must_use]
+    pub const fn raw(&self) -> TrackingOffTimerRaw {
+        TrackingOffTimerRaw {
+            estimator: self.estimator.raw(),
+            threshold_ua: self.threshold_ua,
+            base_margin_ua: self.base_margin_ua,
+            margin_shift: self.margin_shift,
+        }
+    }
+
+    /// Constant part of the margin, µA (see [`TrackingOffTimerConfig::margin_ua`]).
+    #[must_use]
+    pub const fn base_margin_ua(&self) -> i32 {
+        self.base_margin_ua
+    }
+
+    /// The margin grows by the current at switch-off shifted right by this (see
+    /// [`TrackingOffTimerConfig::margin_ua`]).
+    #[must_use]
+    pub const fn margin_shift(&self) -> u32 {
+        self.margin_shift
     }
 
     /// Release threshold, µA.
@@ -276,9 +311,9 @@ impl TrackingOffTimer {
     /// # Returns
     ///
     /// [`OffStatus::Released`] when the estimate lies at least the margin below the threshold;
-    /// [`OffStatus::NotYet`] otherwise, and always before [`TrackingOffTimer::start`].
+    /// [`OffStatus::NotYet`] otherwise, and always before [`TrackingOffTimerConfig::start`].
     #[inline]
-    pub fn tick(&self, state: &mut OffTimerState, supply_mv: i32) -> OffStatus {
+    pub fn update(&self, state: &mut OffTimerState, supply_mv: i32) -> OffStatus {
         if !state.armed {
             return OffStatus::NotYet;
         }
@@ -296,20 +331,32 @@ impl TrackingOffTimer {
     }
 }
 
-/// Planned off-timer: a tick count chosen at switch-off from a table of [`PLANNED_POINTS`]
+/// The raw tables of a [`PlannedOffTimerConfig`], for constants emitted by the host tool
+/// ([`PlannedOffTimerConfig::from_raw`], [`PlannedOffTimerConfig::raw`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct PlannedOffTimerRaw {
+    /// Breakpoint currents, ascending, µA.
+    pub breakpoints_ua: [i32; N],
+    /// Ticks from switch-off to release for a current at or below each breakpoint.
+    pub ticks: [u32; N],
+}
+
+/// Planned off-timer: a tick count chosen at switch-off from a table of [`PLANNED_TABLE_LEN`]
 /// breakpoints.
 ///
 /// # Examples
 ///
 /// ```
-/// # use lenz::{turnoff::{Clamp, SwitchOff}, kernel::{OffStatus, OffTimerState, PlannedOffTimer}};
+/// # use lenz::{turnoff::{Clamp, SwitchOff}, kernel::{OffStatus, OffTimerState, PlannedOffTimerConfig}};
 /// // Demo relay (invented): 0.3 H, 120 Ω, 12 V, 0.7 V diode; released below 10 mA.
 /// let plan = SwitchOff::new(0.3, 120.0, 12.0, 0.1, Clamp::Diode { forward_v: 0.7 })?;
-/// let timer = PlannedOffTimer::new(&plan, 0.010, 0.120, 100e-6)?;
+/// let timer = PlannedOffTimerConfig::new(&plan, 0.010, 0.120, 100e-6)?;
 /// let mut s = OffTimerState::new();
 /// timer.start(&mut s, 100_000);
 /// let mut ticks = 1;
-/// while timer.tick(&mut s) == OffStatus::NotYet {
+/// while timer.update(&mut s) == OffStatus::NotYet {
 ///     ticks += 1;
 /// }
 /// // Closed form from 100 mA: 4.749 ms; the breakpoint above it and the phase tick add some.
@@ -319,12 +366,12 @@ impl TrackingOffTimer {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
-pub struct PlannedOffTimer {
+pub struct PlannedOffTimerConfig {
     breakpoints_ua: [i32; N],
     ticks: [u32; N],
 }
 
-impl PlannedOffTimer {
+impl PlannedOffTimerConfig {
     /// Plan side: the table for switch-offs like `plan` (its coil, supply and clamp; its own
     /// initial current is ignored) from currents up to `max_current_a`, released below
     /// `threshold_a`, ticking every `tick_s`. Breakpoints are spaced geometrically from the
@@ -398,13 +445,21 @@ impl PlannedOffTimer {
         })
     }
 
-    /// From raw tables (constants emitted by the host tool): ascending breakpoints, µA, and
-    /// the tick counts that cover them. Any values are safe to run.
+    /// From raw tables (constants emitted by the host tool). Any values are safe to run.
     #[must_use]
-    pub const fn from_raw(breakpoints_ua: [i32; N], ticks: [u32; N]) -> Self {
+    pub const fn from_raw(raw: PlannedOffTimerRaw) -> Self {
         Self {
-            breakpoints_ua,
-            ticks,
+            breakpoints_ua: raw.breakpoints_ua,
+            ticks: raw.ticks,
+        }
+    }
+
+    /// The raw tables: `PlannedOffTimerConfig::from_raw(cfg.raw()) == cfg`.
+    #[must_use]
+    pub const fn raw(&self) -> PlannedOffTimerRaw {
+        PlannedOffTimerRaw {
+            breakpoints_ua: self.breakpoints_ua,
+            ticks: self.ticks,
         }
     }
 
@@ -441,10 +496,10 @@ impl PlannedOffTimer {
     /// # Returns
     ///
     /// [`OffStatus::Released`] once the planned count has elapsed (this tick included);
-    /// [`OffStatus::NotYet`] before, always before [`PlannedOffTimer::start`], and forever for
+    /// [`OffStatus::NotYet`] before, always before [`PlannedOffTimerConfig::start`], and forever for
     /// a current above the planned range.
     #[inline]
-    pub fn tick(&self, state: &mut OffTimerState) -> OffStatus {
+    pub fn update(&self, state: &mut OffTimerState) -> OffStatus {
         if !state.armed || state.remaining_ticks == NEVER {
             return OffStatus::NotYet;
         }
@@ -469,23 +524,48 @@ mod tests {
         assert!(core::mem::size_of::<OffTimerState>() <= 32);
     }
 
+    /// The raw values carry every field (for both modes).
+    #[test]
+    fn raw_round_trip() {
+        let coil = CoilParams::new(0.120, 32.0).validate().unwrap();
+        let clamp = Clamp::Zener {
+            zener_v: 24.0,
+            forward_v: 0.7,
+        };
+        let t = TrackingOffTimerConfig::new(&coil, 20.0, 1e-4, &clamp, 0.075).unwrap();
+        assert_eq!(TrackingOffTimerConfig::from_raw(t.raw()), t);
+        let raw = t.raw();
+        assert_eq!(
+            (t.threshold_ua(), t.base_margin_ua(), t.margin_shift()),
+            (raw.threshold_ua, raw.base_margin_ua, raw.margin_shift)
+        );
+        assert_eq!(
+            t.margin_ua(1 << 20),
+            t.base_margin_ua() + ((1 << 20) >> t.margin_shift())
+        );
+        let plan = SwitchOff::new(0.12, 32.0, 24.0, 0.75, clamp).unwrap();
+        let p = PlannedOffTimerConfig::new(&plan, 0.075, 0.8, 1e-4).unwrap();
+        assert_eq!(PlannedOffTimerConfig::from_raw(p.raw()), p);
+    }
+
     #[test]
     fn not_yet_before_start() {
         let coil = CoilParams::new(0.120, 32.0).validate().unwrap();
-        let t = TrackingOffTimer::new(&coil, 20.0, 1e-4, &Clamp::Diode { forward_v: 0.7 }, 0.075)
-            .unwrap();
+        let t =
+            TrackingOffTimerConfig::new(&coil, 20.0, 1e-4, &Clamp::Diode { forward_v: 0.7 }, 0.075)
+                .unwrap();
         let mut s = OffTimerState::new();
         for _ in 0..1000 {
-            assert_eq!(t.tick(&mut s, 24_000), OffStatus::NotYet);
+            assert_eq!(t.update(&mut s, 24_000), OffStatus::NotYet);
         }
         let plan = SwitchOff::new(0.12, 32.0, 24.0, 0.75, Clamp::Diode { forward_v: 0.7 }).unwrap();
-        let p = PlannedOffTimer::new(&plan, 0.075, 0.8, 1e-4).unwrap();
+        let p = PlannedOffTimerConfig::new(&plan, 0.075, 0.8, 1e-4).unwrap();
         let mut s = OffTimerState::new();
-        assert_eq!(p.tick(&mut s), OffStatus::NotYet);
+        assert_eq!(p.update(&mut s), OffStatus::NotYet);
         // Above the planned range: never.
         p.start(&mut s, 900_000);
         for _ in 0..100_000 {
-            assert_eq!(p.tick(&mut s), OffStatus::NotYet);
+            assert_eq!(p.update(&mut s), OffStatus::NotYet);
         }
     }
 
@@ -497,20 +577,20 @@ mod tests {
             capacitance_f: 100e-12,
         };
         assert_eq!(
-            TrackingOffTimer::new(&coil, 20.0, 1e-4, &unclamped, 0.075)
+            TrackingOffTimerConfig::new(&coil, 20.0, 1e-4, &unclamped, 0.075)
                 .unwrap_err()
                 .param(),
             "clamp"
         );
         assert_eq!(
-            TrackingOffTimer::new(&coil, 20.0, 1e-4, &d, 1e-6)
+            TrackingOffTimerConfig::new(&coil, 20.0, 1e-4, &d, 1e-6)
                 .unwrap_err()
                 .param(),
             "threshold_a"
         );
         let plan = SwitchOff::new(0.12, 32.0, 24.0, 0.75, d).unwrap();
         assert_eq!(
-            PlannedOffTimer::new(&plan, 0.075, 0.05, 1e-4)
+            PlannedOffTimerConfig::new(&plan, 0.075, 0.05, 1e-4)
                 .unwrap_err()
                 .param(),
             "max_current_a"
@@ -524,11 +604,14 @@ mod tests {
             ticks in proptest::array::uniform16(any::<u32>()),
             start in any::<i32>(), n in 0usize..300,
         ) {
-            let p = PlannedOffTimer::from_raw(bps, ticks);
+            let p = PlannedOffTimerConfig::from_raw(PlannedOffTimerRaw {
+                breakpoints_ua: bps,
+                ticks,
+            });
             let mut s = OffTimerState::new();
             p.start(&mut s, start);
             for _ in 0..n {
-                let _ = p.tick(&mut s);
+                let _ = p.update(&mut s);
             }
         }
 
@@ -538,14 +621,19 @@ mod tests {
             thr in any::<i32>(), base in any::<i32>(), shift in any::<u32>(), start in any::<i32>(),
             supplies in proptest::collection::vec(any::<i32>(), 1..50),
         ) {
-            let est = EstimatorConfig::from_raw(step, g, 0, OffPath {
-                step_q31: step, conductance_q16: g, clamp_mv: clamp, supply_coupled: coupled,
+            let estimator = EstimatorRaw {
+                on_step_q31: step, on_conductance_q16: g, switch_drop_mv: 0,
+                off: OffPath {
+                    step_q31: step, conductance_q16: g, clamp_mv: clamp, supply_coupled: coupled,
+                },
+            };
+            let t = TrackingOffTimerConfig::from_raw(TrackingOffTimerRaw {
+                estimator, threshold_ua: thr, base_margin_ua: base, margin_shift: shift,
             });
-            let t = TrackingOffTimer::from_raw(est, thr, base, shift);
             let mut s = OffTimerState::new();
             t.start(&mut s, start);
             for v in supplies {
-                let _ = t.tick(&mut s, v);
+                let _ = t.update(&mut s, v);
             }
         }
     }

@@ -4,7 +4,7 @@
 //!
 //! # Per sample
 //!
-//! The firmware calls [`TripConfig::sample`] once per ADC sample with the reading (counts, zero
+//! The firmware calls [`TripConfig::update`] once per ADC sample with the reading (counts, zero
 //! current at code 0) and the commanded switch state, and keeps the switch off unless the
 //! returned [`Verdict`] allows it.
 //!
@@ -35,7 +35,7 @@
 //! 5. **Retry, then latch.** After a trip the verdict is [`Verdict::Waiting`] for the retry
 //!    delay (and, after a thermal trip, until θ is below one again), then [`Verdict::Allow`]
 //!    once more. After the stated number of retries the next trip latches:
-//!    [`Verdict::Latched`] until [`TripConfig::reset`]. The retry count clears only with
+//!    [`Verdict::Latched`] until [`TripState::reset`]. The retry count clears only with
 //!    `reset`. The block sums and both accumulators go on while waiting or latched (the
 //!    winding cools).
 //!
@@ -74,7 +74,7 @@
 //! `K − 1` samples later. For a constant current the inverse-time trip therefore comes within
 //! one block (`K` samples) plus the stated table error of the curve's time (late, never
 //! early), and the thermal trip within one block of the exact discrete update; a block that
-//! starts hot (after [`TripConfig::reset`] or from [`TripState::with_theta_q24`]) trips at its
+//! starts hot (after [`TripState::reset`] or from [`TripState::with_theta_q24`]) trips at its
 //! end. The instantaneous, stuck-sensor, blanking and retry logic stay per sample.
 //!
 //! **Choice of `K`** (plan side, [`TripConfig::new`]): the largest `K ≤ 32` with
@@ -145,11 +145,11 @@ use crate::error::{Error, in_range, non_negative, positive};
 use crate::trip::{InverseTime, Thermal};
 
 /// Entries per octave of the inverse-time table.
-pub const TABLE_STEPS: usize = 32;
+pub const INVERSE_TABLE_STEPS: usize = 32;
 /// Octaves of `M` covered by the table (`1 ≤ M < 2⁵`).
-pub const TABLE_OCTAVES: usize = 5;
+pub const INVERSE_TABLE_OCTAVES: usize = 5;
 /// Number of table entries (the last one at `M = 32`).
-pub const TABLE_LEN: usize = TABLE_STEPS * TABLE_OCTAVES + 1;
+pub const INVERSE_TABLE_LEN: usize = INVERSE_TABLE_STEPS * INVERSE_TABLE_OCTAVES + 1;
 /// Lowest multiple of pickup of the documented range.
 pub const INVERSE_M_MIN: f32 = 1.1;
 /// Highest multiple of pickup of the documented range.
@@ -256,7 +256,7 @@ pub enum Verdict {
     Trip(TripEvent),
     /// Off, waiting for the timed retry.
     Waiting,
-    /// Off until [`TripConfig::reset`].
+    /// Off until [`TripState::reset`].
     Latched,
 }
 
@@ -306,6 +306,45 @@ pub struct TripParams {
     pub retry_delay_s: f32,
 }
 
+/// The raw values of a [`TripConfig`], for constants emitted by the host tool
+/// ([`TripConfig::from_raw`], [`TripConfig::raw`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct TripRaw {
+    /// Instantaneous threshold: a reading at or above it is over, counts.
+    pub instantaneous_counts: u16,
+    /// A reading at or above this is over too (a saturated ADC), counts.
+    pub full_scale_counts: u16,
+    /// Blanking after each switch-on, samples.
+    pub blank_samples: u16,
+    /// `N` of the `N`-of-`M` persistence filter (0 is taken as 1).
+    pub persistence_n: u8,
+    /// `M` of the `N`-of-`M` persistence filter (clamped to `1 ..= 32`).
+    pub persistence_m: u8,
+    /// Samples of an exactly constant reading with the switch on that count as a stuck
+    /// sensor (0: off).
+    pub stuck_samples: u16,
+    /// Timed retries before the latch.
+    pub retries: u8,
+    /// Delay before each retry, samples.
+    pub retry_samples: u16,
+    /// `k` of the block of `K = 2^k` samples (clamped to [`BLOCK_LOG2_MAX`]).
+    pub block_log2: u8,
+    /// The inverse-time element ([`InverseTable::DISABLED`] for none).
+    pub inverse_table: InverseTable,
+    /// `2^(24 + x2_shift)/(k·I_B in counts)²`: `x²` in Q24 is `mean r² · x2_mul >> x2_shift`.
+    /// Zero disables the thermal element.
+    pub x2_mul: u32,
+    /// Shift of the thermal input scale.
+    pub x2_shift: u8,
+    /// `1 − exp(−K·T_s/τ)` of one block, Q32 (below `2³¹`).
+    pub thermal_step_q32: u32,
+    /// Measured relative error of the inverse-time table, parts per million (information
+    /// only; 0 when not measured).
+    pub table_error_ppm: u32,
+}
+
 /// Inverse-time part of the configuration.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -315,7 +354,7 @@ pub struct InverseTable {
     pub m_scale_q32: u32,
     /// `2³²·T_s/t(M)` at `M = 2^o·(1 + s/32)` for entry `32·o + s`.
     #[cfg_attr(feature = "serde", serde(with = "table_serde"))]
-    pub rate_q32: [u32; TABLE_LEN],
+    pub rate_q32: [u32; INVERSE_TABLE_LEN],
     /// `2³²·T_s/(TD·t_r)` of an inverse reset below pickup; ignored if `instant_reset`.
     pub reset_q32: u32,
     /// Reset to zero at once below pickup (IEC curves).
@@ -325,17 +364,20 @@ pub struct InverseTable {
 #[cfg(feature = "serde")]
 mod table_serde {
     //! serde supports arrays up to 32 elements only; the table goes through a slice.
-    use super::TABLE_LEN;
+    use super::INVERSE_TABLE_LEN;
     use serde::{Deserialize, Deserializer, Serializer, de::Error};
 
-    pub(super) fn serialize<S: Serializer>(t: &[u32; TABLE_LEN], s: S) -> Result<S::Ok, S::Error> {
+    pub(super) fn serialize<S: Serializer>(
+        t: &[u32; INVERSE_TABLE_LEN],
+        s: S,
+    ) -> Result<S::Ok, S::Error> {
         s.collect_seq(t.iter())
     }
 
     pub(super) fn deserialize<'de, D: Deserializer<'de>>(
         d: D,
-    ) -> Result<[u32; TABLE_LEN], D::Error> {
-        let v: heapless::Vec<u32, TABLE_LEN> = Deserialize::deserialize(d)?;
+    ) -> Result<[u32; INVERSE_TABLE_LEN], D::Error> {
+        let v: heapless::Vec<u32, INVERSE_TABLE_LEN> = Deserialize::deserialize(d)?;
         v.into_array()
             .map_err(|_| D::Error::custom("inverse-time table of the wrong length"))
     }
@@ -368,7 +410,7 @@ mod table_serde {
 /// // end of that block of 32 samples (the default block here), sample 256.
 /// assert_eq!(cfg.block_samples(), 32);
 /// let n = (1..1000)
-///     .find(|_| matches!(cfg.sample(&mut s, 2500, true), Verdict::Trip(_)))
+///     .find(|_| matches!(cfg.update(&mut s, 2500, true), Verdict::Trip(_)))
 ///     .unwrap();
 /// assert!((225..=225 + 32).contains(&n));
 /// # Ok::<(), lenz::Error>(())
@@ -516,6 +558,24 @@ impl TripState {
     pub const fn is_waiting(&self) -> bool {
         self.sum_ctl & PHASE_MASK == WAITING
     }
+
+    /// Clears a latch or a pending retry and the retry count; the thermal state, the tick
+    /// and the block sums are kept (the winding does not cool by a reset). For a cold channel
+    /// start from [`TripState::new`].
+    pub fn reset(&mut self) {
+        let phase = self.sum_ctl & PHASE_MASK;
+        if phase == WAITING || phase == LATCHED {
+            // A pending retry ends; blanking in progress goes on.
+            self.timer = 0;
+            self.sum_ctl &= SUM_MASK | PREV_ON;
+        } else {
+            self.sum_ctl &= SUM_MASK | PREV_ON | PHASE_MASK;
+        }
+        self.history = 0;
+        self.inverse_q32 = 0;
+        // The stuck count restarts: the run begins at the last sample.
+        self.sense = (self.sense & 0xFFFF) | (self.tick.wrapping_sub(1) << 16);
+    }
 }
 
 /// Plan side: a thermal state to Q24 (rounded, saturating; NaN and negatives give 0).
@@ -555,9 +615,9 @@ fn x2_scale(param: &'static str, counts: f32) -> Result<(u32, u8), Error> {
 
 /// The multiple of pickup at table entry `idx`.
 fn table_m(idx: usize) -> f64 {
-    let octave = (idx / TABLE_STEPS) as i32;
-    let step = (idx % TABLE_STEPS) as f64;
-    libm::pow(2.0, f64::from(octave)) * (1.0 + step / TABLE_STEPS as f64)
+    let octave = (idx / INVERSE_TABLE_STEPS) as i32;
+    let step = (idx % INVERSE_TABLE_STEPS) as f64;
+    libm::pow(2.0, f64::from(octave)) * (1.0 + step / INVERSE_TABLE_STEPS as f64)
 }
 
 /// f64 trip time of an element at multiple `m` (for the table and its error).
@@ -614,7 +674,7 @@ impl InverseTable {
     /// A disabled inverse-time element.
     pub const DISABLED: InverseTable = InverseTable {
         m_scale_q32: 0,
-        rate_q32: [0; TABLE_LEN],
+        rate_q32: [0; INVERSE_TABLE_LEN],
         reset_q32: 0,
         instant_reset: true,
     };
@@ -623,7 +683,7 @@ impl InverseTable {
         let pickup_counts = el.pickup_a() / amps_per_count;
         let m_scale_q32 = recip_q32("pickup_a", pickup_counts)?;
         let ts = f64::from(sample_period_s);
-        let mut rate_q32 = [0u32; TABLE_LEN];
+        let mut rate_q32 = [0u32; INVERSE_TABLE_LEN];
         for (idx, r) in rate_q32.iter_mut().enumerate() {
             *r = rate_to_q32(ts, curve_time_f64(el, table_m(idx)));
         }
@@ -675,10 +735,10 @@ impl InverseTable {
         }
         let msb = table_msb(m); // 16 ..= 31
         let octave = (msb - 16) as usize;
-        if octave >= TABLE_OCTAVES {
+        if octave >= INVERSE_TABLE_OCTAVES {
             return Some(
                 self.rate_q32
-                    .get(TABLE_LEN - 1)
+                    .get(INVERSE_TABLE_LEN - 1)
                     .copied()
                     .unwrap_or(u32::MAX),
             );
@@ -687,7 +747,7 @@ impl InverseTable {
         let shift = msb - 5; // 11 ..= 15 here
         let step = (rem >> shift) as usize;
         let frac_q16 = (rem & ((1 << shift) - 1)) << (16 - shift);
-        let idx = octave * TABLE_STEPS + step;
+        let idx = octave * INVERSE_TABLE_STEPS + step;
         let a = self.rate_q32.get(idx).copied().unwrap_or(u32::MAX);
         let b = self.rate_q32.get(idx + 1).copied().unwrap_or(a);
         let d = i64::from(b) - i64::from(a);
@@ -780,46 +840,46 @@ impl TripConfig {
             }
             None => (0, 0, 0),
         };
-        let mut cfg = Self::from_raw(
-            p.instantaneous_counts,
-            p.full_scale_counts,
+        Ok(Self::from_raw(TripRaw {
+            instantaneous_counts: p.instantaneous_counts,
+            full_scale_counts: p.full_scale_counts,
             blank_samples,
-            p.persistence_n,
-            p.persistence_m,
-            p.stuck_samples,
-            p.retries,
+            persistence_n: p.persistence_n,
+            persistence_m: p.persistence_m,
+            stuck_samples: p.stuck_samples,
+            retries: p.retries,
             retry_samples,
             block_log2,
-            inverse,
+            inverse_table: inverse,
             x2_mul,
             x2_shift,
             thermal_step_q32,
-        );
-        cfg.table_error_ppm = table_error_ppm;
-        Ok(cfg)
+            table_error_ppm,
+        }))
     }
 
     /// Coefficients from raw values (for constants emitted by the host tool). The caller is
     /// responsible for their meaning; the per-sample update cannot overflow or panic on any
     /// values (out-of-range persistence is clamped to `1 ..= 32`, the block to at most
     /// [`BLOCK_LOG2_MAX`]).
-    #[allow(clippy::too_many_arguments)] // one argument per register of the configuration
     #[must_use]
-    pub const fn from_raw(
-        instantaneous_counts: u16,
-        full_scale_counts: u16,
-        blank_samples: u16,
-        persistence_n: u8,
-        persistence_m: u8,
-        stuck_samples: u16,
-        retries: u8,
-        retry_samples: u16,
-        block_log2: u8,
-        inverse: InverseTable,
-        x2_mul: u32,
-        x2_shift: u8,
-        thermal_step_q32: u32,
-    ) -> Self {
+    pub const fn from_raw(raw: TripRaw) -> Self {
+        let TripRaw {
+            instantaneous_counts,
+            full_scale_counts,
+            blank_samples,
+            persistence_n,
+            persistence_m,
+            stuck_samples,
+            retries,
+            retry_samples,
+            block_log2,
+            inverse_table,
+            x2_mul,
+            x2_shift,
+            thermal_step_q32,
+            table_error_ppm,
+        } = raw;
         let m = if persistence_m == 0 {
             1
         } else if persistence_m > 32 {
@@ -863,14 +923,73 @@ impl TripConfig {
             retries,
             block_log2,
             block_mask: (1u32 << block_log2) - 1,
-            inverse,
+            inverse: inverse_table,
             x2_mul,
             x2_shift,
             thermal_step_q32,
-            table_error_ppm: 0,
+            table_error_ppm,
         }
     }
 
+    /// The raw values: `TripConfig::from_raw(cfg.raw()) == cfg`.
+    #[must_use]
+    pub const fn raw(&self) -> TripRaw {
+        TripRaw {
+            instantaneous_counts: self.instantaneous_counts,
+            full_scale_counts: self.full_scale_counts,
+            blank_samples: self.blank_samples,
+            persistence_n: self.persistence_n as u8,
+            persistence_m: self.persistence_m,
+            stuck_samples: self.stuck_samples,
+            retries: self.retries,
+            retry_samples: self.retry_samples,
+            block_log2: self.block_log2,
+            inverse_table: self.inverse,
+            x2_mul: self.x2_mul,
+            x2_shift: self.x2_shift,
+            thermal_step_q32: self.thermal_step_q32,
+            table_error_ppm: self.table_error_ppm,
+        }
+    }
+
+    /// Instantaneous threshold, counts.
+    #[must_use]
+    pub const fn instantaneous_counts(&self) -> u16 {
+        self.instantaneous_counts
+    }
+
+    /// Readings at or above this count as over (a saturated ADC), counts.
+    #[must_use]
+    pub const fn full_scale_counts(&self) -> u16 {
+        self.full_scale_counts
+    }
+
+    /// `N` of the `N`-of-`M` persistence filter (at least 1).
+    #[must_use]
+    pub const fn persistence_n(&self) -> u8 {
+        self.persistence_n as u8
+    }
+
+    /// `M` of the `N`-of-`M` persistence filter, as given (the history uses `1 ..= 32`).
+    #[must_use]
+    pub const fn persistence_m(&self) -> u8 {
+        self.persistence_m
+    }
+
+    /// Samples of an exactly constant reading with the switch on that count as a stuck
+    /// sensor (0: off).
+    #[must_use]
+    pub const fn stuck_samples(&self) -> u16 {
+        self.stuck_samples
+    }
+
+    /// Timed retries before the latch.
+    #[must_use]
+    pub const fn retries(&self) -> u8 {
+        self.retries
+    }
+
+    /// The inverse-time table.
     /// The inverse-time table.
     #[must_use]
     pub const fn inverse_table(&self) -> &InverseTable {
@@ -908,16 +1027,30 @@ impl TripConfig {
         self.thermal_step_q32
     }
 
-    /// Thermal input scale: `x²` in Q24 is `mean r² · mul >> shift` (`mul` zero: no thermal
-    /// element). Returns `(mul, shift)`.
+    /// Thermal input scale: `x²` in Q24 is `mean r² · x2_mul >> x2_shift` (zero: no thermal
+    /// element).
     #[must_use]
-    pub const fn x2_scale(&self) -> (u32, u8) {
-        (self.x2_mul, self.x2_shift)
+    pub const fn x2_mul(&self) -> u32 {
+        self.x2_mul
+    }
+
+    /// Thermal input shift (see [`TripConfig::x2_mul`]).
+    #[must_use]
+    pub const fn x2_shift(&self) -> u8 {
+        self.x2_shift
     }
 
     /// Largest relative error of the inverse-time increment over the documented range of
-    /// multiples, as measured by [`TripConfig::new`] (0 for a `from_raw` configuration or
-    /// without an inverse-time element).
+    /// multiples as measured by [`TripConfig::new`], parts per million, rounded up (0 when
+    /// not measured or without an inverse-time element).
+    #[must_use]
+    pub const fn table_error_ppm(&self) -> u32 {
+        self.table_error_ppm
+    }
+
+    /// Largest relative error of the inverse-time increment over the documented range of
+    /// multiples, as measured by [`TripConfig::new`] (0 when not measured or without an
+    /// inverse-time element).
     #[must_use]
     pub fn inverse_table_error(&self) -> f32 {
         self.table_error_ppm as f32 * 1e-6
@@ -932,23 +1065,6 @@ impl TripConfig {
             return None;
         }
         self.inverse.increment(reading)
-    }
-
-    /// Clears a latch or a pending retry and the retry count; the thermal state, the tick
-    /// and the block sums are kept (the winding does not cool by a reset).
-    pub fn reset(&self, s: &mut TripState) {
-        let phase = s.sum_ctl & PHASE_MASK;
-        if phase == WAITING || phase == LATCHED {
-            // A pending retry ends; blanking in progress goes on.
-            s.timer = 0;
-            s.sum_ctl &= SUM_MASK | PREV_ON;
-        } else {
-            s.sum_ctl &= SUM_MASK | PREV_ON | PHASE_MASK;
-        }
-        s.history = 0;
-        s.inverse_q32 = 0;
-        // The stuck count restarts: the run begins at the last sample.
-        s.sense = (s.sense & 0xFFFF) | (s.tick.wrapping_sub(1) << 16);
     }
 
     /// `k`, at most [`BLOCK_LOG2_MAX`] whatever the field holds.
@@ -1085,7 +1201,7 @@ impl TripConfig {
     ///
     /// The [`Verdict`]: the switch may stay on only on [`Verdict::Allow`].
     #[inline]
-    pub fn sample(&self, s: &mut TripState, reading_counts: u16, switch_on: bool) -> Verdict {
+    pub fn update(&self, s: &mut TripState, reading_counts: u16, switch_on: bool) -> Verdict {
         let r = u32::from(reading_counts);
         let tick = s.tick;
         let next = tick.wrapping_add(1);
@@ -1259,16 +1375,16 @@ impl TripConfig {
         })
     }
 
-    /// [`TripConfig::sample`], recording a trip in `log`.
+    /// [`TripConfig::update`], recording a trip in `log`.
     #[inline]
-    pub fn sample_logged<const N: usize>(
+    pub fn update_logged<const N: usize>(
         &self,
         s: &mut TripState,
         log: &mut TripLog<N>,
         reading_counts: u16,
         switch_on: bool,
     ) -> Verdict {
-        let v = self.sample(s, reading_counts, switch_on);
+        let v = self.update(s, reading_counts, switch_on);
         if let Verdict::Trip(e) = v {
             log.record(e);
         }
@@ -1410,13 +1526,49 @@ mod tests {
 
     fn samples_to_trip(cfg: &TripConfig, reading: u16, limit: u32) -> Option<u32> {
         let mut s = TripState::new();
-        (1..=limit).find(|_| matches!(cfg.sample(&mut s, reading, true), Verdict::Trip(_)))
+        (1..=limit).find(|_| matches!(cfg.update(&mut s, reading, true), Verdict::Trip(_)))
     }
 
     #[test]
     fn state_fits_32_bytes_and_event_8() {
         assert!(core::mem::size_of::<TripState>() <= 32);
         assert_eq!(core::mem::size_of::<TripEvent>(), 8);
+    }
+
+    /// The raw values carry every field (the measured table error included), and the getters
+    /// read them.
+    #[test]
+    fn raw_round_trip() {
+        let mut p = params();
+        p.blanking_s = 3e-3;
+        p.persistence_n = 2;
+        p.persistence_m = 3;
+        p.stuck_samples = 40;
+        p.retries = 2;
+        p.retry_delay_s = 20e-3;
+        p.inverse = Some(InverseTime::new(Curve::IeeeVeryInverse, 2.0, 0.05).unwrap());
+        p.thermal = Some(Thermal::new(0.5, 1.05, 2.5).unwrap());
+        let cfg = TripConfig::new(&p).unwrap();
+        assert_eq!(TripConfig::from_raw(cfg.raw()), cfg);
+        let r = cfg.raw();
+        assert!(r.table_error_ppm > 0 && r.x2_mul > 0 && r.thermal_step_q32 > 0);
+        assert_eq!(
+            (
+                cfg.instantaneous_counts(),
+                cfg.full_scale_counts(),
+                cfg.blank_samples(),
+                cfg.persistence_n(),
+                cfg.persistence_m(),
+                cfg.stuck_samples(),
+                cfg.retries(),
+                cfg.retry_samples()
+            ),
+            (3000, 4095, 3, 2, 3, 40, 2, 20)
+        );
+        assert_eq!(
+            (cfg.x2_mul(), cfg.x2_shift(), cfg.table_error_ppm()),
+            (r.x2_mul, r.x2_shift, r.table_error_ppm)
+        );
     }
 
     #[test]
@@ -1433,14 +1585,14 @@ mod tests {
         // Blanked: three samples over the threshold after switch-on do nothing.
         for _ in 0..3 {
             assert_eq!(
-                cfg.sample_logged(&mut s, &mut log, 3500, true),
+                cfg.update_logged(&mut s, &mut log, 3500, true),
                 Verdict::Allow
             );
         }
         // Over, not over, over: 2 of 3 trips at the third.
-        assert_eq!(cfg.sample(&mut s, 3500, true), Verdict::Allow);
-        assert_eq!(cfg.sample(&mut s, 100, true), Verdict::Allow);
-        let v = cfg.sample_logged(&mut s, &mut log, 3500, true);
+        assert_eq!(cfg.update(&mut s, 3500, true), Verdict::Allow);
+        assert_eq!(cfg.update(&mut s, 100, true), Verdict::Allow);
+        let v = cfg.update_logged(&mut s, &mut log, 3500, true);
         assert!(matches!(
             v,
             Verdict::Trip(TripEvent {
@@ -1452,14 +1604,14 @@ mod tests {
         ));
         // Waits five samples, then allows again.
         for _ in 0..4 {
-            assert_eq!(cfg.sample(&mut s, 0, false), Verdict::Waiting);
+            assert_eq!(cfg.update(&mut s, 0, false), Verdict::Waiting);
         }
-        assert_eq!(cfg.sample(&mut s, 0, false), Verdict::Allow);
+        assert_eq!(cfg.update(&mut s, 0, false), Verdict::Allow);
         assert_eq!(s.retries(), 1);
         // Two more trips: the second retry, then the latch.
         let mut trips = 0;
         for _ in 0..200 {
-            match cfg.sample_logged(&mut s, &mut log, 4095, true) {
+            match cfg.update_logged(&mut s, &mut log, 4095, true) {
                 Verdict::Trip(_) => trips += 1,
                 Verdict::Latched => break,
                 _ => {}
@@ -1469,8 +1621,8 @@ mod tests {
         assert!(s.is_latched());
         assert_eq!(log.len(), 2);
         assert_eq!(log.latest().map(|e| e.retry), Some(2));
-        cfg.reset(&mut s);
-        assert_eq!(cfg.sample(&mut s, 0, false), Verdict::Allow);
+        s.reset();
+        assert_eq!(cfg.update(&mut s, 0, false), Verdict::Allow);
     }
 
     #[test]
@@ -1484,7 +1636,7 @@ mod tests {
         let mut s = TripState::new();
         let mut got = None;
         for k in 0..20u32 {
-            if let Verdict::Trip(e) = cfg.sample(&mut s, 1234, true) {
+            if let Verdict::Trip(e) = cfg.update(&mut s, 1234, true) {
                 got = Some((k, e.cause));
                 break;
             }
@@ -1494,7 +1646,7 @@ mod tests {
         // A varying reading never counts as stuck.
         let mut s = TripState::new();
         for k in 0..1000u16 {
-            assert_eq!(cfg.sample(&mut s, 1000 + (k & 3), true), Verdict::Allow);
+            assert_eq!(cfg.update(&mut s, 1000 + (k & 3), true), Verdict::Allow);
         }
     }
 
@@ -1519,13 +1671,13 @@ mod tests {
         let mut s = TripState::new();
         // Whole blocks (1024 and 1440 are multiples of every K up to 32).
         for _ in 0..1024 {
-            cfg.sample(&mut s, 1000, true); // 4 A = 2x pickup
+            cfg.update(&mut s, 1000, true); // 4 A = 2x pickup
         }
         let acc = s.inverse_q32();
         assert!(acc > 0);
         // 0.5x pickup: full reset takes 28.8 s = 28 800 samples; 1440 samples run back 5 %.
         for _ in 0..1440 {
-            cfg.sample(&mut s, 250, true);
+            cfg.update(&mut s, 250, true);
         }
         let back = f64::from(acc - s.inverse_q32()) / INVERSE_ONE as f64;
         assert!((back - 0.05).abs() < 1e-4, "{back}");
@@ -1534,11 +1686,11 @@ mod tests {
         let cfg = TripConfig::new(&p).unwrap();
         let mut s = TripState::new();
         for _ in 0..cfg.block_samples() {
-            cfg.sample(&mut s, 1000, true);
+            cfg.update(&mut s, 1000, true);
         }
         assert!(s.inverse_q32() > 0);
         for _ in 0..cfg.block_samples() {
-            cfg.sample(&mut s, 400, true);
+            cfg.update(&mut s, 400, true);
         }
         assert_eq!(s.inverse_q32(), 0);
     }
@@ -1557,14 +1709,19 @@ mod tests {
         }
         let msb = 31 - m.leading_zeros();
         let octave = (msb - 16) as usize;
-        if octave >= TABLE_OCTAVES {
-            return Some(t.rate_q32.get(TABLE_LEN - 1).copied().unwrap_or(u32::MAX));
+        if octave >= INVERSE_TABLE_OCTAVES {
+            return Some(
+                t.rate_q32
+                    .get(INVERSE_TABLE_LEN - 1)
+                    .copied()
+                    .unwrap_or(u32::MAX),
+            );
         }
         let rem = m - (1 << msb);
         let shift = msb - 5;
         let step = (rem >> shift) as usize;
         let frac_q16 = (rem & ((1 << shift) - 1)) << (16 - shift);
-        let idx = octave * TABLE_STEPS + step;
+        let idx = octave * INVERSE_TABLE_STEPS + step;
         let a = t.rate_q32.get(idx).copied().unwrap_or(u32::MAX);
         let b = t.rate_q32.get(idx + 1).copied().unwrap_or(a);
         let d = i64::from(b) - i64::from(a);
@@ -1612,7 +1769,7 @@ mod tests {
         /// formulation on any scale, table and reading (computed: exact integer identity).
         #[test]
         fn same_as_the_64_bit_formulation(
-            scale in edgy_u32(), rates in proptest::collection::vec(edgy_u32(), TABLE_LEN),
+            scale in edgy_u32(), rates in proptest::collection::vec(edgy_u32(), INVERSE_TABLE_LEN),
             readings in proptest::collection::vec(any::<u16>(), 1..40),
         ) {
             let mut table = InverseTable::DISABLED;
@@ -1643,8 +1800,8 @@ mod tests {
             let (mut a, mut b) = (TripState::new(), TripState::new());
             for reading in [up, down] {
                 for _ in 0..(blocks << k) {
-                    let va = one.sample(&mut a, reading, true);
-                    let vb = many.sample(&mut b, reading, true);
+                    let va = one.update(&mut a, reading, true);
+                    let vb = many.update(&mut b, reading, true);
                     if matches!(va, Verdict::Trip(_)) || matches!(vb, Verdict::Trip(_)) {
                         return Ok(());
                     }
@@ -1704,7 +1861,7 @@ mod tests {
             }
             let mut s = TripState::with_theta_q24(theta_q24_from_f32((prior * prior) as f32));
             let n = (1..=10_000_000u32)
-                .find(|_| matches!(cfg.sample(&mut s, reading, true), Verdict::Trip(_)))
+                .find(|_| matches!(cfg.update(&mut s, reading, true), Verdict::Trip(_)))
                 .unwrap();
             // The kernel trips at the end of the block in which the f64 update reaches one.
             let k = f64::from(cfg.block_samples());
@@ -1735,13 +1892,26 @@ mod tests {
             }
             table.reset_q32 = raw[9];
             table.instant_reset = raw[10] & 1 == 1;
-            let cfg = TripConfig::from_raw(raw[0] as u16, raw[1] as u16, raw[2] as u16,
-                raw[3] as u8, raw[4] as u8, raw[5] as u16, raw[6] as u8, raw[7] as u16,
-                (raw[9] >> 24) as u8, table, raw[10], (raw[11] >> 24) as u8, raw[11]);
+            let cfg = TripConfig::from_raw(TripRaw {
+                instantaneous_counts: raw[0] as u16,
+                full_scale_counts: raw[1] as u16,
+                blank_samples: raw[2] as u16,
+                persistence_n: raw[3] as u8,
+                persistence_m: raw[4] as u8,
+                stuck_samples: raw[5] as u16,
+                retries: raw[6] as u8,
+                retry_samples: raw[7] as u16,
+                block_log2: (raw[9] >> 24) as u8,
+                inverse_table: table,
+                x2_mul: raw[10],
+                x2_shift: (raw[11] >> 24) as u8,
+                thermal_step_q32: raw[11],
+                table_error_ppm: raw[3],
+            });
             let mut s = TripState::with_theta_q24(raw[11]);
             let mut log = TripLog::<3>::new();
             for (r, on) in &readings {
-                let _ = cfg.sample_logged(&mut s, &mut log, *r, *on);
+                let _ = cfg.update_logged(&mut s, &mut log, *r, *on);
             }
             prop_assert!(log.len() <= 3);
             let v: Vec<_> = log.iter().collect();

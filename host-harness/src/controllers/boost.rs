@@ -124,7 +124,7 @@ impl Controller for BoostRegulator {
         let duty = if c.bypass {
             request as u16
         } else {
-            c.limiter.tick(
+            c.limiter.update(
                 &mut self.lim,
                 request as i32,
                 s.supply_counts,
