@@ -1,41 +1,4 @@
-//! Integer coil current estimator: the exact zero-order-hold update of the RL model.
-//!
-//! # Algorithm
-//!
-//! Over one tick of length `T` the applied voltage `u` is held constant, so the RL equation
-//! `L di/dt = u − R i` integrates exactly to
-//!
-//! ```text
-//! i[k+1] = a·i[k] + (1 − a)·u[k]/R,      a = exp(−T·R/L)
-//!        = i[k] + c·(I_t − i[k]),        c = 1 − a,  I_t = u/R (the current the tick heads to)
-//! ```
-//!
-//! (closed form of the first-order step response; not forward Euler, which would use
-//! `c = T·R/L` and run 2.26 % high after ten ticks at `T/τ = 0.06`).
-//!
-//! - **On**: `u = V_supply − V_switch`, `R = R_on` (winding plus series resistances).
-//! - **Off**: the current freewheels through the clamp: `u = k·V_supply − V_clamp` with
-//!   `k = 0` for a clamp across the coil (diode, diode plus zener, resistor plus diode) and
-//!   `k = 1` for a clamp across the switch; `R = R_off`. The diode blocks at zero: once the
-//!   update reaches zero or below, the current is zero and stays there while off.
-//!
-//! # Fixed point
-//!
-//! State: the current in microamps (`i32`) and the fraction below one microamp carried from the
-//! last tick (`u32`, units of 2⁻³¹ µA). Carrying the fraction (error feedback) removes the dead
-//! band a plain rounded IIR update has near its target (`0.5/c` µA, half an ampere at
-//! `c = 10⁻⁶`); the remaining bias is below 1 µA.
-//!
-//! Coefficients: `c` in Q31, the loop conductance `1/R` in Q16 µA per mV. One tick costs two
-//! 32×32→64 multiplies, shifts and compares: no float, no division. The saturations are
-//! decided on the top word of each 64-bit product, so no 64-bit compare is needed (about 46
-//! instructions per tick on Cortex-M3 and 119 on Cortex-M0, measured by `lenz cost`).
-//!
-//! # Ranges
-//!
-//! Documented and checked by the plan constructor: loop resistance 0.05 Ω ..= 50 kΩ,
-//! `T/τ` 10⁻⁶ ..= 1000. At run time the target and the state saturate at ±[`CURRENT_LIMIT_UA`]
-//! (about ±1073 A) and supply readings below zero count as 0 V.
+//! The coil current estimator (documented on [`EstimatorConfig`]).
 
 use super::q::{clamp_i64, mul_wide, q16_from_f32, q31_from_f32};
 use crate::coil::Coil;
@@ -83,7 +46,45 @@ pub struct EstimatorRaw {
     pub off: OffPath,
 }
 
-/// Estimator coefficients for one coil, temperature and tick period (shared by channels).
+/// Estimator coefficients for one coil, temperature and tick period (shared by channels): the
+/// exact zero-order-hold update of the RL model, integer only.
+///
+/// # Algorithm
+///
+/// Over one tick of length `T` the applied voltage `u` is held constant, so the RL equation
+/// `L di/dt = u − R i` integrates exactly to
+///
+/// ```text
+/// i[k+1] = a·i[k] + (1 − a)·u[k]/R,      a = exp(−T·R/L)
+///        = i[k] + c·(I_t − i[k]),        c = 1 − a,  I_t = u/R (the current the tick heads to)
+/// ```
+///
+/// (closed form of the first-order step response; not forward Euler, which would use
+/// `c = T·R/L` and run 2.26 % high after ten ticks at `T/τ = 0.06`).
+///
+/// - **On**: `u = V_supply − V_switch`, `R = R_on` (winding plus series resistances).
+/// - **Off**: the current freewheels through the clamp: `u = k·V_supply − V_clamp` with
+///   `k = 0` for a clamp across the coil (diode, diode plus zener, resistor plus diode) and
+///   `k = 1` for a clamp across the switch; `R = R_off`. The diode blocks at zero: once the
+///   update reaches zero or below, the current is zero and stays there while off.
+///
+/// # Fixed point
+///
+/// State: the current in microamps (`i32`) and the fraction below one microamp carried from the
+/// last tick (`u32`, units of 2⁻³¹ µA). Carrying the fraction (error feedback) removes the dead
+/// band a plain rounded IIR update has near its target (`0.5/c` µA, half an ampere at
+/// `c = 10⁻⁶`); the remaining bias is below 1 µA.
+///
+/// Coefficients: `c` in Q31, the loop conductance `1/R` in Q16 µA per mV. One tick costs two
+/// 32×32→64 multiplies, shifts and compares: no float, no division. The saturations are
+/// decided on the top word of each 64-bit product, so no 64-bit compare is needed (about 46
+/// instructions per tick on Cortex-M3 and 119 on Cortex-M0, measured by `lenz cost`).
+///
+/// # Ranges
+///
+/// Documented and checked by the plan constructor: loop resistance 0.05 Ω ..= 50 kΩ,
+/// `T/τ` 10⁻⁶ ..= 1000. At run time the target and the state saturate at ±[`CURRENT_LIMIT_UA`]
+/// (about ±1073 A) and supply readings below zero count as 0 V.
 ///
 /// # Examples
 ///
@@ -173,7 +174,7 @@ impl EstimatorConfig {
     /// # Errors
     ///
     /// Bad temperature or tick, or a loop resistance or `tick/τ` outside the documented ranges
-    /// (module docs), named as `loop_resistance_ohm` or `tick_s`.
+    /// ([*Ranges*](EstimatorConfig#ranges)), named as `loop_resistance_ohm` or `tick_s`.
     pub fn new(coil: &Coil, temp_c: f32, tick_s: f32) -> Result<Self, Error> {
         let diode_v = coil.params().diode_drop_v;
         Self::with_clamp(coil, temp_c, tick_s, 0.0, diode_v, false)
@@ -271,11 +272,10 @@ impl EstimatorConfig {
     ///
     /// The estimated current at the end of the tick, µA, in `0 ..= CURRENT_LIMIT_UA`.
     ///
-    /// With coefficients from [`EstimatorConfig::new`] or [`EstimatorConfig::with_clamp`]
-    /// (steps in `0 ..= 1` Q31) and a state made by this module, the result is the exact
-    /// fixed-point update of the module docs. Raw coefficients outside those ranges (a
-    /// negative step) give an unspecified result, still in range and without overflow or
-    /// panic.
+    /// With coefficients from [`EstimatorConfig::new`] or [`EstimatorConfig::with_clamp`] (steps in
+    /// `0 ..= 1` Q31) and a state made by this module, the result is the exact fixed-point update
+    /// above ([*Algorithm*](EstimatorConfig#algorithm)). Raw coefficients outside those ranges (a
+    /// negative step) give an unspecified result, still in range and without overflow or panic.
     #[inline]
     pub fn update(&self, state: &mut EstimatorState, switch_on: bool, supply_mv: i32) -> i32 {
         let supply = if supply_mv > 0 { supply_mv } else { 0 };
@@ -365,8 +365,8 @@ mod tests {
     /// The raw values carry every field, and `from_raw` is usable in a constant.
     #[test]
     fn raw_round_trip() {
-        let cfg = EstimatorConfig::with_clamp(&reference_coil(), 60.0, 100e-6, 10.0, 24.7, true)
-            .unwrap();
+        let cfg =
+            EstimatorConfig::with_clamp(&reference_coil(), 60.0, 100e-6, 10.0, 24.7, true).unwrap();
         assert_eq!(EstimatorConfig::from_raw(cfg.raw()), cfg);
         const C: EstimatorConfig = EstimatorConfig::from_raw(EstimatorRaw {
             on_step_q31: 1,
@@ -464,7 +464,7 @@ mod tests {
     }
 
     /// The update written out in 64-bit arithmetic with plain clamps (the reference form of
-    /// the module docs: computed, exact integer arithmetic).
+    /// the type docs: computed, exact integer arithmetic).
     fn wide_reference(
         c: &EstimatorConfig,
         s: &mut EstimatorState,

@@ -1,32 +1,4 @@
-//! Plausibility monitor: compares the estimator's current with a measured current sample and
-//! raises distinct faults after a stated persistence.
-//!
-//! # Decisions, per sample, in this order
-//!
-//! 1. **Sensor out of range**: the reading lies outside `min_valid_counts ..= max_valid_counts`
-//!    (a shorted or open sense line, an ADC stuck at a rail). Such a reading is never taken as
-//!    zero current; after `persistence` consecutive such readings the fault is raised.
-//! 2. **Sensor stuck**: the reading has not changed for `stuck_samples` consecutive samples
-//!    while the estimate moved by more than `stuck_min_change_ua` since it froze.
-//! 3. **Open coil**: the estimate is at least `open_min_estimate_ua` but the measured current is
-//!    at most `open_max_ua`, for `persistence` consecutive samples.
-//! 4. **Low resistance** (shorted turns, shorted coil): the measured current exceeds the estimate
-//!    by more than the tolerance band `abs_tol_ua + rel_tol·|estimate|`, for `persistence`
-//!    consecutive samples. Shorted turns lower both L and R, so the current rises faster and
-//!    settles higher than the model of the healthy coil predicts.
-//!
-//! A measured current below the estimate (a hot coil) is not a fault by itself. The first fault
-//! raised is latched until [`MonitorState::reset`].
-//!
-//! Measured current: `(counts − offset_counts) · ua_per_count_q16 >> 16`, µA. No division, no
-//! float, saturating. State: 16 bytes per channel.
-//!
-//! Arithmetic: the two products are 32×32→64 ([`super::q::mul_wide`], four 32-bit multiplies
-//! on Cortex-M0 instead of the 64-bit library multiply) and the compares are in `i32` wherever
-//! that is exact; only raw configurations at the ends of the `i32` range take a 64-bit path.
-//! The results equal those of the all-`i64` formulation for every input (unit test
-//! `same_as_the_64_bit_formulation`). Measured under emulation (`lenz cost`): about 166
-//! instructions per sample on Cortex-M0, 76 on Cortex-M3, 77 on Cortex-M4F.
+//! The plausibility monitor (documented on [`MonitorConfig`]).
 
 use super::q::{mul_wide, q16_from_f32};
 use crate::error::{Error, in_range, non_negative, positive};
@@ -172,7 +144,64 @@ pub struct MonitorRaw {
     pub stuck_min_change_ua: i32,
 }
 
-/// Thresholds and persistence of the plausibility monitor (shared by channels).
+/// Thresholds and persistence of the plausibility monitor (shared by channels): compares the
+/// estimator's current with a measured current sample and raises distinct faults after a
+/// stated persistence.
+///
+/// # Decisions, per sample, in this order
+///
+/// 1. **Sensor out of range**: the reading lies outside `min_valid_counts ..= max_valid_counts`
+///    (a shorted or open sense line, an ADC stuck at a rail). Such a reading is never taken as
+///    zero current; after `persistence` consecutive such readings the fault is raised.
+/// 2. **Sensor stuck**: the reading has not changed for `stuck_samples` consecutive samples
+///    while the estimate moved by more than `stuck_min_change_ua` since it froze.
+/// 3. **Open coil**: the estimate is at least `open_min_estimate_ua` but the measured current is
+///    at most `open_max_ua`, for `persistence` consecutive samples.
+/// 4. **Low resistance** (shorted turns, shorted coil): the measured current exceeds the estimate
+///    by more than the tolerance band `abs_tol_ua + rel_tol·|estimate|`, for `persistence`
+///    consecutive samples. Shorted turns lower both L and R, so the current rises faster and
+///    settles higher than the model of the healthy coil predicts.
+///
+/// A measured current below the estimate (a hot coil) is not a fault by itself. The first fault
+/// raised is latched until [`MonitorState::reset`].
+///
+/// Measured current: `(counts − offset_counts) · ua_per_count_q16 >> 16`, µA. No division, no
+/// float, saturating. State: 16 bytes per channel.
+///
+/// Arithmetic: the two products are 32×32→64 ([`mul_wide`](crate::kernel::q::mul_wide), four 32-bit
+/// multiplies on Cortex-M0 instead of the 64-bit library multiply) and the compares are in `i32`
+/// wherever that is exact; only raw configurations at the ends of the `i32` range take a 64-bit
+/// path. The results equal those of the all-`i64` formulation for every input (unit test
+/// `same_as_the_64_bit_formulation`). Measured under emulation (`lenz cost`): about 166
+/// instructions per sample on Cortex-M0, 76 on Cortex-M3, 77 on Cortex-M4F.
+///
+/// # Examples
+///
+/// ```
+/// # use lenz::kernel::{Fault, MonitorConfig, MonitorParams, MonitorState, SenseScale};
+/// // Demo sense chain (invented): 12-bit ADC, 4.028 mA per count, zero current at 100
+/// // counts, readings outside 10 ..= 4085 invalid.
+/// let scale = SenseScale::new(4.028e-3, 100.0, 10, 4085)?;
+/// let cfg = MonitorConfig::new(scale, &MonitorParams {
+///     abs_tol_a: 0.05,
+///     rel_tol: 0.2,
+///     open_min_estimate_a: 0.1,
+///     open_max_a: 0.02,
+///     persistence: 3,
+///     stuck_samples: 20,
+///     stuck_min_change_a: 0.1,
+/// })?;
+/// let mut s = MonitorState::new();
+/// // Estimate 0.5 A and a reading of 0.5 A (224 counts): plausible.
+/// assert_eq!(cfg.update(&mut s, 500_000, 224), None);
+/// // Estimate 0.5 A but the reading stays at zero current: an open coil after 3 samples.
+/// assert_eq!(cfg.update(&mut s, 500_000, 100), None);
+/// assert_eq!(cfg.update(&mut s, 500_000, 101), None);
+/// assert_eq!(cfg.update(&mut s, 500_000, 100), Some(Fault::OpenCoil));
+/// s.reset();
+/// assert_eq!(s.fault(), None);
+/// # Ok::<(), lenz::Error>(())
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
