@@ -1,6 +1,6 @@
 //! The coil current estimator (documented on [`EstimatorConfig`]).
 
-use super::q::{clamp_i64, mul_wide, q16_from_f32, q31_from_f32};
+use super::q::{ARMV6M, clamp_i64, mul_q16_round_small, mul_wide, q16_from_f32, q31_from_f32};
 use crate::coil::Coil;
 use crate::error::{Error, in_range, non_negative, positive};
 
@@ -279,73 +279,145 @@ impl EstimatorConfig {
     #[inline]
     pub fn update(&self, state: &mut EstimatorState, switch_on: bool, supply_mv: i32) -> i32 {
         let supply = if supply_mv > 0 { supply_mv } else { 0 };
-        let (step, target) = if switch_on {
+        if switch_on {
             let u = supply.saturating_sub(self.switch_drop_mv);
             let u = if u > 0 { u } else { 0 };
-            (self.on_step_q31, on_target_ua(u, self.on_conductance_q16))
+            let target = on_target_ua(u, self.on_conductance_q16);
+            advance(state, self.on_step_q31, target)
         } else {
-            let coupled = if self.off.supply_coupled { supply } else { 0 };
-            let u = coupled.saturating_sub(self.off.clamp_mv);
-            (
-                self.off.step_q31,
-                off_target_ua(u, self.off.conductance_q16),
-            )
-        };
-        // A state made by this module lies in 0 ..= 2^30 and the target in ±2^30, so their
-        // difference fits an i32 and the product with the Q31 step is one 32×32→64 multiply.
-        let current = state.current_ua;
-        let diff = target.wrapping_sub(current);
-        let acc = mul_wide(diff, step) + state.frac as i64;
-        // |diff·step| < 2^62 for a step in 0 ..= 1, so the whole part fits an i32, and the new
-        // current lies between the old one and the target.
-        let whole = (acc >> 31) as i32;
-        // acc − whole·2^31: the low 31 bits, as acc is split with an arithmetic shift.
-        let frac = (acc as u32) & 0x7FFF_FFFF;
-        let i = current.wrapping_add(whole);
-        let (i, frac) = if i > 0 {
-            (
-                if i < CURRENT_LIMIT_UA {
-                    i
-                } else {
-                    CURRENT_LIMIT_UA
-                },
-                frac,
-            )
-        } else {
-            // The switch or the freewheel diode blocks reverse current.
-            (0, 0)
-        };
-        state.current_ua = i;
-        state.frac = frac;
-        i
+            self.off_from(state, supply)
+        }
+    }
+
+    /// [`EstimatorConfig::update`] with the switch open (the off-timer's tick).
+    #[inline(always)]
+    pub(crate) fn update_off(&self, state: &mut EstimatorState, supply_mv: i32) -> i32 {
+        let supply = if supply_mv > 0 { supply_mv } else { 0 };
+        self.off_from(state, supply)
+    }
+
+    /// The off-path tick from a supply already clamped at zero.
+    #[inline(always)]
+    fn off_from(&self, state: &mut EstimatorState, supply: i32) -> i32 {
+        let coupled = if self.off.supply_coupled { supply } else { 0 };
+        let u = coupled.saturating_sub(self.off.clamp_mv);
+        let target = off_target_ua(u, self.off.conductance_q16);
+        advance(state, self.off.step_q31, target)
     }
 }
 
-/// `(u·g + 2^15) >> 16` (µA from mV and a Q16 conductance) saturated into `0 ..= 2^30`.
+/// One exact step `i += c·(I_t − i)` with the carried fraction, blocked at zero and saturated
+/// at [`CURRENT_LIMIT_UA`]; returns the new current.
+#[inline(always)]
+fn advance(state: &mut EstimatorState, step_q31: i32, target_ua: i32) -> i32 {
+    // A state made by this module lies in 0 ..= 2^30 and the target in ±2^30, so their
+    // difference fits an i32 and the product with the Q31 step is one 32×32→64 multiply.
+    let current = state.current_ua;
+    let diff = target_ua.wrapping_sub(current);
+    let acc = mul_wide(diff, step_q31) + state.frac as i64;
+    // |diff·step| < 2^62 for a step in 0 ..= 1, so the whole part fits an i32, and the new
+    // current lies between the old one and the target.
+    let whole = (acc >> 31) as i32;
+    // acc − whole·2^31: the low 31 bits, as acc is split with an arithmetic shift.
+    let frac = (acc as u32) & 0x7FFF_FFFF;
+    let i = current.wrapping_add(whole);
+    let (i, frac) = if i > 0 {
+        (
+            if i < CURRENT_LIMIT_UA {
+                i
+            } else {
+                CURRENT_LIMIT_UA
+            },
+            frac,
+        )
+    } else {
+        // The switch or the freewheel diode blocks reverse current.
+        (0, 0)
+    };
+    state.current_ua = i;
+    state.frac = frac;
+    i
+}
+
+/// `(u·g + 2^15) >> 16` (µA from mV and a Q16 conductance) saturated into `0 ..= 2^30`, for
+/// `u ≥ 0`.
 ///
-/// The rounded product `p = u·g + 2^15` is in range exactly when `p >> 46` is 0 (the top word
-/// alone decides, no 64-bit compare): then `p >> 16 < 2^30`; otherwise the sign of `p` picks the
-/// bound (`p >> 16 = 2^30` itself lands on the upper bound).
+/// The rounded product `p = u·g + 2^15` is in range exactly when `p >> 46` is 0, which is the
+/// top word of `p` shifted by 14: the top word alone decides, no 64-bit compare, and its sign
+/// picks the bound otherwise (`p >> 16 = 2^30` itself lands on the upper bound). On ARMv6-M a
+/// voltage below 2¹⁶ mV (65.5 V) takes [`mul_q16_round_small`] (two 32-bit multiplies) instead
+/// of the four of [`mul_wide`]; both are exact.
 #[inline(always)]
 fn on_target_ua(u_mv: i32, g_q16: i32) -> i32 {
+    if ARMV6M && u_mv < (1 << 16) {
+        on_target_small(u_mv, g_q16)
+    } else {
+        on_target_wide(u_mv, g_q16)
+    }
+}
+
+/// [`on_target_ua`] for `0 ≤ u < 2¹⁶` from [`mul_q16_round_small`].
+#[inline(always)]
+fn on_target_small(u_mv: i32, g_q16: i32) -> i32 {
+    let t = mul_q16_round_small(u_mv, g_q16);
+    if t < 0 {
+        0
+    } else if t < CURRENT_LIMIT_UA {
+        t
+    } else {
+        CURRENT_LIMIT_UA
+    }
+}
+
+/// [`on_target_ua`] from the wide product.
+#[inline(always)]
+fn on_target_wide(u_mv: i32, g_q16: i32) -> i32 {
     let p = mul_wide(u_mv, g_q16) + (1 << 15);
-    if p >> 46 == 0 {
+    let top = (p >> 32) as i32;
+    if top >> 14 == 0 {
         (p >> 16) as i32
-    } else if p < 0 {
+    } else if g_q16 < 0 {
+        // Out of range means |u·g| ≥ 2⁴⁶ − 2¹⁵, so u > 0 and the sign is g's. (Testing g, not
+        // p, keeps the compiler from forming the product a second time for a 64-bit compare.)
         0
     } else {
         CURRENT_LIMIT_UA
     }
 }
 
-/// As [`on_target_ua`], saturated into `−2^30 ..= 2^30` (`p >> 46` is 0 or −1 in range).
+/// As [`on_target_ua`] for any `u`, saturated into `−2^30 ..= 2^30` (in range when `p >> 46`
+/// is 0 or −1).
 #[inline(always)]
 fn off_target_ua(u_mv: i32, g_q16: i32) -> i32 {
+    if ARMV6M && (u_mv as u32).wrapping_add(0xFFFF) < 0x1_FFFF {
+        off_target_small(u_mv, g_q16)
+    } else {
+        off_target_wide(u_mv, g_q16)
+    }
+}
+
+/// [`off_target_ua`] for `|u| < 2¹⁶` from [`mul_q16_round_small`].
+#[inline(always)]
+fn off_target_small(u_mv: i32, g_q16: i32) -> i32 {
+    let t = mul_q16_round_small(u_mv, g_q16);
+    if t < -CURRENT_LIMIT_UA {
+        -CURRENT_LIMIT_UA
+    } else if t < CURRENT_LIMIT_UA {
+        t
+    } else {
+        CURRENT_LIMIT_UA
+    }
+}
+
+/// [`off_target_ua`] from the wide product.
+#[inline(always)]
+fn off_target_wide(u_mv: i32, g_q16: i32) -> i32 {
     let p = mul_wide(u_mv, g_q16) + (1 << 15);
-    let top = (p >> 46) as i32;
-    if top == 0 || top == -1 {
+    let top = (p >> 32) as i32;
+    if ((top >> 14).wrapping_add(1) as u32) < 2 {
         (p >> 16) as i32
-    } else if p < 0 {
+    } else if (u_mv ^ g_q16) < 0 {
+        // Out of range means |u·g| ≥ 2⁴⁵, so the sign of p is the sign of u·g.
         -CURRENT_LIMIT_UA
     } else {
         CURRENT_LIMIT_UA
@@ -494,6 +566,38 @@ mod tests {
         s.current_ua = i as i32;
         s.frac = frac;
         i as i32
+    }
+
+    /// The ARMv6-M target forms equal the wide ones (computed: exact integer identity, every
+    /// voltage of the small range against edge and pseudo-random conductances).
+    #[test]
+    fn small_targets_equal_wide_targets() {
+        let mut x = 0x2545_F491_4F6C_DD1Du64;
+        let mut gs = std::vec![
+            0,
+            1,
+            -1,
+            2_048_000,
+            i32::MAX,
+            i32::MIN,
+            0x4000_0000,
+            -0x4000_0000
+        ];
+        for _ in 0..40 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            gs.push(x as i32);
+            gs.push((x >> 40) as i32); // conductances of plan size
+        }
+        for &g in &gs {
+            for u in -0xFFFF..=0xFFFF {
+                if u >= 0 {
+                    assert_eq!(on_target_small(u, g), on_target_wide(u, g), "{u} {g}");
+                }
+                assert_eq!(off_target_small(u, g), off_target_wide(u, g), "{u} {g}");
+            }
+        }
     }
 
     proptest! {

@@ -63,10 +63,40 @@ pub const fn mul_q16_round(x: i32, c_q16: i32) -> i64 {
 #[inline(always)]
 #[must_use]
 pub const fn mul_wide(a: i32, b: i32) -> i64 {
-    if cfg!(all(target_arch = "arm", not(target_has_atomic = "ptr"))) {
+    if ARMV6M {
         mul_halves(a, b)
     } else {
         a as i64 * b as i64
+    }
+}
+
+/// `true` when compiling for ARMv6-M (Cortex-M0/M0+): no 32×32→64 multiply, no `CLZ`. Recognised
+/// by its lack of atomic read-modify-write (`target_has_atomic = "ptr"`), the one stable `cfg`
+/// that tells it apart from ARMv7-M. Kernels pick cheaper instruction sequences for it; every
+/// such sequence is exact and tested on the host against the general one.
+pub(crate) const ARMV6M: bool = cfg!(all(target_arch = "arm", not(target_has_atomic = "ptr")));
+
+/// `(u·g + 2¹⁵) >> 16` for `|u| < 2¹⁶`, exact, from two 32-bit products (the ARMv6-M form of
+/// a rounded Q16 product of a small integer).
+///
+/// With `g = g_hi·2¹⁶ + g_lo` (`g_hi` signed, `g_lo` unsigned 16 bits) and `u ≥ 0`:
+/// `u·g + 2¹⁵ = u·g_hi·2¹⁶ + (u·g_lo + 2¹⁵)`, and the first term has no bits below 2¹⁶, so the
+/// shift splits exactly: `u·g_hi + ((u·g_lo + 2¹⁵) >> 16)`. Here `|u·g_hi| < 2³¹` and
+/// `u·g_lo + 2¹⁵ < 2³²` (unsigned), and the sum lies within `±(2³¹ − 2¹⁵)`. For `u = −a < 0`,
+/// `⌊(−a·g + 2¹⁵)/2¹⁶⌋ = −⌊(a·g + 2¹⁵ − 1)/2¹⁶⌋`, the same split with `2¹⁵ − 1`.
+///
+/// The caller guarantees `|u| < 2¹⁶` (a `debug_assert!`); the result is then the exact `i32`.
+#[inline(always)]
+#[must_use]
+pub const fn mul_q16_round_small(u: i32, g: i32) -> i32 {
+    debug_assert!(u > -(1 << 16) && u < (1 << 16));
+    let g_hi = g >> 16;
+    let g_lo = (g as u32) & 0xFFFF;
+    if u >= 0 {
+        u * g_hi + ((u as u32 * g_lo + (1 << 15)) >> 16) as i32
+    } else {
+        let a = -u;
+        -(a * g_hi + ((a as u32 * g_lo + ((1 << 15) - 1)) >> 16) as i32)
     }
 }
 
@@ -84,6 +114,7 @@ const fn mul_halves(a: i32, b: i32) -> i64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+    extern crate std;
 
     #[test]
     fn conversions_saturate_and_round() {
@@ -94,6 +125,36 @@ mod tests {
         assert_eq!(mul_q16_round(3, 1 << 15), 2); // 1.5 rounds to 2
         assert_eq!(mul_q16_round(-3, 1 << 15), -1); // -1.5 rounds to -1 (half up)
         assert_eq!(clamp_i64(5, 0, 3), 3);
+    }
+
+    /// The two-product rounding of small integers against the `i64` form (computed: exact
+    /// integer identity, over every `u` of the range against edge and pseudo-random `g`).
+    #[test]
+    fn small_rounded_product_is_exact() {
+        let mut x = 0x9E37_79B9_7F4A_7C15u64;
+        let mut gs = std::vec![
+            0,
+            1,
+            -1,
+            0xFFFF,
+            0x1_0000,
+            -0x1_0000,
+            i32::MIN,
+            i32::MAX,
+            0x7FFF_8000
+        ];
+        for _ in 0..60 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            gs.push(x as i32);
+        }
+        for &g in &gs {
+            for u in -0xFFFF..=0xFFFF {
+                let want = (u as i64 * g as i64 + (1 << 15)) >> 16;
+                assert_eq!(i64::from(mul_q16_round_small(u, g)), want, "{u} * {g}");
+            }
+        }
     }
 
     /// The half-word product of ARMv6-M against the `i64` product (computed: exact integer

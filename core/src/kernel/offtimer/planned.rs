@@ -184,7 +184,7 @@ impl PlannedOffTimerConfig {
             }
         }
         state.estimate = EstimatorState::new();
-        state.margin_ua = 0;
+        state.release_at_ua = 0;
         state.remaining_ticks = remaining;
         state.armed = true;
     }

@@ -21,7 +21,9 @@ pub enum OffStatus {
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
 pub struct OffTimerState {
     pub(super) estimate: EstimatorState,
-    pub(super) margin_ua: i32,
+    /// Tracking: the estimate at or below which the timer releases, µA (threshold less the
+    /// margin).
+    pub(super) release_at_ua: i32,
     pub(super) remaining_ticks: u32,
     pub(super) armed: bool,
 }
@@ -35,7 +37,7 @@ impl OffTimerState {
     pub const fn new() -> Self {
         Self {
             estimate: EstimatorState::new(),
-            margin_ua: 0,
+            release_at_ua: 0,
             remaining_ticks: 0,
             armed: false,
         }

@@ -103,7 +103,7 @@ proptest! {
     }
 
     #[test]
-    fn raw_tracking_never_panics(
+    fn raw_tracking_never_panics_and_decides_as_specified(
         step in any::<i32>(), g in any::<i32>(), clamp in any::<i32>(), coupled in any::<bool>(),
         thr in any::<i32>(), base in any::<i32>(), shift in any::<u32>(), start in any::<i32>(),
         supplies in proptest::collection::vec(any::<i32>(), 1..50),
@@ -119,8 +119,14 @@ proptest! {
         });
         let mut s = OffTimerState::new();
         t.start(&mut s, start);
+        let margin = i64::from(t.margin_ua(start));
         for v in supplies {
-            let _ = t.update(&mut s, v);
+            let status = t.update(&mut s, v);
+            // The decision as specified: estimate plus margin, saturated to the i32 range,
+            // at or below the threshold (computed: exact integer identity).
+            let sum = (i64::from(s.estimate_ua()) + margin).clamp(i32::MIN.into(), i32::MAX.into());
+            let want = if sum <= i64::from(thr) { OffStatus::Released } else { OffStatus::NotYet };
+            prop_assert_eq!(status, want);
         }
     }
 }

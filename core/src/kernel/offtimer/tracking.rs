@@ -226,7 +226,19 @@ impl TrackingOffTimerConfig {
     /// a measurement; saturated to the estimator's range).
     pub fn start(&self, state: &mut OffTimerState, current_ua: i32) {
         state.estimate = EstimatorState::with_current_ua(current_ua);
-        state.margin_ua = self.margin_ua(current_ua);
+        // Released when `estimate + margin ≤ threshold`, the sum saturated at i32::MAX; with
+        // the estimate in 0 ..= 2^30 that is `estimate ≤ threshold − margin` (exact in i64,
+        // saturated), and always at a threshold of i32::MAX. One compare per tick.
+        let margin = i64::from(self.margin_ua(current_ua));
+        state.release_at_ua = if self.threshold_ua == i32::MAX {
+            i32::MAX
+        } else {
+            clamp_i64(
+                i64::from(self.threshold_ua) - margin,
+                i32::MIN as i64,
+                i32::MAX as i64,
+            ) as i32
+        };
         state.remaining_ticks = 0;
         state.armed = true;
     }
@@ -246,13 +258,8 @@ impl TrackingOffTimerConfig {
         if !state.armed {
             return OffStatus::NotYet;
         }
-        let i = self.estimator.update(&mut state.estimate, false, supply_mv);
-        let with_margin = clamp_i64(
-            i as i64 + state.margin_ua as i64,
-            i32::MIN as i64,
-            i32::MAX as i64,
-        );
-        if with_margin <= self.threshold_ua as i64 {
+        let i = self.estimator.update_off(&mut state.estimate, supply_mv);
+        if i <= state.release_at_ua {
             OffStatus::Released
         } else {
             OffStatus::NotYet
