@@ -1,6 +1,6 @@
 //! The plausibility monitor (documented on [`MonitorConfig`]).
 
-use super::q::{mul_wide, q16_from_f32};
+use super::q::{ARMV6M, mul_q16_small, mul_u32_q16_floor, mul_wide, q16_from_f32};
 use crate::error::{Error, in_range, non_negative, positive};
 
 /// A fault found by the plausibility monitor.
@@ -113,6 +113,15 @@ impl SenseScale {
         // `counts − offset` fits an i32 unless the offset lies within 2¹⁶ of `i32::MIN`; then
         // the (rare, raw-configuration) difference is formed in i64 as before.
         let wide = match (counts as i32).checked_sub(self.offset_counts) {
+            // A plan's offset (0 ..= 65535) leaves |d| < 2¹⁶. On ARMv6-M that takes two 32-bit
+            // products; elsewhere |d| < 2¹⁵ (any 12- to 15-bit ADC) needs no saturation
+            // (|d·g| ≤ 2⁴⁶), which one shifted compare tells.
+            Some(d) if ARMV6M && (d as u32).wrapping_add(0xFFFF) < 0x1_FFFF => {
+                return mul_q16_small(d, self.ua_per_count_q16, 0);
+            }
+            Some(d) if !ARMV6M && d >> 15 == d >> 31 => {
+                return (mul_wide(d, self.ua_per_count_q16) >> 16) as i32;
+            }
             Some(d) => mul_wide(d, self.ua_per_count_q16),
             None => (counts as i64 - self.offset_counts as i64) * self.ua_per_count_q16 as i64,
         };
@@ -136,7 +145,7 @@ pub struct MonitorRaw {
     pub open_min_estimate_ua: i32,
     /// Measured currents at or below this count as none, µA.
     pub open_max_ua: i32,
-    /// Consecutive samples before a fault is raised.
+    /// Consecutive samples before a fault is raised (0 is taken as 1).
     pub persistence: u16,
     /// Consecutive unchanged readings before the sensor counts as stuck.
     pub stuck_samples: u16,
@@ -282,7 +291,11 @@ impl MonitorConfig {
             rel_tol_q16: raw.rel_tol_q16,
             open_min_estimate_ua: raw.open_min_estimate_ua,
             open_max_ua: raw.open_max_ua,
-            persistence: raw.persistence,
+            persistence: if raw.persistence == 0 {
+                1
+            } else {
+                raw.persistence
+            },
             stuck_samples: raw.stuck_samples,
             stuck_min_change_ua: raw.stuck_min_change_ua,
         }
@@ -399,36 +412,47 @@ impl MonitorConfig {
         }
 
         let measured = self.scale.to_ua(counts);
-        let open = estimate_ua >= self.open_min_estimate_ua && measured <= self.open_max_ua;
-        s.open_count = if open {
-            s.open_count.saturating_add(1)
+        if estimate_ua >= self.open_min_estimate_ua && measured <= self.open_max_ua {
+            s.open_count = s.open_count.saturating_add(1);
+            if s.open_count >= p {
+                return Some(Fault::OpenCoil);
+            }
         } else {
-            0
-        };
-        if s.open_count >= p {
-            return Some(Fault::OpenCoil);
+            s.open_count = 0;
         }
-        // |estimate|·rel as ±(estimate·rel): one 32×32→64 product, exact for every i32
-        // (|i32::MIN·rel| ≤ 2⁶², so the negation cannot overflow).
-        let signed = mul_wide(estimate_ua, self.rel_tol_q16);
-        let prod = if estimate_ua < 0 { -signed } else { signed };
-        // measured > est + abs + ⌊prod/2¹⁶⌋ ⇔ ⌊prod/2¹⁶⌋ < L with L = measured − est − abs
-        // ⇔ prod < L·2¹⁶ (L an integer): no shift of the product, and L is an i32 unless the
-        // raw tolerances are extreme.
-        let high = match measured
+        // measured > est + abs + ⌊|est|·rel/2¹⁶⌋ ⇔ ⌊|est|·rel/2¹⁶⌋ < L with the integer
+        // L = measured − est − abs, an i32 unless the raw tolerances are extreme.
+        let rel = self.rel_tol_q16;
+        let l = measured
             .checked_sub(estimate_ua)
-            .and_then(|x| x.checked_sub(self.abs_tol_ua))
-        {
-            Some(l) => prod < (l as i64) << 16,
-            None => measured as i64 > estimate_ua as i64 + self.abs_tol_ua as i64 + (prod >> 16),
+            .and_then(|x| x.checked_sub(self.abs_tol_ua));
+        let high = match l {
+            // A relative tolerance below 100 % (every plan's in practice): the band term is
+            // below 2³¹ and one unsigned product gives it exactly.
+            Some(l) if (rel as u32) < (1 << 16) => {
+                (mul_u32_q16_floor(estimate_ua.unsigned_abs(), rel as u32) as i32) < l
+            }
+            _ => {
+                // |estimate|·rel as ±(estimate·rel): one 32×32→64 product, exact for every
+                // i32 (|i32::MIN·rel| ≤ 2⁶², so the negation cannot overflow); then
+                // ⌊prod/2¹⁶⌋ < L ⇔ prod < L·2¹⁶.
+                let signed = mul_wide(estimate_ua, rel);
+                let prod = if estimate_ua < 0 { -signed } else { signed };
+                match l {
+                    Some(l) => prod < (l as i64) << 16,
+                    None => {
+                        measured as i64 > estimate_ua as i64 + self.abs_tol_ua as i64 + (prod >> 16)
+                    }
+                }
+            }
         };
-        s.low_r_count = if high {
-            s.low_r_count.saturating_add(1)
+        if high {
+            s.low_r_count = s.low_r_count.saturating_add(1);
+            if s.low_r_count >= p {
+                return Some(Fault::LowResistance);
+            }
         } else {
-            0
-        };
-        if s.low_r_count >= p {
-            return Some(Fault::LowResistance);
+            s.low_r_count = 0;
         }
         None
     }
@@ -517,7 +541,8 @@ mod tests {
         if let Some(f) = Fault::from_code(s.fault) {
             return Some(f);
         }
-        let p = m.persistence;
+        // A raw persistence of 0 is taken as 1 (MonitorRaw).
+        let p = m.persistence.max(1);
         let raised = 'd: {
             if counts < m.scale.min_valid_counts || counts > m.scale.max_valid_counts {
                 s.range_count = s.range_count.saturating_add(1);

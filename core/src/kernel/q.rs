@@ -76,27 +76,50 @@ pub const fn mul_wide(a: i32, b: i32) -> i64 {
 /// such sequence is exact and tested on the host against the general one.
 pub(crate) const ARMV6M: bool = cfg!(all(target_arch = "arm", not(target_has_atomic = "ptr")));
 
-/// `(u·g + 2¹⁵) >> 16` for `|u| < 2¹⁶`, exact, from two 32-bit products (the ARMv6-M form of
-/// a rounded Q16 product of a small integer).
+/// `(u·g + round) >> 16` for `|u| < 2¹⁶` and `round < 2¹⁶`, exact, from two 32-bit products
+/// (the ARMv6-M form of a Q16 product of a small integer; `round` is `2¹⁵` to round to
+/// nearest, 0 to floor).
 ///
 /// With `g = g_hi·2¹⁶ + g_lo` (`g_hi` signed, `g_lo` unsigned 16 bits) and `u ≥ 0`:
-/// `u·g + 2¹⁵ = u·g_hi·2¹⁶ + (u·g_lo + 2¹⁵)`, and the first term has no bits below 2¹⁶, so the
-/// shift splits exactly: `u·g_hi + ((u·g_lo + 2¹⁵) >> 16)`. Here `|u·g_hi| < 2³¹` and
-/// `u·g_lo + 2¹⁵ < 2³²` (unsigned), and the sum lies within `±(2³¹ − 2¹⁵)`. For `u = −a < 0`,
-/// `⌊(−a·g + 2¹⁵)/2¹⁶⌋ = −⌊(a·g + 2¹⁵ − 1)/2¹⁶⌋`, the same split with `2¹⁵ − 1`.
+/// `u·g + round = u·g_hi·2¹⁶ + (u·g_lo + round)`, and the first term has no bits below 2¹⁶, so
+/// the shift splits exactly: `u·g_hi + ((u·g_lo + round) >> 16)`. Here `|u·g_hi| < 2³¹` and
+/// `u·g_lo + round < 2³²` (unsigned), and the sum lies strictly within the `i32` range. For
+/// `u = −a < 0`, `⌊(−a·g + round)/2¹⁶⌋ = −⌊(a·g + 2¹⁶ − 1 − round)/2¹⁶⌋`, the same split.
 ///
-/// The caller guarantees `|u| < 2¹⁶` (a `debug_assert!`); the result is then the exact `i32`.
+/// The caller guarantees `|u| < 2¹⁶` and `round < 2¹⁶` (`debug_assert!`); the result is then
+/// the exact `i32`.
 #[inline(always)]
 #[must_use]
-pub const fn mul_q16_round_small(u: i32, g: i32) -> i32 {
-    debug_assert!(u > -(1 << 16) && u < (1 << 16));
+pub const fn mul_q16_small(u: i32, g: i32, round: u32) -> i32 {
+    debug_assert!(u > -(1 << 16) && u < (1 << 16) && round < (1 << 16));
     let g_hi = g >> 16;
     let g_lo = (g as u32) & 0xFFFF;
     if u >= 0 {
-        u * g_hi + ((u as u32 * g_lo + (1 << 15)) >> 16) as i32
+        u * g_hi + ((u as u32 * g_lo + round) >> 16) as i32
     } else {
         let a = -u;
-        -(a * g_hi + ((a as u32 * g_lo + ((1 << 15) - 1)) >> 16) as i32)
+        -(a * g_hi + ((a as u32 * g_lo + (0xFFFF - round)) >> 16) as i32)
+    }
+}
+
+/// `(u·g + 2¹⁵) >> 16` for `|u| < 2¹⁶`: [`mul_q16_small`] rounding to nearest (half up).
+#[inline(always)]
+#[must_use]
+pub const fn mul_q16_round_small(u: i32, g: i32) -> i32 {
+    mul_q16_small(u, g, 1 << 15)
+}
+
+/// `⌊a·b / 2¹⁶⌋` of `a ≤ 2³¹` and `b < 2¹⁶`, exact (below 2³¹). On ARMv6-M from two 32-bit
+/// products, `(a >> 16)·b + ((a & 0xFFFF)·b >> 16)` (the first term has no bits below 2¹⁶);
+/// elsewhere one 32×32→64 unsigned multiply.
+#[inline(always)]
+#[must_use]
+pub const fn mul_u32_q16_floor(a: u32, b: u32) -> u32 {
+    debug_assert!(a <= 1 << 31 && b < 1 << 16);
+    if ARMV6M {
+        (a >> 16) * b + (((a & 0xFFFF) * b) >> 16)
+    } else {
+        ((a as u64 * b as u64) >> 16) as u32
     }
 }
 
@@ -127,10 +150,10 @@ mod tests {
         assert_eq!(clamp_i64(5, 0, 3), 3);
     }
 
-    /// The two-product rounding of small integers against the `i64` form (computed: exact
-    /// integer identity, over every `u` of the range against edge and pseudo-random `g`).
+    /// The two-product forms against the `i64` ones (computed: exact integer identity, over
+    /// every `u` of the range against edge and pseudo-random `g`, with floor and rounding).
     #[test]
-    fn small_rounded_product_is_exact() {
+    fn small_products_are_exact() {
         let mut x = 0x9E37_79B9_7F4A_7C15u64;
         let mut gs = std::vec![
             0,
@@ -153,6 +176,25 @@ mod tests {
             for u in -0xFFFF..=0xFFFF {
                 let want = (u as i64 * g as i64 + (1 << 15)) >> 16;
                 assert_eq!(i64::from(mul_q16_round_small(u, g)), want, "{u} * {g}");
+                let want = (u as i64 * g as i64) >> 16;
+                assert_eq!(i64::from(mul_q16_small(u, g, 0)), want, "{u} * {g}");
+            }
+            // Unsigned floor: b < 2¹⁶ against a over edges and the pseudo-random values.
+            let b = (g as u32) & 0xFFFF;
+            for a in [
+                0u32,
+                1,
+                0xFFFF,
+                0x1_0000,
+                1 << 31,
+                (1 << 31) - 1,
+                g as u32 >> 1,
+            ] {
+                let want = (u64::from(a) * u64::from(b)) >> 16;
+                assert_eq!(u64::from(mul_u32_q16_floor(a, b)), want, "{a} * {b}");
+                // The ARMv6-M form, written out (the function picks it only on that target).
+                let halves = (a >> 16) * b + (((a & 0xFFFF) * b) >> 16);
+                assert_eq!(u64::from(halves), want, "{a} * {b}");
             }
         }
     }
