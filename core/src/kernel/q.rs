@@ -123,6 +123,21 @@ pub const fn mul_u32_q16_floor(a: u32, b: u32) -> u32 {
     }
 }
 
+/// `⌊d·f / 2¹⁶⌋` of any `d` and a fraction `f < 2¹⁶` (Q16, below one), exact; the result lies
+/// between 0 and `d`. On ARMv6-M from two 32-bit products, `(d >> 16)·f + ((d & 0xFFFF)·f >> 16)`
+/// (the first term has no bits below 2¹⁶, `|(d >> 16)·f| < 2³¹`); elsewhere one 32×32→64
+/// multiply.
+#[inline(always)]
+#[must_use]
+pub const fn mul_frac_q16_floor(d: i32, f_q16: u32) -> i32 {
+    debug_assert!(f_q16 < 1 << 16);
+    if ARMV6M {
+        (d >> 16) * f_q16 as i32 + ((((d as u32) & 0xFFFF) * f_q16) >> 16) as i32
+    } else {
+        ((d as i64 * f_q16 as i64) >> 16) as i32
+    }
+}
+
 /// [`mul_wide`] from 16-bit halves (the ARMv6-M form; exact on every target).
 #[inline(always)]
 const fn mul_halves(a: i32, b: i32) -> i64 {
@@ -178,6 +193,14 @@ mod tests {
                 assert_eq!(i64::from(mul_q16_round_small(u, g)), want, "{u} * {g}");
                 let want = (u as i64 * g as i64) >> 16;
                 assert_eq!(i64::from(mul_q16_small(u, g, 0)), want, "{u} * {g}");
+            }
+            // A fraction below one times any d, floored.
+            let f = (g as u32) & 0xFFFF;
+            for d in [0, 1, -1, 0xFFFF, -0x1_0000, i32::MIN, i32::MAX, g, g >> 7] {
+                let want = (i64::from(d) * i64::from(f)) >> 16;
+                assert_eq!(i64::from(mul_frac_q16_floor(d, f)), want, "{d} * {f}");
+                let halves = (d >> 16) * f as i32 + ((((d as u32) & 0xFFFF) * f) >> 16) as i32;
+                assert_eq!(i64::from(halves), want, "{d} * {f}");
             }
             // Unsigned floor: b < 2¹⁶ against a over edges and the pseudo-random values.
             let b = (g as u32) & 0xFFFF;

@@ -1,6 +1,6 @@
 //! The duty limiter's configuration, raw constants, state and per-tick update.
 
-use crate::kernel::q::{clamp_i64, mul_wide};
+use crate::kernel::q::mul_frac_q16_floor;
 
 /// Number of nodes of each duty-limit table.
 pub const DUTY_TABLE_LEN: usize = 32;
@@ -270,28 +270,29 @@ impl DutyLimiterConfig {
         self.r.ov_resume_counts
     }
 
-    pub(super) fn interp(&self, t: &[i32; DUTY_TABLE_LEN], off: u32) -> i64 {
-        let shift = if self.r.shift > 16 { 16 } else { self.r.shift } as u32;
+    /// The limit table `t` interpolated at `off = vin − vin_lo`, duty counts Q8; 0 when `off`
+    /// lies beyond the table (a raw configuration's node spacing too small for its window).
+    /// The result lies between the two nodes, so it fits an `i32`.
+    pub(super) fn interp(&self, t: &[i32; DUTY_TABLE_LEN], off: u32) -> i32 {
+        let shift = self.shift_bits();
         let idx = (off >> shift) as usize;
-        let frac = i64::from(off & ((1u32 << shift) - 1));
-        let a = match t.get(idx) {
-            Some(a) => i64::from(*a),
-            None => return 0,
-        };
-        let b = match t.get(idx + 1) {
-            Some(b) => i64::from(*b),
-            None => a,
-        };
-        // frac < 2¹⁶: |(b − a)·frac| < 2⁴⁹. The difference fits an i32 for any table a plan
-        // builds (duties in Q8), so the product is one `mul_wide` (no 64-bit library multiply
-        // on Cortex-M0); raw tables at the extremes take the i64 product.
-        let d = b - a;
-        let prod = if d >= i32::MIN as i64 && d <= i32::MAX as i64 {
-            mul_wide(d as i32, frac as i32)
+        if idx < DUTY_TABLE_LEN - 1 {
+            interp_at(t[idx], t[idx + 1], frac_q16(off, shift))
+        } else if idx == DUTY_TABLE_LEN - 1 {
+            t[idx]
         } else {
-            d * frac
-        };
-        a + (prod >> shift)
+            0
+        }
+    }
+
+    /// `shift`, at most 16 whatever the field holds.
+    #[inline(always)]
+    fn shift_bits(&self) -> u32 {
+        if self.r.shift > 16 {
+            16
+        } else {
+            self.r.shift as u32
+        }
     }
 
     /// The duty limit at input reading `vin_counts`, duty counts Q8 (0 outside the window).
@@ -300,24 +301,50 @@ impl DutyLimiterConfig {
         if vin_counts < self.r.vin_lo_counts || vin_counts > self.r.vin_hi_counts {
             return 0;
         }
-        let off = u32::from(vin_counts - self.r.vin_lo_counts);
-        // Written out rather than a loop over the three tables: the loop over an array of
-        // references was left as an iterator call on the thumb targets.
-        let mut lim = i64::from(self.r.min_off_q8);
-        let sat = self.interp(&self.r.saturation_q8, off);
-        if sat < lim {
-            lim = sat;
+        self.limit_at_q8(u32::from(vin_counts - self.r.vin_lo_counts))
+    }
+
+    /// [`DutyLimiterConfig::limit_q8`] at `off = vin − vin_lo` of a reading in the window:
+    /// the lowest of the three tables and the minimum-off-time limit, in `0 ..= full scale`.
+    #[inline(always)]
+    fn limit_at_q8(&self, off: u32) -> i32 {
+        let r = &self.r;
+        let shift = self.shift_bits();
+        let idx = (off >> shift) as usize;
+        // Written out rather than a loop over the three tables (a loop over an array of
+        // references was left as an iterator call on the thumb targets); one index check
+        // for the three tables.
+        let mut lim = r.min_off_q8;
+        if idx < DUTY_TABLE_LEN - 1 {
+            let f = frac_q16(off, shift);
+            let sat = interp_at(r.saturation_q8[idx], r.saturation_q8[idx + 1], f);
+            if sat < lim {
+                lim = sat;
+            }
+            let peak = interp_at(r.gain_peak_q8[idx], r.gain_peak_q8[idx + 1], f);
+            if peak < lim {
+                lim = peak;
+            }
+            let light = interp_at(r.light_load_q8[idx], r.light_load_q8[idx + 1], f);
+            if light < lim {
+                lim = light;
+            }
+        } else {
+            for t in [&r.saturation_q8, &r.gain_peak_q8, &r.light_load_q8] {
+                let v = self.interp(t, off);
+                if v < lim {
+                    lim = v;
+                }
+            }
         }
-        let peak = self.interp(&self.r.gain_peak_q8, off);
-        if peak < lim {
-            lim = peak;
+        let fs_q8 = i32::from(r.full_scale) << 8;
+        if lim < 0 {
+            0
+        } else if lim > fs_q8 {
+            fs_q8
+        } else {
+            lim
         }
-        let light = self.interp(&self.r.light_load_q8, off);
-        if light < lim {
-            lim = light;
-        }
-        let fs_q8 = i64::from(self.r.full_scale) << 8;
-        clamp_i64(lim, 0, fs_q8) as i32
     }
 
     /// The duty limit at input reading `vin_counts`, whole counts (rounded down).
@@ -367,19 +394,46 @@ impl DutyLimiterConfig {
             s.last_q8 = 0;
             return 0;
         }
-        let fs_q8 = i64::from(r.full_scale) << 8;
-        let req_q8 = clamp_i64(i64::from(request), 0, i64::from(r.full_scale)) << 8;
-        let ramp_q8 = i64::from(s.last_q8).saturating_add(i64::from(r.slew_q8));
-        let mut out = i64::from(self.limit_q8(vin_counts));
+        // Everything in i32: the limit and the request lie in 0 ..= full scale (≤ 2²⁴ in Q8).
+        let fs = i32::from(r.full_scale);
+        let req_q8 = if request < 0 {
+            0
+        } else if request > fs {
+            fs << 8
+        } else {
+            request << 8
+        };
+        let ramp_q8 = s.last_q8.saturating_add(r.slew_q8);
+        let mut out = self.limit_at_q8(u32::from(vin_counts - r.vin_lo_counts));
         if ramp_q8 < out {
             out = ramp_q8;
         }
         if req_q8 < out {
             out = req_q8;
         }
-        let out = clamp_i64(out, 0, fs_q8);
-        s.last_q8 = out as i32;
+        // A negative ramp (raw slew or state) gives 0; the upper end is the limit's.
+        let out = if out < 0 { 0 } else { out };
+        s.last_q8 = out;
         let whole = (out >> 8) as u16;
         if whole < r.min_on_counts { 0 } else { whole }
+    }
+}
+
+/// The interpolation fraction of `off` between two nodes `2^shift` apart, Q16:
+/// `(off mod 2^shift)·2^(16 − shift)` (exact for `off < 2¹⁶`, `shift ≤ 16`).
+#[inline(always)]
+fn frac_q16(off: u32, shift: u32) -> u32 {
+    (off << (16 - shift)) & 0xFFFF
+}
+
+/// `a + ⌊(b − a)·f/2¹⁶⌋`: the chord between nodes `a` and `b` at the fraction `f < 2¹⁶`, in
+/// `min(a, b) ..= max(a, b)`. `⌊(b − a)·(o mod 2^s)/2^s⌋` equals `⌊(b − a)·f/2¹⁶⌋` with
+/// `f = (o mod 2^s)·2^(16 − s)`. A node difference beyond the `i32` range (raw tables only)
+/// takes the `i64` product.
+#[inline(always)]
+fn interp_at(a: i32, b: i32, f_q16: u32) -> i32 {
+    match b.checked_sub(a) {
+        Some(d) => a + mul_frac_q16_floor(d, f_q16),
+        None => (i64::from(a) + ((i64::from(b) - i64::from(a)) * i64::from(f_q16) >> 16)) as i32,
     }
 }

@@ -265,7 +265,7 @@ proptest! {
                 i64::from(x) + (((y - i64::from(x)) * frac) >> sh)
             }
         };
-        prop_assert_eq!(cfg.interp(t, off), want);
+        prop_assert_eq!(i64::from(cfg.interp(t, off)), want);
     }
 }
 
@@ -325,6 +325,106 @@ proptest! {
         for (req, vin, vout) in seq {
             let out = c.update(&mut s, req, vin, vout);
             prop_assert!(out <= fs);
+        }
+    }
+}
+
+/// The limiter as first written, every sum and product in i64 (the reference for the 32-bit
+/// arithmetic of [`DutyLimiterConfig::update`]); returns the duty and the new
+/// `(last_q8, overvoltage)`.
+fn update_i64(
+    c: &DutyLimiterRaw,
+    last_q8: i32,
+    tripped: bool,
+    request: i32,
+    vin: u16,
+    vout: u16,
+) -> (u16, i32, bool) {
+    if vin < c.vin_lo_counts
+        || vin > c.vin_hi_counts
+        || vout < c.vout_lo_counts
+        || vout > c.vout_hi_counts
+    {
+        return (0, 0, tripped);
+    }
+    let mut tripped = tripped;
+    if tripped {
+        if vout > c.ov_resume_counts {
+            return (0, 0, true);
+        }
+        tripped = false;
+    }
+    if vout >= c.ov_trip_counts {
+        return (0, 0, true);
+    }
+    let shift = u32::from(c.shift.min(16));
+    let off = u32::from(vin - c.vin_lo_counts);
+    let idx = (off >> shift) as usize;
+    let frac = i64::from(off & ((1u32 << shift) - 1));
+    let interp = |t: &[i32; DUTY_TABLE_LEN]| -> i64 {
+        match t.get(idx) {
+            None => 0,
+            Some(&a) => {
+                let b = i64::from(*t.get(idx + 1).unwrap_or(&a));
+                i64::from(a) + (((b - i64::from(a)) * frac) >> shift)
+            }
+        }
+    };
+    let fs_q8 = i64::from(c.full_scale) << 8;
+    let lim = i64::from(c.min_off_q8)
+        .min(interp(&c.saturation_q8))
+        .min(interp(&c.gain_peak_q8))
+        .min(interp(&c.light_load_q8))
+        .clamp(0, fs_q8);
+    let req_q8 = i64::from(request).clamp(0, i64::from(c.full_scale)) << 8;
+    let ramp_q8 = i64::from(last_q8) + i64::from(c.slew_q8);
+    let out = lim.min(ramp_q8).min(req_q8).clamp(0, fs_q8);
+    let whole = (out >> 8) as u16;
+    (
+        if whole < c.min_on_counts { 0 } else { whole },
+        out as i32,
+        tripped,
+    )
+}
+
+/// A table of any values or of plan-like duties.
+fn any_table() -> impl Strategy<Value = [i32; DUTY_TABLE_LEN]> {
+    prop_oneof![
+        any::<[i32; DUTY_TABLE_LEN]>(),
+        proptest::array::uniform32(0i32..=256_000)
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(1000))]
+    /// The same duties and states as the all-i64 formulation on any raw coefficients and
+    /// readings, mostly inside the windows (computed: exact integer identity).
+    #[test]
+    fn same_as_the_64_bit_formulation(
+        lo in 0u16..4000, span in 0u16..2000, shift in 0u8..20,
+        sat in any_table(), peak in any_table(), light in any_table(),
+        min_off in prop_oneof![any::<i32>(), 0i32..=256_000], min_on in 0u16..100,
+        fs in prop_oneof![any::<u16>(), 1u16..=1000], slew in prop_oneof![any::<i32>(), 1i32..5000],
+        ov in 0u16..4096, resume in 0u16..4096,
+        seq in proptest::collection::vec(
+            (prop_oneof![any::<i32>(), -10i32..1100], 0u16..6500, 0u16..4096), 1..48),
+    ) {
+        let raw = DutyLimiterRaw {
+            vin_lo_counts: lo, vin_hi_counts: lo.saturating_add(span), shift,
+            saturation_q8: sat, gain_peak_q8: peak, light_load_q8: light,
+            min_off_q8: min_off, min_on_counts: min_on, full_scale: fs, slew_q8: slew,
+            vout_lo_counts: 10, vout_hi_counts: 4085,
+            ov_trip_counts: ov.max(resume), ov_resume_counts: ov.min(resume),
+        };
+        let c = DutyLimiterConfig::from_raw(raw);
+        let mut s = DutyLimiterState::new();
+        let (mut last, mut tripped) = (0, false);
+        for (req, vin, vout) in seq {
+            let out = c.update(&mut s, req, vin, vout);
+            let (want, l, t) = update_i64(&raw, last, tripped, req, vin, vout);
+            (last, tripped) = (l, t);
+            prop_assert_eq!(out, want);
+            prop_assert_eq!((s.last_q8(), s.overvoltage()), (last, tripped));
         }
     }
 }
