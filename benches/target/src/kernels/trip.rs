@@ -59,7 +59,8 @@ pub struct NaiveState {
     tripped: bool,
 }
 
-const NAIVE_STATE: NaiveState = NaiveState {
+/// The straightforward detector at rest.
+pub const NAIVE_STATE: NaiveState = NaiveState {
     inverse: 0.0,
     theta: 0.0,
     history: 0,
