@@ -320,9 +320,11 @@ pub fn generate_block() -> String {
         "/// Configuration of the cost run (the first demo setting, blocks of one sample).\npub static BENCH_CONFIG: TripConfig = {};\n",
         expr(&cfg.raw())
     );
-    src.push_str("/// Inputs of the cost run.\npub static BENCH_INPUTS: &[(u16, bool)] = &[");
+    src.push_str(
+        "/// Inputs of the cost run, `(switch on, reading)`.\npub static BENCH_INPUTS: &[(bool, u16)] = &[",
+    );
     for (r, on) in &inputs {
-        let _ = write!(src, "({r}, {on}), ");
+        let _ = write!(src, "({on}, {r}), ");
     }
     src.push_str("];\n");
     src
