@@ -287,7 +287,7 @@ pub fn generate_block() -> String {
             TripConfig::from_raw(cfg.raw()) == cfg,
             "trip constant differs from its plan"
         );
-        let inputs = demo_inputs(&mut rng, lead, 150);
+        let inputs = demo_inputs(&mut rng, lead, 60);
         let mut s = TripState::new();
         let _ = write!(src, "    Case {{ config: {}, steps: &[", expr(&cfg.raw()));
         for &(r, on) in &inputs {
