@@ -109,13 +109,13 @@ pub const fn mul_q16_round_small(u: i32, g: i32) -> i32 {
     mul_q16_small(u, g, 1 << 15)
 }
 
-/// `⌊a·b / 2¹⁶⌋` of `a ≤ 2³¹` and `b < 2¹⁶`, exact (below 2³¹). On ARMv6-M from two 32-bit
+/// `⌊a·b / 2¹⁶⌋` of any `a` and `b < 2¹⁶`, exact (it fits a `u32`). On ARMv6-M from two 32-bit
 /// products, `(a >> 16)·b + ((a & 0xFFFF)·b >> 16)` (the first term has no bits below 2¹⁶);
 /// elsewhere one 32×32→64 unsigned multiply.
 #[inline(always)]
 #[must_use]
 pub const fn mul_u32_q16_floor(a: u32, b: u32) -> u32 {
-    debug_assert!(a <= 1 << 31 && b < 1 << 16);
+    debug_assert!(b < 1 << 16);
     if ARMV6M {
         (a >> 16) * b + (((a & 0xFFFF) * b) >> 16)
     } else {
@@ -123,18 +123,58 @@ pub const fn mul_u32_q16_floor(a: u32, b: u32) -> u32 {
     }
 }
 
-/// `⌊d·f / 2¹⁶⌋` of any `d` and a fraction `f < 2¹⁶` (Q16, below one), exact; the result lies
-/// between 0 and `d`. On ARMv6-M from two 32-bit products, `(d >> 16)·f + ((d & 0xFFFF)·f >> 16)`
-/// (the first term has no bits below 2¹⁶, `|(d >> 16)·f| < 2³¹`); elsewhere one 32×32→64
-/// multiply.
+/// `(d·f + round) >> 16` of any `d`, a fraction `f < 2¹⁶` (Q16, below one) and `round < 2¹⁶`,
+/// exact; the result lies between 0 and `d`. On ARMv6-M from two 32-bit products,
+/// `(d >> 16)·f + (((d & 0xFFFF)·f + round) >> 16)` (the first term has no bits below 2¹⁶,
+/// `|(d >> 16)·f| < 2³¹`); elsewhere one 32×32→64 multiply.
+#[inline(always)]
+#[must_use]
+pub const fn mul_frac_q16(d: i32, f_q16: u32, round: u32) -> i32 {
+    debug_assert!(f_q16 < 1 << 16 && round < 1 << 16);
+    if ARMV6M {
+        (d >> 16) * f_q16 as i32 + (((((d as u32) & 0xFFFF) * f_q16) + round) >> 16) as i32
+    } else {
+        ((d as i64 * f_q16 as i64 + round as i64) >> 16) as i32
+    }
+}
+
+/// `⌊d·f / 2¹⁶⌋`: [`mul_frac_q16`] rounding down.
 #[inline(always)]
 #[must_use]
 pub const fn mul_frac_q16_floor(d: i32, f_q16: u32) -> i32 {
-    debug_assert!(f_q16 < 1 << 16);
+    mul_frac_q16(d, f_q16, 0)
+}
+
+/// The exact product of two `u32` as a `u64`: [`mul_wide`] for unsigned operands (on ARMv6-M
+/// four 32-bit multiplies, inline, instead of the 64-bit library multiply).
+#[inline(always)]
+#[must_use]
+pub const fn mul_wide_u32(a: u32, b: u32) -> u64 {
     if ARMV6M {
-        (d >> 16) * f_q16 as i32 + ((((d as u32) & 0xFFFF) * f_q16) >> 16) as i32
+        let (a1, a0) = (a >> 16, a & 0xFFFF);
+        let (b1, b0) = (b >> 16, b & 0xFFFF);
+        let mid = (a1 * b0) as u64 + (a0 * b1) as u64;
+        (((a1 * b1) as u64) << 32) + (mid << 16) + (a0 * b0) as u64
     } else {
-        ((d as i64 * f_q16 as i64) >> 16) as i32
+        a as u64 * b as u64
+    }
+}
+
+/// `p >> shift` saturated to the `u32` range, for `shift < 64`, from 32-bit shifts (a variable
+/// 64-bit shift is a library call on ARMv6-M).
+#[inline(always)]
+#[must_use]
+pub const fn shr_u64_sat(p: u64, shift: u32) -> u32 {
+    debug_assert!(shift < 64);
+    let (hi, lo) = ((p >> 32) as u32, p as u32);
+    if shift >= 32 {
+        hi >> (shift - 32)
+    } else if shift == 0 {
+        if hi != 0 { u32::MAX } else { lo }
+    } else if hi >> shift != 0 {
+        u32::MAX
+    } else {
+        (lo >> shift) | (hi << (32 - shift))
     }
 }
 
@@ -194,13 +234,37 @@ mod tests {
                 let want = (u as i64 * g as i64) >> 16;
                 assert_eq!(i64::from(mul_q16_small(u, g, 0)), want, "{u} * {g}");
             }
-            // A fraction below one times any d, floored.
+            // A fraction below one times any d, floored and rounded.
             let f = (g as u32) & 0xFFFF;
             for d in [0, 1, -1, 0xFFFF, -0x1_0000, i32::MIN, i32::MAX, g, g >> 7] {
-                let want = (i64::from(d) * i64::from(f)) >> 16;
-                assert_eq!(i64::from(mul_frac_q16_floor(d, f)), want, "{d} * {f}");
-                let halves = (d >> 16) * f as i32 + ((((d as u32) & 0xFFFF) * f) >> 16) as i32;
-                assert_eq!(i64::from(halves), want, "{d} * {f}");
+                for round in [0u32, 1 << 15, 0xFFFF] {
+                    let want = (i64::from(d) * i64::from(f) + i64::from(round)) >> 16;
+                    assert_eq!(i64::from(mul_frac_q16(d, f, round)), want, "{d} * {f}");
+                    let halves =
+                        (d >> 16) * f as i32 + (((((d as u32) & 0xFFFF) * f) + round) >> 16) as i32;
+                    assert_eq!(i64::from(halves), want, "{d} * {f}");
+                }
+            }
+            // Unsigned wide products and saturating shifts.
+            for a in [
+                0u32,
+                1,
+                0xFFFF,
+                u32::MAX,
+                g as u32,
+                (g as u32).rotate_left(9),
+            ] {
+                let b = (g as u32).rotate_left(17);
+                let want = u64::from(a) * u64::from(b);
+                assert_eq!(mul_wide_u32(a, b), want);
+                let (a1, a0, b1, b0) = (a >> 16, a & 0xFFFF, b >> 16, b & 0xFFFF);
+                let mid = u64::from(a1 * b0) + u64::from(a0 * b1);
+                let halves = (u64::from(a1 * b1) << 32) + (mid << 16) + u64::from(a0 * b0);
+                assert_eq!(halves, want);
+                for sh in 0..64 {
+                    let sat = (want >> sh).min(u64::from(u32::MAX)) as u32;
+                    assert_eq!(shr_u64_sat(want, sh), sat, "{want} >> {sh}");
+                }
             }
             // Unsigned floor: b < 2¹⁶ against a over edges and the pseudo-random values.
             let b = (g as u32) & 0xFFFF;

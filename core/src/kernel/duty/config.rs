@@ -434,6 +434,6 @@ fn frac_q16(off: u32, shift: u32) -> u32 {
 fn interp_at(a: i32, b: i32, f_q16: u32) -> i32 {
     match b.checked_sub(a) {
         Some(d) => a + mul_frac_q16_floor(d, f_q16),
-        None => (i64::from(a) + ((i64::from(b) - i64::from(a)) * i64::from(f_q16) >> 16)) as i32,
+        None => (i64::from(a) + (((i64::from(b) - i64::from(a)) * i64::from(f_q16)) >> 16)) as i32,
     }
 }

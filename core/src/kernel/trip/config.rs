@@ -225,7 +225,10 @@ pub struct TripRaw {
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+// Through the raw values, so a deserialized configuration is made by `from_raw` as any other
+// (its derived fields and clamps included).
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(from = "TripRaw", into = "TripRaw"))]
 // Laid out as written: the fields of the fast path first, the two words adjacent (one
 // load of both on Cortex-M3/M4F) and at small offsets (short loads on Cortex-M0).
 #[repr(C)]
@@ -470,5 +473,17 @@ impl TripConfig {
             return None;
         }
         self.inverse.increment(reading)
+    }
+}
+
+impl From<TripRaw> for TripConfig {
+    fn from(raw: TripRaw) -> Self {
+        Self::from_raw(raw)
+    }
+}
+
+impl From<TripConfig> for TripRaw {
+    fn from(cfg: TripConfig) -> Self {
+        cfg.raw()
     }
 }

@@ -2,6 +2,7 @@
 //! thermal image, stuck sensor, retry then latch, and a log of the last trips. The algorithm,
 //! its fixed-point formats, ranges, resolution and cost are documented on [`TripConfig`].
 
+mod block;
 mod config;
 mod log;
 mod plan;

@@ -16,8 +16,8 @@ pub const BLOCK_LOG2_MAX: u8 = 5;
 pub struct TripState {
     pub(super) tick: u32,
     pub(super) history: u32,
-    /// Bits 0..=20: the sum of the block's readings; bits 21..=22: phase (running, waiting,
-    /// latched, blanking); bit 23: switch on
+    /// Bits 0..=20: the sum of the block's readings; bit 21: switch on at the previous sample;
+    /// bits 22..=23: phase (running, waiting, latched, blanking)
     /// at the previous sample; bits 24..=31: retries used. One word for the fast path.
     pub(super) sum_ctl: u32,
     /// Sum of `r² >> 5` over the block.
@@ -36,12 +36,12 @@ pub struct TripState {
 }
 
 pub(super) const SUM_MASK: u32 = (1 << 21) - 1;
-pub(super) const PHASE_MASK: u32 = 0b11 << 21;
+pub(super) const PHASE_MASK: u32 = 0b11 << 22;
 pub(super) const RUNNING: u32 = 0;
-pub(super) const WAITING: u32 = 1 << 21;
-pub(super) const LATCHED: u32 = 2 << 21;
-pub(super) const BLANKING: u32 = 3 << 21;
-pub(super) const PREV_ON: u32 = 1 << 23;
+pub(super) const WAITING: u32 = 1 << 22;
+pub(super) const LATCHED: u32 = 2 << 22;
+pub(super) const BLANKING: u32 = 3 << 22;
+pub(super) const PREV_ON: u32 = 1 << 21;
 pub(super) const RETRY_SHIFT: u32 = 24;
 
 impl Default for TripState {

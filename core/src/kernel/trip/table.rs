@@ -3,7 +3,7 @@
 #[cfg(doc)]
 use super::config::TripConfig;
 use crate::error::{Error, in_range};
-use crate::kernel::q::mul_wide;
+use crate::kernel::q::{mul_frac_q16, mul_wide_u32, shr_u64_sat};
 use crate::trip::InverseTime;
 
 /// Entries per octave of the inverse-time table.
@@ -58,17 +58,6 @@ pub(super) const fn msb_by_compares(m: u32) -> u32 {
         21
     } else {
         16 + (h >= 2) as u32 + (h >= 4) as u32 + (h >= 8) as u32 + (h >= 16) as u32
-    }
-}
-
-/// `a · b` of an `i64` known to lie within `|a| < 2⁶²/|b|`: through [`mul_wide`] when `a`
-/// fits an `i32` (the common case: four 32-bit multiplies on Cortex-M0), else in `i64`.
-#[inline(always)]
-const fn mul_i64_i32(a: i64, b: i32) -> i64 {
-    if a >= i32::MIN as i64 && a <= i32::MAX as i64 {
-        mul_wide(a as i32, b)
-    } else {
-        a * b as i64
     }
 }
 
@@ -191,16 +180,14 @@ impl InverseTable {
         scale_q16(reading, self.m_scale_q32)
     }
 
-    /// `M` in Q16 of the block whose readings sum to `sum` over `2^k` samples (saturating):
-    /// `sum · m_scale >> (16 + k)`, the same as [`InverseTable::m_q16`] of a constant reading.
-    #[inline]
+    /// `M` in Q16 of the block whose readings sum to `sum < 2²¹` over `2^k` samples
+    /// (saturating): `sum · m_scale >> (16 + k)`, the same as [`InverseTable::m_q16`] of a
+    /// constant reading. Formed as `(sum << (5 − k)) · m_scale >> 21`: one product (four
+    /// 32-bit multiplies on Cortex-M0) and fixed shifts.
+    #[inline(always)]
     pub(super) fn m_q16_of_sum(&self, sum: u32, k: u32) -> u32 {
-        let m = (u64::from(sum) * u64::from(self.m_scale_q32)) >> (16 + k);
-        if m > u64::from(u32::MAX) {
-            u32::MAX
-        } else {
-            m as u32
-        }
+        debug_assert!(sum < 1 << 21 && k <= 5);
+        shr_u64_sat(mul_wide_u32(sum << (5 - k), self.m_scale_q32), 21)
     }
 
     /// The increment `2³²·T_s/t(M)` of a reading at or above pickup, `None` below pickup.
@@ -232,15 +219,14 @@ impl InverseTable {
         let idx = octave * INVERSE_TABLE_STEPS + step;
         let a = self.rate_q32.get(idx).copied().unwrap_or(u32::MAX);
         let b = self.rate_q32.get(idx + 1).copied().unwrap_or(a);
-        let d = i64::from(b) - i64::from(a);
-        // frac_q16 < 2¹⁶, so |d·frac| < 2⁴⁸.
-        let v = i64::from(a) + ((mul_i64_i32(d, frac_q16 as i32) + (1 << 15)) >> 16);
-        Some(if v < 0 {
-            0
-        } else if v > i64::from(u32::MAX) {
-            u32::MAX
-        } else {
-            v as u32
+        // a + ⌊(b − a)·frac/2¹⁶ + ½⌋ lies between a and b: exact in wrapping u32 arithmetic.
+        // A node difference beyond the i32 range (raw tables only) takes the i64 product.
+        Some(match (b as i64 - a as i64).try_into() {
+            Ok(d) => a.wrapping_add(mul_frac_q16(d, frac_q16, 1 << 15) as u32),
+            Err(_) => {
+                let d = b as i64 - a as i64;
+                (a as i64 + ((d * frac_q16 as i64 + (1 << 15)) >> 16)) as u32
+            }
         })
     }
 }

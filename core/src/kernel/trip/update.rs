@@ -1,43 +1,34 @@
 //! The per-sample update of the trip detector: the fast path, the full path and the block
 //! update.
 
+use super::block::{inverse_back, inverse_up, mean_square, thermal_step, x2_q24};
 use super::config::TripConfig;
 use super::log::TripLog;
 use super::state::{
     BLANKING, BLOCK_LOG2_MAX, LATCHED, PHASE_MASK, PREV_ON, RETRY_SHIFT, RUNNING, SUM_MASK,
     THETA_ONE_Q24, TripState, WAITING,
 };
-use super::table::{INVERSE_ONE, Q16};
 use super::verdict::{Cause, TripEvent, Verdict};
 
 impl TripConfig {
-    /// `k`, at most [`BLOCK_LOG2_MAX`] whatever the field holds.
+    /// `k` of the block (at most [`BLOCK_LOG2_MAX`]: every configuration is made by
+    /// [`TripConfig::from_raw`], which clamps it).
     #[inline(always)]
     fn k(&self) -> u32 {
-        let k = u32::from(self.block_log2);
-        if k > BLOCK_LOG2_MAX as u32 {
-            BLOCK_LOG2_MAX as u32
-        } else {
-            k
-        }
+        debug_assert!(self.block_log2 <= BLOCK_LOG2_MAX);
+        u32::from(self.block_log2)
     }
 
-    /// The end of a block (`tick + 1` a multiple of `K`): both accumulators over the
-    /// block from its sums, which restart; the cause if one trips. Not inlined: one copy
-    /// for its three callers, called once per block.
-    #[inline(never)]
-    fn block(&self, s: &mut TripState, ctl: u32) -> Option<Cause> {
+    /// Both accumulators over the block whose readings sum to `sum`, from the block sums;
+    /// `Σ(r² >> 5)` restarts. The cause if one trips.
+    #[inline(always)]
+    fn block_update(&self, s: &mut TripState, sum: u32) -> Option<Cause> {
         let k = self.k();
         // Σ(r² >> 5) over 2^k samples, times 2^(5−k): the mean square, less the truncation,
         // whose mean over noisy readings (16 of r² >> 5's units) is added back.
-        let mean_sq = (u64::from(s.sum_sq) << (BLOCK_LOG2_MAX as u32 - k)) + 16;
-        let mean_sq = if mean_sq > u64::from(u32::MAX) {
-            u32::MAX
-        } else {
-            mean_sq as u32
-        };
+        let mean_sq = mean_square(s.sum_sq, k);
         s.sum_sq = 0;
-        let inverse = self.inverse_block(s, ctl & SUM_MASK, k);
+        let inverse = self.inverse_block(s, sum, k);
         let hot = self.thermal_block(s, mean_sq);
         if inverse {
             Some(Cause::InverseTime)
@@ -48,14 +39,24 @@ impl TripConfig {
         }
     }
 
-    /// A sample that ends a block and trips nothing else.
+    /// [`TripConfig::block_update`] for the rarer callers (a block ending while waiting,
+    /// latched or at a fault trip): one shared copy, not inlined.
+    #[inline(never)]
+    fn block(&self, s: &mut TripState, ctl: u32) -> Option<Cause> {
+        self.block_update(s, ctl & SUM_MASK)
+    }
+
+    /// A sample that ends a block and trips nothing else; the tick and the control word of
+    /// this sample are in the state already. The block update is inlined here, the once per
+    /// block path of a running channel.
     #[cold]
     #[inline(never)]
-    fn block_end(&self, s: &mut TripState, ctl: u32, tick: u32, reading_counts: u16) -> Verdict {
-        let cause = self.block(s, ctl);
+    fn block_end(&self, s: &mut TripState, reading_counts: u16) -> Verdict {
+        let ctl = s.sum_ctl;
+        let cause = self.block_update(s, ctl & SUM_MASK);
         let ctl = ctl & !SUM_MASK;
         match cause {
-            Some(c) => self.trip(s, ctl, tick, reading_counts, c),
+            Some(c) => self.trip(s, ctl, s.tick.wrapping_sub(1), reading_counts, c),
             None => {
                 s.sum_ctl = ctl;
                 Verdict::Allow
@@ -70,28 +71,16 @@ impl TripConfig {
         if self.x2_mul == 0 {
             return false;
         }
-        let x2 = (u64::from(mean_sq) * u64::from(self.x2_mul)) >> (self.x2_shift & 63);
-        let x2_q24 = if x2 > u64::from(u32::MAX) {
-            i64::from(u32::MAX)
-        } else {
-            x2 as i64
-        };
-        // |diff| < 2³² and the step < 2³¹: the product fits an i64.
-        let diff = x2_q24 - i64::from(s.theta_q24);
-        let step = i64::from(self.thermal_step_q32 & 0x7FFF_FFFF);
+        let x2 = x2_q24(mean_sq, self.x2_mul, self.x2_shift);
         // θ with its 16 fraction bits (Q40) plus the step (Q56 → Q40, floored).
-        let theta =
-            ((i64::from(s.theta_q24) << 16) | i64::from(s.theta_frac)) + ((diff * step) >> 16);
-        if theta < 0 {
-            s.theta_q24 = 0;
-            s.theta_frac = 0;
-        } else if theta >= i64::from(u32::MAX) << 16 {
-            s.theta_q24 = u32::MAX;
-            s.theta_frac = 0;
-        } else {
-            s.theta_q24 = (theta >> 16) as u32;
-            s.theta_frac = theta as u16;
-        }
+        let (theta, frac) = thermal_step(
+            s.theta_q24,
+            s.theta_frac,
+            x2,
+            self.thermal_step_q32 & 0x7FFF_FFFF,
+        );
+        s.theta_q24 = theta;
+        s.theta_frac = frac;
         s.theta_q24 >= THETA_ONE_Q24
     }
 
@@ -105,29 +94,23 @@ impl TripConfig {
         }
         let m = t.m_q16_of_sum(sum, k);
         match t.increment_m(m) {
-            Some(inc) => {
-                let total = u64::from(s.inverse_q32) + (u64::from(inc) << k);
-                if total >= INVERSE_ONE || inc == u32::MAX {
-                    s.inverse_q32 = 0;
-                    true
-                } else {
-                    s.inverse_q32 = total as u32;
+            Some(inc) => match inverse_up(s.inverse_q32, inc, k) {
+                Some(total) => {
+                    s.inverse_q32 = total;
                     false
                 }
-            }
+                None => {
+                    s.inverse_q32 = 0;
+                    true
+                }
+            },
             None if t.instant_reset => {
                 s.inverse_q32 = 0;
                 false
             }
             None => {
                 // Run back by K·T_s(1 − M²)/(TD t_r), M < 1 here (Q16 below 2¹⁶).
-                let one_minus_m2 = Q16.saturating_sub((m * m) >> 16);
-                let dec = ((u64::from(t.reset_q32) * u64::from(one_minus_m2)) >> 16) << k;
-                s.inverse_q32 = if dec >= u64::from(s.inverse_q32) {
-                    0
-                } else {
-                    s.inverse_q32 - dec as u32
-                };
+                s.inverse_q32 = inverse_back(s.inverse_q32, t.reset_q32, m, k);
                 false
             }
         }
@@ -163,18 +146,21 @@ impl TripConfig {
         let stuck_ok =
             !same || (tick.wrapping_sub(sense >> 16) & 0xFFFF).wrapping_sub(1) < self.stuck_fast;
         // The common case, one test each: running (not blanking) with the switch as at the
-        // last sample, nothing over and no over bit in the history, the stuck count short of
-        // its limit, and not the end of a block. Everything else takes the full path.
-        if (ctl >> 21) & 0b111 == u32::from(switch_on) << 2
+        // last sample, nothing over and no over bit in the history, and the stuck count short
+        // of its limit. Then only the block update may be due (once per block); everything
+        // else takes the full path, which comes to the same result in this case.
+        if (ctl >> 21) & 0b111 == u32::from(switch_on)
             && reading_counts < self.over_counts
             && s.history == 0
             && stuck_ok
-            && next & self.block_mask != 0
         {
             if !same {
                 s.sense = r | (tick << 16);
             }
-            return Verdict::Allow;
+            if next & self.block_mask != 0 {
+                return Verdict::Allow;
+            }
+            return self.block_end(s, reading_counts);
         }
         self.full(s, r | (u32::from(switch_on) << 16))
     }
@@ -238,7 +224,8 @@ impl TripConfig {
         } else if over && history.count_ones() >= self.persistence_n {
             Cause::Instantaneous
         } else if tick.wrapping_add(1) & self.block_mask == 0 {
-            return self.block_end(s, ctl, tick, reading_counts);
+            s.sum_ctl = ctl;
+            return self.block_end(s, reading_counts);
         } else {
             s.sum_ctl = ctl;
             return Verdict::Allow;
