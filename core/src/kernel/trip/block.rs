@@ -10,12 +10,13 @@ use crate::kernel::q::{mul_u32_q16_floor, mul_wide_u32, shr_u64_sat};
 #[inline(always)]
 pub(super) fn mean_square(sum_sq: u32, k: u32) -> u32 {
     debug_assert!(k <= 5);
-    // The bits the shift by 5 − k would push out of the word (none for a state made by the
-    // detector: Σ(r² >> 5) < 2^(27 + k)).
-    if sum_sq.checked_shr(27 + k).unwrap_or(0) != 0 {
+    let sh = 5 - k;
+    // Above u32::MAX >> sh the shift would push bits out of the word (never for a state made
+    // by the detector: Σ(r² >> 5) < 2^(27 + k)).
+    if sum_sq > u32::MAX >> sh {
         u32::MAX
     } else {
-        (sum_sq << (5 - k)).saturating_add(16)
+        (sum_sq << sh).saturating_add(16)
     }
 }
 

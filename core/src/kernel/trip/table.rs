@@ -220,13 +220,14 @@ impl InverseTable {
         let a = self.rate_q32.get(idx).copied().unwrap_or(u32::MAX);
         let b = self.rate_q32.get(idx + 1).copied().unwrap_or(a);
         // a + ⌊(b − a)·frac/2¹⁶ + ½⌋ lies between a and b: exact in wrapping u32 arithmetic.
-        // A node difference beyond the i32 range (raw tables only) takes the i64 product.
-        Some(match (b as i64 - a as i64).try_into() {
-            Ok(d) => a.wrapping_add(mul_frac_q16(d, frac_q16, 1 << 15) as u32),
-            Err(_) => {
-                let d = b as i64 - a as i64;
-                (a as i64 + ((d * frac_q16 as i64 + (1 << 15)) >> 16)) as u32
-            }
+        // The wrapped difference is b − a itself when its sign agrees with b < a; otherwise
+        // (|b − a| ≥ 2³¹, raw tables only) the i64 product is taken.
+        let d = b.wrapping_sub(a) as i32;
+        Some(if (d < 0) == (b < a) {
+            a.wrapping_add(mul_frac_q16(d, frac_q16, 1 << 15) as u32)
+        } else {
+            let d = b as i64 - a as i64;
+            (a as i64 + ((d * frac_q16 as i64 + (1 << 15)) >> 16)) as u32
         })
     }
 }
