@@ -86,8 +86,13 @@ pub struct DutyLimiterRaw {
 ///
 /// # Cost and state
 ///
-/// Three interpolations (three 32×32→64 multiplies), compares, shifts. State: 8 bytes per
-/// channel (last duty in Q8, overvoltage latch).
+/// Three interpolations, compares, shifts, all in `i32` (the limits and the request lie in
+/// `0 ..= 2²⁴` in Q8): each interpolation takes the fraction between two nodes as a Q16 number
+/// and one 32×32→64 multiply (two 32-bit multiplies on Cortex-M0), exact against the `i64`
+/// formulation (unit test `same_as_the_64_bit_formulation`). One index check covers the three
+/// tables. Measured by `lenz cost`: 157.9 instructions per tick on Cortex-M0, 115.0 on
+/// Cortex-M3, 112.0 on Cortex-M4F. State: 8 bytes per channel (last duty in Q8, overvoltage
+/// latch).
 ///
 /// # Examples
 ///

@@ -66,8 +66,10 @@ pub struct TrackingOffTimerRaw {
 ///
 /// # Cost and state
 ///
-/// One estimator update (two 32×32→64 multiplies) and a compare per tick; no float, no
-/// division, no panic. State: [`OffTimerState`], 20 bytes.
+/// One estimator off-path update (two 32×32→64 multiplies) and one compare per tick against a
+/// release level set at [`start`](TrackingOffTimerConfig::start); no float, no division, no
+/// panic. Measured by `lenz cost`: 95.0 instructions per tick on Cortex-M0, 44.0 on
+/// Cortex-M3, 40.0 on Cortex-M4F. State: [`OffTimerState`], 20 bytes.
 ///
 /// # Examples
 ///

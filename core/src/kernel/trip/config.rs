@@ -165,26 +165,26 @@ pub struct TripRaw {
 ///
 /// The per-sample fast path, taken when the channel is running with the switch as at the last
 /// sample, not blanking, the reading below the instantaneous threshold with no over bit in the
-/// history, the stuck count short of its limit and the block not ending: the tick, the two block
-/// sums (one multiply), six compares and the stuck count; no call. Every other sample (switch
-/// edges, blanking, an over reading or history, a stuck reading near the limit, the end of a block,
-/// waiting or latched) takes the full path, which is the same logic written out plus the block
-/// update. The block update forms `M̄`, `x̄²` and the thermal step with 64-bit products (on
-/// Cortex-M0 the library multiply `__aeabi_lmul`, no division) and one table interpolation through
-/// [`mul_wide`](crate::kernel::q::mul_wide); Cortex-M0 has no `CLZ`, so there the table octave
-/// comes from five compares. No float, no division, no panic (table access by `.get()`).
+/// history and the stuck count short of its limit: the tick, the two block sums (one
+/// multiply), five compares and the stuck count; no call. When such a sample ends a block, the
+/// block update follows (one call, once per block). Every other sample (switch edges,
+/// blanking, an over reading or history, a stuck reading near the limit, waiting or latched)
+/// takes the full path, which is the same logic written out plus the block update where a
+/// block ends. The block update forms `M̄`, `x̄²` and the thermal step from 32×32→64 products
+/// and one table interpolation, written in 32-bit pieces: on Cortex-M0 four 32-bit multiplies
+/// each instead of the 64-bit library multiply, and 32-bit shifts instead of the 64-bit
+/// library shifts. Cortex-M0 has no `CLZ`, so there the table octave comes from five compares.
+/// No float, no division, no panic (table access by `.get()` or after one index check).
 ///
 /// Measured under emulation (`lenz cost`, the cost run of the target README: every element on,
 /// switch on, readings with noise around the inverse-time pickup and below the thermal level,
 /// `K = 32` by the rule above for its IEEE VI, TMS 0.05, τ 0.5 s, 1 kHz setting): on average
-/// 67.3 instructions per sample on Cortex-M0, 41.8 on Cortex-M3 and 42.8 on Cortex-M4F (before
-/// the blocks: 323.4, 180.0 and 177.7). The average is `(K − 1)/K` fast paths plus one full
-/// path with the block update per block. The worst single call in normal operation is that
-/// block-ending sample; it is not measured on its own, but the fast path's length in the
-/// disassembly (about 55 instructions on Cortex-M0, 35 on Cortex-M3) and the averages put it
-/// at roughly 430 instructions on Cortex-M0 (its 64-bit products are library multiplies) and
-/// 200 to 250 on Cortex-M3/M4F: the firmware's sample period must allow for it once per block.
-/// A trip, a switch edge or a stuck-sensor run near its limit also takes the full path.
+/// 55.5 instructions per sample on Cortex-M0 and 35.5 on Cortex-M3 and Cortex-M4F. The
+/// average is `(K − 1)/K` fast paths plus one block-ending sample per block, the worst single
+/// call in normal operation: measured on its own (`trip_block` in `lenz cost`, the same
+/// setting with `K = 1`) 326.9 instructions on Cortex-M0 and 168.8 on Cortex-M3/M4F. The
+/// firmware's sample period must allow for it once per block. A trip, a switch edge or a
+/// stuck-sensor run near its limit takes the full path.
 ///
 /// [`TripConfig::new`] builds the table and measures its error in f64 over every reading of
 /// the documented range (about `19·pickup` curve evaluations): run it on the host or at
