@@ -216,7 +216,9 @@ pub struct MonitorRaw {
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+// Through the raw values, so a deserialized configuration is made by `from_raw` as any other.
 #[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(from = "MonitorRaw", into = "MonitorRaw"))]
 pub struct MonitorConfig {
     scale: SenseScale,
     abs_tol_ua: i32,
@@ -226,6 +228,18 @@ pub struct MonitorConfig {
     persistence: u16,
     stuck_samples: u16,
     stuck_min_change_ua: i32,
+}
+
+impl From<MonitorRaw> for MonitorConfig {
+    fn from(raw: MonitorRaw) -> Self {
+        Self::from_raw(raw)
+    }
+}
+
+impl From<MonitorConfig> for MonitorRaw {
+    fn from(cfg: MonitorConfig) -> Self {
+        cfg.raw()
+    }
 }
 
 /// Plan-side description of the monitor, in SI units.
