@@ -49,7 +49,7 @@ pub(crate) fn bench(c: &mut Criterion) {
         b.iter(|| {
             // Sweep the input over the window so every table segment is visited.
             k = k.wrapping_add(7) & 1023;
-            black_box(cfg.tick(
+            black_box(cfg.update(
                 &mut state,
                 black_box(900),
                 black_box(2600 + k),

@@ -45,7 +45,7 @@ pub(crate) fn bench(c: &mut Criterion) {
         b.iter(|| {
             // A healthy channel: readings scatter around the estimate, no fault latches.
             n = n.wrapping_add(1) & 7;
-            black_box(mon.check(&mut ms, black_box(400_000), black_box(196 + n)))
+            black_box(mon.update(&mut ms, black_box(400_000), black_box(196 + n)))
         });
     });
     assert_eq!(ms.fault(), None, "the bench must measure the healthy path");

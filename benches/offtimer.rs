@@ -3,7 +3,7 @@
 use criterion::{Criterion, criterion_main};
 use lenz::{
     CoilParams,
-    kernel::{OffTimerState, PlannedOffTimer, TrackingOffTimer},
+    kernel::{OffTimerState, PlannedOffTimerConfig, TrackingOffTimerConfig},
     turnoff::{Clamp, SwitchOff},
 };
 use std::hint::black_box;
@@ -18,8 +18,8 @@ pub(crate) fn bench(c: &mut Criterion) {
         zener_v: 24.0,
         forward_v: 0.7,
     };
-    let tracking =
-        TrackingOffTimer::new(&coil, 20.0, 100e-6, &clamp, 0.075).expect("demo timer is valid");
+    let tracking = TrackingOffTimerConfig::new(&coil, 20.0, 100e-6, &clamp, 0.075)
+        .expect("demo timer is valid");
     let mut state = OffTimerState::new();
     let mut k = 0u32;
     c.bench_function("offtimer_tracking_tick", |b| {
@@ -28,11 +28,12 @@ pub(crate) fn bench(c: &mut Criterion) {
             if k & 31 == 0 {
                 tracking.start(&mut state, black_box(750_000));
             }
-            black_box(tracking.tick(&mut state, black_box(24_000)))
+            black_box(tracking.update(&mut state, black_box(24_000)))
         });
     });
     let plan = SwitchOff::new(0.120, 32.0, 24.0, 0.75, clamp).expect("demo plan is valid");
-    let planned = PlannedOffTimer::new(&plan, 0.075, 0.9, 100e-6).expect("demo table is valid");
+    let planned =
+        PlannedOffTimerConfig::new(&plan, 0.075, 0.9, 100e-6).expect("demo table is valid");
     let mut ps = OffTimerState::new();
     let mut n = 0u32;
     c.bench_function("offtimer_planned_tick", |b| {
@@ -41,7 +42,7 @@ pub(crate) fn bench(c: &mut Criterion) {
             if n & 31 == 0 {
                 planned.start(&mut ps, black_box(750_000));
             }
-            black_box(planned.tick(&mut ps))
+            black_box(planned.update(&mut ps))
         });
     });
     c.bench_function("offtimer_planned_start", |b| {

@@ -34,9 +34,9 @@ pub(crate) fn bench(c: &mut Criterion) {
         b.iter(|| {
             // Readings sweep 300..1323 counts (1.2 A .. 5.3 A): below and above pickup.
             k = k.wrapping_add(1) & 1023;
-            let v = cfg.sample_logged(&mut state, &mut log, black_box(300 + k), black_box(true));
+            let v = cfg.update_logged(&mut state, &mut log, black_box(300 + k), black_box(true));
             if state.is_latched() {
-                cfg.reset(&mut state);
+                state.reset();
             }
             black_box(v)
         });

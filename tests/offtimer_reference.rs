@@ -8,7 +8,9 @@
 
 use lenz::{
     CoilParams,
-    kernel::{OffStatus, OffTimerState, PLANNED_POINTS, PlannedOffTimer, TrackingOffTimer},
+    kernel::{
+        OffStatus, OffTimerState, PLANNED_TABLE_LEN, PlannedOffTimerConfig, TrackingOffTimerConfig,
+    },
     turnoff::{Clamp, SwitchOff},
 };
 use lenz_checks::turnoff64 as r64;
@@ -62,11 +64,11 @@ fn tracking_releases_on_the_closed_form_tick() {
         zener_v: 24.0,
         forward_v: 0.7,
     };
-    let t = TrackingOffTimer::new(&coil, 20.0, 100e-6, &clamp, 0.075).unwrap();
+    let t = TrackingOffTimerConfig::new(&coil, 20.0, 100e-6, &clamp, 0.075).unwrap();
     let mut s = OffTimerState::new();
     t.start(&mut s, 750_000);
     let k = (1..=1000)
-        .find(|_| t.tick(&mut s, 24_000) == OffStatus::Released)
+        .find(|_| t.update(&mut s, 24_000) == OffStatus::Released)
         .unwrap();
     assert_eq!(k, 22);
 }
@@ -86,7 +88,7 @@ proptest! {
         let tau = l as f64 / lr;
         let tick = (tau * 10f64.powf(ratio_exp as f64)) as f32;
         let thr = thr_frac * i0;
-        let Ok(timer) = TrackingOffTimer::new(&coil, 20.0, tick, &clamp, thr) else {
+        let Ok(timer) = TrackingOffTimerConfig::new(&coil, 20.0, tick, &clamp, thr) else {
             // Only a threshold too close to the margin may be refused.
             prop_assume!(false);
             unreachable!()
@@ -112,7 +114,7 @@ proptest! {
         let k_late = (t_late / tick as f64).ceil() as u64 + 1;
         let mut released_at = None;
         for k in 1..=k_late + 2 {
-            if timer.tick(&mut s, supply_mv) == OffStatus::Released {
+            if timer.update(&mut s, supply_mv) == OffStatus::Released {
                 released_at = Some(k);
                 break;
             }
@@ -135,7 +137,7 @@ proptest! {
         let tick = (tau * 10f64.powf(ratio_exp as f64)) as f32;
         let thr = thr_frac * max_a;
         let plan = SwitchOff::new(l, r, vs, max_a, clamp).unwrap();
-        let timer = PlannedOffTimer::new(&plan, thr, max_a, tick).unwrap();
+        let timer = PlannedOffTimerConfig::new(&plan, thr, max_a, tick).unwrap();
         let i0_ua = (start_frac as f64 * max_a as f64 * 1e6).floor() as i32;
         let i0_a = i0_ua as f64 * 1e-6;
         let mut s = OffTimerState::new();
@@ -143,13 +145,13 @@ proptest! {
         // Latest allowed: the decay from the next breakpoint (at most a factor
         // (max/thr)^(1/16) above i0, or the first breakpoint for a start at or below the
         // threshold), plus rounding up and the phase tick.
-        let step = (max_a as f64 / thr as f64).powf(1.0 / PLANNED_POINTS as f64);
+        let step = (max_a as f64 / thr as f64).powf(1.0 / PLANNED_TABLE_LEN as f64);
         let from = i0_a.max(thr as f64) * step + 2e-6;
         let t_late = r64::time_to(l as f64, lr, vc, from, thr as f64).max(0.0);
         let k_late = (t_late * (1.0 + 2e-5) / tick as f64).ceil() as u64 + 2;
         let mut released_at = None;
         for k in 1..=k_late + 2 {
-            if timer.tick(&mut s) == OffStatus::Released {
+            if timer.update(&mut s) == OffStatus::Released {
                 released_at = Some(k);
                 break;
             }
@@ -179,16 +181,16 @@ proptest! {
             _ => Clamp::Unclamped { capacitance_f: a * 1e-12 },
         };
         if let Ok(coil) = CoilParams::new(l, r).validate()
-            && let Ok(t) = TrackingOffTimer::new(&coil, 20.0, tick, &clamp, thr) {
+            && let Ok(t) = TrackingOffTimerConfig::new(&coil, 20.0, tick, &clamp, thr) {
                 let mut s = OffTimerState::new();
                 t.start(&mut s, i32::MAX);
-                let _ = t.tick(&mut s, i32::MIN);
+                let _ = t.update(&mut s, i32::MIN);
             }
         if let Ok(plan) = SwitchOff::new(l, r, 12.0, 0.1, clamp)
-            && let Ok(p) = PlannedOffTimer::new(&plan, thr, max, tick) {
+            && let Ok(p) = PlannedOffTimerConfig::new(&plan, thr, max, tick) {
                 let mut s = OffTimerState::new();
                 p.start(&mut s, i32::MIN);
-                let _ = p.tick(&mut s);
+                let _ = p.update(&mut s);
             }
     }
 }

@@ -346,7 +346,7 @@ fn c4_3_kernel_short_at_switch_on_stays_within_blanking_worst_case() {
             let t = (phase + f64::from(k)) * ts;
             let i = ode_rl(12.0, 2e-6, 0.08, 0.0, t.max(1e-15));
             let reading = (i / apc).floor().min(65_535.0) as u16;
-            if let Verdict::Trip(e) = cfg.sample(&mut st, reading, true) {
+            if let Verdict::Trip(e) = cfg.update(&mut st, reading, true) {
                 assert_eq!(e.cause, Cause::Instantaneous);
                 break t + other;
             }
@@ -488,7 +488,7 @@ fn c4_4_kernel_follows_the_integral_form() {
     let trip = loop {
         n += 1;
         let reading = if n <= 1000 { 2000 } else { 5000 };
-        if let Verdict::Trip(e) = cfg.sample(&mut s, reading, true) {
+        if let Verdict::Trip(e) = cfg.update(&mut s, reading, true) {
             break e;
         }
         assert!(n < 100_000, "no trip");
@@ -553,7 +553,7 @@ fn c4_5_exact_discrete_update_in_the_kernel() {
     let mut n = 0u32;
     let e = loop {
         n += 1;
-        if let Verdict::Trip(e) = cfg.sample(&mut s, 5000, true) {
+        if let Verdict::Trip(e) = cfg.update(&mut s, 5000, true) {
             break e;
         }
         assert!(n < 100_000);
@@ -570,7 +570,7 @@ fn c4_5_exact_discrete_update_in_the_kernel() {
     let th = Thermal::new(600.0, 1.05, 2.5).unwrap();
     let mut s = TripState::with_theta_q24(theta_q24_from_f32(th.steady_state(2.5).unwrap()));
     let n = (1..10_000u32)
-        .find(|_| matches!(cfg.sample(&mut s, 5000, true), Verdict::Trip(_)))
+        .find(|_| matches!(cfg.update(&mut s, 5000, true), Verdict::Trip(_)))
         .unwrap();
     assert!(
         n + 1 >= 2086 && n <= 2086 + k,
@@ -616,7 +616,7 @@ proptest! {
         let t = curve_f64(curve, f64::from(tms), mult);
         let mut s = TripState::new();
         let n = (1..=5_000_000u32)
-            .find(|_| matches!(cfg.sample(&mut s, reading, true), Verdict::Trip(_)));
+            .find(|_| matches!(cfg.update(&mut s, reading, true), Verdict::Trip(_)));
         let n = n.expect("trips");
         let err = f64::from(cfg.inverse_table_error()) + 2e-6; // plus f32 constants
         let got = f64::from(n) * 1e-3;
@@ -638,7 +638,7 @@ proptest! {
         let mut s = TripState::new();
         for k in 0..20_000u16 {
             let r = base + (k % 2) * noise;
-            prop_assert_eq!(cfg.sample(&mut s, r, true), Verdict::Allow);
+            prop_assert_eq!(cfg.update(&mut s, r, true), Verdict::Allow);
         }
     }
 
@@ -690,7 +690,7 @@ proptest! {
             let t = k as f64 * ts;
             let i = i_at(t);
             let reading = (i / apc).floor().min(65_535.0) as u16;
-            if let Verdict::Trip(_) = cfg.sample(&mut s, reading, true) {
+            if let Verdict::Trip(_) = cfg.update(&mut s, reading, true) {
                 break t + other;
             }
             k += 1;
@@ -716,7 +716,7 @@ proptest! {
             p.persistence_m = (r >> 8) as u8;
             if let Ok(cfg) = TripConfig::new(&p) {
                 let mut s = TripState::new();
-                let _ = cfg.sample(&mut s, r, on);
+                let _ = cfg.update(&mut s, r, on);
             }
         }
         if let Ok(th) = Thermal::new(a, b, c)

@@ -59,7 +59,7 @@ pub const SUPPLY_MAX_V: f32 = 1.0e4;
 pub const FREQUENCY_MAX_HZ: f32 = 1.0e8;
 /// Largest time argument accepted, s.
 pub const TIME_MAX_S: f32 = 1.0e6;
-/// Largest current magnitude accepted, A.
+/// Largest coil current magnitude accepted (coil and switch-off plans), A.
 pub const CURRENT_MAX_A: f32 = 1.0e5;
 
 /// Description of a coil and its drive, before validation.

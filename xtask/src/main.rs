@@ -5,7 +5,9 @@
 //! 2. `cargo clippy --workspace --all-targets -- -D warnings`
 //! 3. `cargo clippy -p lenz --features defmt,serde -- -D warnings` (the optional features)
 //! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe)
-//! 5. the target checks ([`target`]): Cortex-M builds of lenz, the on-target test image under
+//! 5. `cargo doc --workspace --no-deps` with `RUSTDOCFLAGS="-D warnings"` (broken or private
+//!    intra-doc links fail)
+//! 6. the target checks ([`target`]): Cortex-M builds of lenz, the on-target test image under
 //!    qemu, the disassembly check and the cost budget
 //!
 //! `cargo test --workspace` alone stays the quick host-only run.
@@ -29,10 +31,17 @@ fn cargo() -> String {
 
 /// Runs `cargo args…` in the workspace root; `Err` names the step that failed.
 fn step(name: &str, args: &[&str]) -> Result<(), String> {
+    step_env(name, args, &[])
+}
+
+/// [`step`] with extra environment variables.
+fn step_env(name: &str, args: &[&str], env: &[(&str, &str)]) -> Result<(), String> {
     let t = Instant::now();
-    println!("xtask: {name}: cargo {}", args.join(" "));
+    let shown: Vec<String> = env.iter().map(|(k, v)| format!("{k}=\"{v}\" ")).collect();
+    println!("xtask: {name}: {}cargo {}", shown.concat(), args.join(" "));
     let status = Command::new(cargo())
         .args(args)
+        .envs(env.iter().copied())
         .current_dir(root())
         .status()
         .map_err(|e| format!("{name}: could not start cargo: {e}"))?;
@@ -71,6 +80,11 @@ fn test() -> Result<(), String> {
         ],
     )?;
     step("host tests", &["test", "--workspace"])?;
+    step_env(
+        "docs",
+        &["doc", "--workspace", "--no-deps"],
+        &[("RUSTDOCFLAGS", "-D warnings")],
+    )?;
     target::checks()?;
     Ok(())
 }

@@ -46,24 +46,9 @@ fn params(soft_start_s: f32, tol: f32) -> DutyLimiterParams {
     }
 }
 
+/// `r` as a constant expression (the raw values' `Debug` form is a struct literal).
 fn raw_expr(r: &DutyLimiterRaw) -> String {
-    format!(
-        "DutyLimiterConfig::from_raw(DutyLimiterRaw {{ vin_lo_counts: {}, vin_hi_counts: {}, shift: {}, saturation_q8: {:?}, gain_peak_q8: {:?}, light_load_q8: {:?}, min_off_q8: {}, min_on_counts: {}, full_scale: {}, slew_q8: {}, vout_lo_counts: {}, vout_hi_counts: {}, ov_trip_counts: {}, ov_resume_counts: {} }})",
-        r.vin_lo_counts,
-        r.vin_hi_counts,
-        r.shift,
-        r.saturation_q8,
-        r.gain_peak_q8,
-        r.light_load_q8,
-        r.min_off_q8,
-        r.min_on_counts,
-        r.full_scale,
-        r.slew_q8,
-        r.vout_lo_counts,
-        r.vout_hi_counts,
-        r.ov_trip_counts,
-        r.ov_resume_counts
-    )
+    format!("DutyLimiterConfig::from_raw({r:?})")
 }
 
 /// `(request, vin counts, vout counts)` per tick: a soft start at full request, an input sweep
@@ -117,7 +102,7 @@ pub fn generate() -> String {
     let mut cases: Vec<(DutyLimiterRaw, Vec<(i32, u16, u16)>)> = Vec::new();
     for (soft, tol) in [(10e-3, 0.0), (0.0, 0.2), (2e-3, 0.1)] {
         let cfg = DutyLimiterConfig::new(&stage, &params(soft, tol)).expect("demo limiter");
-        cases.push((*cfg.raw(), demo_inputs(&mut rng, 450)));
+        cases.push((cfg.raw(), demo_inputs(&mut rng, 450)));
     }
     for _ in 0..6 {
         let mut t = [[0i32; DUTY_TABLE_LEN]; 3];
@@ -162,7 +147,7 @@ pub fn generate() -> String {
         let mut s = DutyLimiterState::new();
         let _ = write!(src, "    Case {{ config: {}, steps: &[", raw_expr(raw));
         for &(req, vin, vout) in inputs {
-            let d = cfg.tick(&mut s, req, vin, vout);
+            let d = cfg.update(&mut s, req, vin, vout);
             zero |= d == 0;
             between |= d > 0;
             overvoltage |= s.overvoltage();

@@ -22,6 +22,7 @@ const GENERATORS: &[(&str, fn() -> String)] = &[
     ("offtimer", offtimer::generate),
     ("offtimer_planned", offtimer::generate_planned),
     ("trip", trip::generate),
+    ("trip_block", trip::generate_block),
 ];
 
 /// Writes every kernel's vectors and `generated.rs` (the list of names) into `out`.

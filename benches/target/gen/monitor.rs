@@ -4,7 +4,7 @@
 
 use std::fmt::Write as _;
 
-use lenz::kernel::{MonitorConfig, MonitorParams, MonitorState, SenseScale};
+use lenz::kernel::{MonitorConfig, MonitorParams, MonitorRaw, MonitorState, SenseScale};
 
 use super::Rng;
 
@@ -22,22 +22,9 @@ const PARAMS: MonitorParams = MonitorParams {
     stuck_min_change_a: 0.1,
 };
 
+/// `c` as a constant expression (the raw values' `Debug` form is a struct literal).
 fn config_expr(c: &MonitorConfig) -> String {
-    let s = &c.scale;
-    format!(
-        "MonitorConfig {{ scale: SenseScale {{ offset_counts: {}, ua_per_count_q16: {}, min_valid_counts: {}, max_valid_counts: {} }}, abs_tol_ua: {}, rel_tol_q16: {}, open_min_estimate_ua: {}, open_max_ua: {}, persistence: {}, stuck_samples: {}, stuck_min_change_ua: {} }}",
-        s.offset_counts,
-        s.ua_per_count_q16,
-        s.min_valid_counts,
-        s.max_valid_counts,
-        c.abs_tol_ua,
-        c.rel_tol_q16,
-        c.open_min_estimate_ua,
-        c.open_max_ua,
-        c.persistence,
-        c.stuck_samples,
-        c.stuck_min_change_ua
-    )
+    format!("MonitorConfig::from_raw({:?})", c.raw())
 }
 
 fn counts_for(a: f32) -> u16 {
@@ -108,7 +95,7 @@ pub fn generate() -> String {
     for _ in 0..6 {
         let lo = rng.range(0, 65535) as u16;
         let hi = rng.range(0, 65535) as u16;
-        let config = MonitorConfig {
+        let config = MonitorConfig::from_raw(MonitorRaw {
             scale: SenseScale {
                 offset_counts: rng.any_i32(),
                 ua_per_count_q16: rng.any_i32(),
@@ -122,7 +109,7 @@ pub fn generate() -> String {
             persistence: rng.range(0, 5) as u16,
             stuck_samples: rng.range(0, 8) as u16,
             stuck_min_change_ua: rng.any_i32(),
-        };
+        });
         let inputs = (0..100)
             .map(|_| {
                 let counts = if rng.bool() {
@@ -147,7 +134,7 @@ pub fn generate() -> String {
             config_expr(config)
         );
         for &(est, counts) in inputs {
-            let want = config.check(&mut s, est, counts);
+            let want = config.update(&mut s, est, counts);
             seen.insert(fault_expr(want));
             let _ = write!(src, "({est}, {counts}, {}), ", fault_expr(want));
         }

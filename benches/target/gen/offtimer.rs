@@ -9,32 +9,16 @@ use std::fmt::Write as _;
 
 use lenz::CoilParams;
 use lenz::kernel::{
-    EstimatorConfig, OffPath, OffStatus, OffTimerState, PLANNED_POINTS, PlannedOffTimer,
-    TrackingOffTimer,
+    EstimatorRaw, OffPath, OffStatus, OffTimerState, PLANNED_TABLE_LEN, PlannedOffTimerConfig,
+    PlannedOffTimerRaw, TrackingOffTimerConfig, TrackingOffTimerRaw,
 };
 use lenz::turnoff::{Clamp, SwitchOff};
 
 use super::Rng;
-use super::estimator::config_expr;
 
-/// `margin_shift` of a timer, recovered through [`TrackingOffTimer::margin_ua`]; the caller
-/// checks the reconstruction with `==` against the original.
-fn margin_shift(t: &TrackingOffTimer) -> u32 {
-    let base = t.margin_ua(0);
-    let big = 1 << 30;
-    (0..64u32)
-        .find(|&s| t.margin_ua(big) - base == big.checked_shr(s).unwrap_or(0))
-        .expect("margin shift below 64")
-}
-
-fn tracking_expr(t: &TrackingOffTimer) -> String {
-    format!(
-        "TrackingOffTimer::from_raw({}, {}, {}, {})",
-        config_expr(t.estimator()),
-        t.threshold_ua(),
-        t.margin_ua(0),
-        margin_shift(t)
-    )
+/// `t` as a constant expression (the raw values' `Debug` form is a struct literal).
+fn tracking_expr(t: &TrackingOffTimerConfig) -> String {
+    format!("TrackingOffTimerConfig::from_raw({:?})", t.raw())
 }
 
 fn status_expr(s: OffStatus) -> String {
@@ -56,7 +40,7 @@ fn tracking_steps(rng: &mut Rng, supply_mv: i32, starts: &[i32], ticks: usize) -
 }
 
 struct TrackingCase {
-    timer: TrackingOffTimer,
+    timer: TrackingOffTimerConfig,
     steps: Steps,
 }
 
@@ -103,31 +87,31 @@ fn tracking_cases(rng: &mut Rng) -> (Vec<TrackingCase>, usize) {
     ];
     let mut cases = Vec::new();
     for (coil, clamp, thr, supply_mv) in demos {
-        let timer =
-            TrackingOffTimer::new(&coil, 20.0, 100e-6, &clamp, thr).expect("demo timer is valid");
+        let timer = TrackingOffTimerConfig::new(&coil, 20.0, 100e-6, &clamp, thr)
+            .expect("demo timer is valid");
         let starts = [750_000, 500_000, 80_000, 0, -5, i32::MAX, 1 << 30];
         let steps = tracking_steps(rng, supply_mv, &starts, 45);
         cases.push(TrackingCase { timer, steps });
     }
     let demos = cases.len();
     for _ in 0..8 {
-        let estimator = EstimatorConfig::from_raw(
-            rng.any_i32(),
-            rng.any_i32(),
-            rng.any_i32(),
-            OffPath {
+        let estimator = EstimatorRaw {
+            on_step_q31: rng.any_i32(),
+            on_conductance_q16: rng.any_i32(),
+            switch_drop_mv: rng.any_i32(),
+            off: OffPath {
                 step_q31: rng.any_i32(),
                 conductance_q16: rng.any_i32(),
                 clamp_mv: rng.any_i32(),
                 supply_coupled: rng.bool(),
             },
-        );
-        let timer = TrackingOffTimer::from_raw(
+        };
+        let timer = TrackingOffTimerConfig::from_raw(TrackingOffTimerRaw {
             estimator,
-            rng.any_i32(),
-            rng.any_i32(),
-            rng.range(0, 40) as u32,
-        );
+            threshold_ua: rng.any_i32(),
+            base_margin_ua: rng.any_i32(),
+            margin_shift: rng.range(0, 40) as u32,
+        });
         let mut steps = vec![(None, rng.any_i32())];
         for k in 0..100 {
             let start = (k % 25 == 0).then(|| rng.any_i32());
@@ -139,16 +123,13 @@ fn tracking_cases(rng: &mut Rng) -> (Vec<TrackingCase>, usize) {
 }
 
 struct PlannedCase {
-    timer: PlannedOffTimer,
+    timer: PlannedOffTimerConfig,
     steps: Vec<Option<i32>>,
 }
 
-fn planned_expr(t: &PlannedOffTimer) -> String {
-    format!(
-        "PlannedOffTimer::from_raw({:?}, {:?})",
-        t.breakpoints_ua(),
-        t.ticks()
-    )
+/// `t` as a constant expression (the raw values' `Debug` form is a struct literal).
+fn planned_expr(t: &PlannedOffTimerConfig) -> String {
+    format!("PlannedOffTimerConfig::from_raw({:?})", t.raw())
 }
 
 fn planned_cases(rng: &mut Rng) -> Vec<PlannedCase> {
@@ -177,7 +158,8 @@ fn planned_cases(rng: &mut Rng) -> Vec<PlannedCase> {
     let mut cases = Vec::new();
     for (plan, thr, max) in plans {
         let plan = plan.expect("demo switch-off is valid");
-        let timer = PlannedOffTimer::new(&plan, thr, max, 100e-6).expect("demo table is valid");
+        let timer =
+            PlannedOffTimerConfig::new(&plan, thr, max, 100e-6).expect("demo table is valid");
         let mut steps = vec![None, None];
         let max_ua = (max * 1e6) as i32;
         for i0 in [max_ua, max_ua / 2, max_ua / 7, 0, -1, max_ua + 1, i32::MAX] {
@@ -189,8 +171,8 @@ fn planned_cases(rng: &mut Rng) -> Vec<PlannedCase> {
         cases.push(PlannedCase { timer, steps });
     }
     for _ in 0..6 {
-        let mut bp = [0i32; PLANNED_POINTS];
-        let mut ticks = [0u32; PLANNED_POINTS];
+        let mut bp = [0i32; PLANNED_TABLE_LEN];
+        let mut ticks = [0u32; PLANNED_TABLE_LEN];
         for (b, t) in bp.iter_mut().zip(ticks.iter_mut()) {
             *b = rng.any_i32();
             *t = match rng.range(0, 3) {
@@ -199,7 +181,10 @@ fn planned_cases(rng: &mut Rng) -> Vec<PlannedCase> {
                 _ => rng.range(0, 30) as u32,
             };
         }
-        let timer = PlannedOffTimer::from_raw(bp, ticks);
+        let timer = PlannedOffTimerConfig::from_raw(PlannedOffTimerRaw {
+            breakpoints_ua: bp,
+            ticks,
+        });
         let mut steps = vec![None];
         for k in 0..150 {
             steps.push((k % 30 == 0).then(|| rng.any_i32()));
@@ -219,12 +204,7 @@ pub fn generate() -> String {
     let (mut released, mut not_yet) = (false, false);
     for (n, c) in tracking.iter().enumerate() {
         if n < demos {
-            let back = TrackingOffTimer::from_raw(
-                *c.timer.estimator(),
-                c.timer.threshold_ua(),
-                c.timer.margin_ua(0),
-                margin_shift(&c.timer),
-            );
+            let back = TrackingOffTimerConfig::from_raw(c.timer.raw());
             assert!(
                 back == c.timer,
                 "tracking timer constant differs from its plan"
@@ -240,7 +220,7 @@ pub fn generate() -> String {
             if let Some(i0) = start {
                 c.timer.start(&mut s, i0);
             }
-            let st = c.timer.tick(&mut s, supply_mv);
+            let st = c.timer.update(&mut s, supply_mv);
             released |= st == OffStatus::Released;
             not_yet |= st == OffStatus::NotYet;
             let _ = write!(
@@ -259,7 +239,7 @@ pub fn generate() -> String {
     let bench = &tracking[0].timer;
     let _ = writeln!(
         src,
-        "/// Tracking cost run: the first demo timer.\npub const TRACKING_BENCH: TrackingOffTimer = {};\n/// Its switch-off current, µA.\npub const TRACKING_BENCH_START_UA: i32 = 750_000;\n",
+        "/// Tracking cost run: the first demo timer.\npub const TRACKING_BENCH: TrackingOffTimerConfig = {};\n/// Its switch-off current, µA.\npub const TRACKING_BENCH_START_UA: i32 = 750_000;\n",
         tracking_expr(bench)
     );
     src.push_str(
@@ -308,7 +288,7 @@ pub fn generate_planned() -> String {
             if let Some(i0) = start {
                 c.timer.start(&mut s, i0);
             }
-            let st = c.timer.tick(&mut s);
+            let st = c.timer.update(&mut s);
             released |= st == OffStatus::Released;
             never |= s.remaining_ticks() == u32::MAX;
             let _ = write!(
@@ -325,7 +305,7 @@ pub fn generate_planned() -> String {
 
     let _ = writeln!(
         src,
-        "/// Planned cost run: the first demo table.\npub const PLANNED_BENCH: PlannedOffTimer = {};\n",
+        "/// Planned cost run: the first demo table.\npub const PLANNED_BENCH: PlannedOffTimerConfig = {};\n",
         planned_expr(&planned[0].timer)
     );
     let plan = SwitchOff::new(0.3, 120.0, 12.0, 0.1, Clamp::Diode { forward_v: 0.7 })

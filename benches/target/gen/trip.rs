@@ -5,91 +5,14 @@
 
 use std::fmt::Write as _;
 
-use lenz::kernel::{InverseTable, TripConfig, TripParams, TripState, Verdict};
+use lenz::kernel::{InverseTable, TripConfig, TripParams, TripRaw, TripState, Verdict};
 use lenz::trip::{Curve, InverseTime, Thermal};
 
 use super::Rng;
 
-/// The arguments of [`TripConfig::from_raw`], so a configuration can be emitted as a constant.
-#[derive(Clone, Copy)]
-struct Raw {
-    instantaneous_counts: u16,
-    full_scale_counts: u16,
-    blank_samples: u16,
-    persistence_n: u8,
-    persistence_m: u8,
-    stuck_samples: u16,
-    retries: u8,
-    retry_samples: u16,
-    block_log2: u8,
-    inverse: InverseTable,
-    x2_mul: u32,
-    x2_shift: u8,
-    thermal_step_q32: u32,
-}
-
-impl Raw {
-    fn of(p: &TripParams, c: &TripConfig) -> Self {
-        Self {
-            instantaneous_counts: p.instantaneous_counts,
-            full_scale_counts: p.full_scale_counts,
-            blank_samples: c.blank_samples(),
-            persistence_n: p.persistence_n,
-            persistence_m: p.persistence_m,
-            stuck_samples: p.stuck_samples,
-            retries: p.retries,
-            retry_samples: c.retry_samples(),
-            block_log2: c.block_log2(),
-            inverse: *c.inverse_table(),
-            x2_mul: c.x2_scale().0,
-            x2_shift: c.x2_scale().1,
-            thermal_step_q32: c.thermal_step_q32(),
-        }
-    }
-
-    fn config(&self) -> TripConfig {
-        TripConfig::from_raw(
-            self.instantaneous_counts,
-            self.full_scale_counts,
-            self.blank_samples,
-            self.persistence_n,
-            self.persistence_m,
-            self.stuck_samples,
-            self.retries,
-            self.retry_samples,
-            self.block_log2,
-            self.inverse,
-            self.x2_mul,
-            self.x2_shift,
-            self.thermal_step_q32,
-        )
-    }
-
-    fn expr(&self) -> String {
-        let t = &self.inverse;
-        let mut table = String::new();
-        for r in &t.rate_q32 {
-            let _ = write!(table, "{r}, ");
-        }
-        format!(
-            "TripConfig::from_raw({}, {}, {}, {}, {}, {}, {}, {}, {}, InverseTable {{ m_scale_q32: {}, rate_q32: [{table}], reset_q32: {}, instant_reset: {} }}, {}, {}, {})",
-            self.instantaneous_counts,
-            self.full_scale_counts,
-            self.blank_samples,
-            self.persistence_n,
-            self.persistence_m,
-            self.stuck_samples,
-            self.retries,
-            self.retry_samples,
-            self.block_log2,
-            t.m_scale_q32,
-            t.reset_q32,
-            t.instant_reset,
-            self.x2_mul,
-            self.x2_shift,
-            self.thermal_step_q32
-        )
-    }
+/// `raw` as a constant expression (the raw values' `Debug` form is a struct literal).
+fn expr(raw: &TripRaw) -> String {
+    format!("TripConfig::from_raw({raw:?})")
 }
 
 /// Demo protection settings (invented values): 1 kHz samples, 4 mA per count, 12-bit ADC.
@@ -204,7 +127,7 @@ fn bench_inputs(rng: &mut Rng) -> Vec<(u16, bool)> {
 
 pub fn generate() -> String {
     let mut rng = Rng::new(0x6c65_6e7a_0005);
-    let mut cases: Vec<(Raw, Vec<(u16, bool)>)> = Vec::new();
+    let mut cases: Vec<(TripRaw, Vec<(u16, bool)>)> = Vec::new();
     let demos = demo_params();
     // Per demo: the leading stretch (stuck sensor, inverse time, thermal, inverse time).
     let leads = [
@@ -215,16 +138,14 @@ pub fn generate() -> String {
     ];
     for (p, lead) in demos.iter().zip(leads) {
         let cfg = TripConfig::new(p).expect("demo trip settings are valid");
-        let raw = Raw::of(p, &cfg);
-        let inputs = demo_inputs(&mut rng, lead, 800);
-        // The emitted constant must behave exactly as the plan's configuration.
-        let (mut a, mut b) = (TripState::new(), TripState::new());
-        for &(r, on) in &inputs {
-            assert_eq!(
-                cfg.sample(&mut a, r, on),
-                raw.config().sample(&mut b, r, on)
-            );
-        }
+        let raw = cfg.raw();
+        // The emitted constant must be exactly the plan's configuration.
+        assert!(
+            TripConfig::from_raw(raw) == cfg,
+            "trip constant differs from its plan"
+        );
+        // 560 steps after the lead (the Cortex-M0 flash holds every kernel's vectors).
+        let inputs = demo_inputs(&mut rng, lead, 560);
         cases.push((raw, inputs));
     }
     // Raw edge configurations: any registers, any table, any readings.
@@ -236,7 +157,7 @@ pub fn generate() -> String {
         }
         table.reset_q32 = rng.any_i32() as u32;
         table.instant_reset = rng.bool();
-        let raw = Raw {
+        let raw = TripRaw {
             instantaneous_counts: rng.range(0, 65535) as u16,
             full_scale_counts: rng.range(0, 65535) as u16,
             blank_samples: rng.range(0, 20) as u16,
@@ -246,10 +167,11 @@ pub fn generate() -> String {
             retries: rng.range(0, 4) as u8,
             retry_samples: rng.range(0, 10) as u16,
             block_log2: rng.range(0, 7) as u8,
-            inverse: table,
+            inverse_table: table,
             x2_mul: rng.any_i32() as u32,
             x2_shift: rng.range(0, 70) as u8,
             thermal_step_q32: rng.any_i32() as u32,
+            table_error_ppm: 0,
         };
         let inputs = (0..150)
             .map(|_| {
@@ -268,11 +190,11 @@ pub fn generate() -> String {
     src.push_str("/// Generated sequences.\npub static CASES: &[Case] = &[\n");
     let mut seen = std::collections::BTreeSet::new();
     for (raw, inputs) in &cases {
-        let cfg = raw.config();
+        let cfg = TripConfig::from_raw(*raw);
         let mut s = TripState::new();
-        let _ = write!(src, "    Case {{ config: {}, steps: &[", raw.expr());
+        let _ = write!(src, "    Case {{ config: {}, steps: &[", expr(raw));
         for &(r, on) in inputs {
-            let v = cfg.sample(&mut s, r, on);
+            let v = cfg.update(&mut s, r, on);
             let e = verdict_expr(v);
             seen.insert(match v {
                 Verdict::Trip(ev) => format!("{:?}", ev.cause),
@@ -298,14 +220,13 @@ pub fn generate() -> String {
 
     // The cost run: the first demo setting, every element evaluated, no trip.
     let bench_p = &demos[0];
-    let bench = Raw::of(bench_p, &TripConfig::new(bench_p).expect("valid"));
+    let cfg = TripConfig::new(bench_p).expect("valid");
     let inputs = bench_inputs(&mut rng);
-    let cfg = bench.config();
     let mut s = TripState::new();
     for k in 0..4096 {
         let (r, on) = inputs[k % inputs.len()];
         assert_eq!(
-            cfg.sample(&mut s, r, on),
+            cfg.update(&mut s, r, on),
             Verdict::Allow,
             "bench input trips"
         );
@@ -313,7 +234,7 @@ pub fn generate() -> String {
     let _ = writeln!(
         src,
         "/// Configuration of the cost run (the first demo setting, every element on).\npub static BENCH_CONFIG: TripConfig = {};\n",
-        bench.expr()
+        expr(&cfg.raw())
     );
     src.push_str("/// Inputs of the cost run.\npub static BENCH_INPUTS: &[(u16, bool)] = &[");
     for (r, on) in &inputs {
@@ -330,7 +251,7 @@ pub fn generate() -> String {
         bench_p.amps_per_count,
         bench_p.instantaneous_counts,
         bench_p.full_scale_counts,
-        bench.blank_samples,
+        cfg.blank_samples(),
         bench_p.persistence_n,
         bench_p.persistence_m,
         el.pickup_a(),
@@ -342,5 +263,69 @@ pub fn generate() -> String {
         th.time_constant_s(),
         th.trip_level_a()
     );
+    src
+}
+
+/// The block-ending sample alone: the demo settings with blocks of one sample (`K = 1`), so
+/// every sample runs the full path and the block update (the worst single sample of the
+/// default `K = 32`). Vectors: the second and the third demo through their
+/// leading stretches (IEC very inverse, thermal only); cost run: the first demo setting on the trip cost run's inputs.
+pub fn generate_block() -> String {
+    let mut rng = Rng::new(0x6c65_6e7a_0006);
+    let demos = demo_params();
+    let mut src = String::from(
+        "// Generated by gen/trip.rs (generate_block) with the host build of lenz.\n\n",
+    );
+    src.push_str("/// Generated sequences.\npub static CASES: &[Case] = &[\n");
+    let mut seen = std::collections::BTreeSet::new();
+    for (p, lead) in [
+        (&demos[1], (2500, 260, false)),
+        (&demos[2], (1500, 200, false)),
+    ] {
+        let cfg = TripConfig::with_block_log2(p, 0).expect("demo trip settings are valid");
+        assert!(
+            TripConfig::from_raw(cfg.raw()) == cfg,
+            "trip constant differs from its plan"
+        );
+        let inputs = demo_inputs(&mut rng, lead, 60);
+        let mut s = TripState::new();
+        let _ = write!(src, "    Case {{ config: {}, steps: &[", expr(&cfg.raw()));
+        for &(r, on) in &inputs {
+            let v = cfg.update(&mut s, r, on);
+            seen.insert(match v {
+                Verdict::Trip(ev) => format!("{:?}", ev.cause),
+                other => format!("{other:?}"),
+            });
+            let _ = write!(src, "({r}, {on}, {}), ", verdict_expr(v));
+        }
+        src.push_str("] },\n");
+    }
+    src.push_str("];\n\n");
+    for want in ["Allow", "InverseTime", "Thermal"] {
+        assert!(seen.contains(want), "block vectors never give {want}");
+    }
+    let cfg = TripConfig::with_block_log2(&demos[0], 0).expect("valid");
+    let inputs = bench_inputs(&mut Rng::new(0x6c65_6e7a_0007));
+    let mut s = TripState::new();
+    for k in 0..4096 {
+        let (r, on) = inputs[k % inputs.len()];
+        assert_eq!(
+            cfg.update(&mut s, r, on),
+            Verdict::Allow,
+            "bench input trips"
+        );
+    }
+    let _ = writeln!(
+        src,
+        "/// Configuration of the cost run (the first demo setting, blocks of one sample).\npub static BENCH_CONFIG: TripConfig = {};\n",
+        expr(&cfg.raw())
+    );
+    src.push_str(
+        "/// Inputs of the cost run, `(switch on, reading)`.\npub static BENCH_INPUTS: &[(bool, u16)] = &[",
+    );
+    for (r, on) in &inputs {
+        let _ = write!(src, "({on}, {r}), ");
+    }
+    src.push_str("];\n");
     src
 }

@@ -138,8 +138,8 @@ pub const INDUCTANCE_MAX_H: f32 = 10.0;
 pub const RESISTANCE_MAX_OHM: f32 = 1.0e3;
 /// Largest voltage accepted (input, output, diode drop), V.
 pub const VOLTAGE_MAX_V: f32 = 1.0e4;
-/// Largest current accepted (load, saturation), A.
-pub const CURRENT_MAX_A: f32 = 1.0e4;
+/// Largest current of a boost stage accepted (load, saturation), A.
+pub const STAGE_CURRENT_MAX_A: f32 = 1.0e4;
 /// Switching frequency range accepted, Hz.
 pub const FREQUENCY_MIN_HZ: f32 = 1.0;
 /// Largest switching frequency accepted, Hz.
@@ -298,7 +298,7 @@ impl BoostStageParams {
                 "saturation_current_a",
                 positive("saturation_current_a", i)?,
                 0.0,
-                CURRENT_MAX_A,
+                STAGE_CURRENT_MAX_A,
             )?;
         }
         if let Some(c) = self.output_capacitance_f {
@@ -645,7 +645,7 @@ impl BoostStage {
                     "load_current_a",
                     positive("load_current_a", i)?,
                     0.0,
-                    CURRENT_MAX_A,
+                    STAGE_CURRENT_MAX_A,
                 )?;
                 v as f64 / i as f64
             }
@@ -658,7 +658,7 @@ impl BoostStage {
                     "min_load_current_a",
                     positive("min_load_current_a", ll.min_load_current_a)?,
                     0.0,
-                    CURRENT_MAX_A,
+                    STAGE_CURRENT_MAX_A,
                 )?;
                 let vmax = in_range("max_output_v", ll.max_output_v, v, VOLTAGE_MAX_V)?;
                 Some((v as f64 / i as f64, vmax as f64))

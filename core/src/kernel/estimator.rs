@@ -1,43 +1,6 @@
-//! Integer coil current estimator: the exact zero-order-hold update of the RL model.
-//!
-//! # Algorithm
-//!
-//! Over one tick of length `T` the applied voltage `u` is held constant, so the RL equation
-//! `L di/dt = u − R i` integrates exactly to
-//!
-//! ```text
-//! i[k+1] = a·i[k] + (1 − a)·u[k]/R,      a = exp(−T·R/L)
-//!        = i[k] + c·(I_t − i[k]),        c = 1 − a,  I_t = u/R (the current the tick heads to)
-//! ```
-//!
-//! (closed form of the first-order step response; not forward Euler, which would use
-//! `c = T·R/L` and run 2.26 % high after ten ticks at `T/τ = 0.06`).
-//!
-//! - **On**: `u = V_supply − V_switch`, `R = R_on` (winding plus series resistances).
-//! - **Off**: the current freewheels through the clamp: `u = k·V_supply − V_clamp` with
-//!   `k = 0` for a clamp across the coil (diode, diode plus zener, resistor plus diode) and
-//!   `k = 1` for a clamp across the switch; `R = R_off`. The diode blocks at zero: once the
-//!   update reaches zero or below, the current is zero and stays there while off.
-//!
-//! # Fixed point
-//!
-//! State: the current in microamps (`i32`) and the fraction below one microamp carried from the
-//! last tick (`u32`, units of 2⁻³¹ µA). Carrying the fraction (error feedback) removes the dead
-//! band a plain rounded IIR update has near its target (`0.5/c` µA, half an ampere at
-//! `c = 10⁻⁶`); the remaining bias is below 1 µA.
-//!
-//! Coefficients: `c` in Q31, the loop conductance `1/R` in Q16 µA per mV. One tick costs two
-//! 32×32→64 multiplies, shifts and compares: no float, no division. The saturations are
-//! decided on the top word of each 64-bit product, so no 64-bit compare is needed (about 46
-//! instructions per tick on Cortex-M3 and 119 on Cortex-M0, measured by `lenz cost`).
-//!
-//! # Ranges
-//!
-//! Documented and checked by the plan constructor: loop resistance 0.05 Ω ..= 50 kΩ,
-//! `T/τ` 10⁻⁶ ..= 1000. At run time the target and the state saturate at ±[`CURRENT_LIMIT_UA`]
-//! (about ±1073 A) and supply readings below zero count as 0 V.
+//! The coil current estimator (documented on [`EstimatorConfig`]).
 
-use super::q::{clamp_i64, mul_wide, q16_from_f32, q31_from_f32};
+use super::q::{ARMV6M, clamp_i64, mul_q16_round_small, mul_wide, q16_from_f32, q31_from_f32};
 use crate::coil::Coil;
 use crate::error::{Error, in_range, non_negative, positive};
 
@@ -67,7 +30,63 @@ pub struct OffPath {
     pub supply_coupled: bool,
 }
 
-/// Estimator coefficients for one coil, temperature and tick period (shared by channels).
+/// The raw coefficients of an [`EstimatorConfig`], for constants emitted by the host tool
+/// ([`EstimatorConfig::from_raw`], [`EstimatorConfig::raw`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+pub struct EstimatorRaw {
+    /// `1 − exp(−T·R_on/L)` of the on path, Q31 (`0 ..= 2³¹ − 1` from a plan).
+    pub on_step_q31: i32,
+    /// `1/R_on`, µA per mV, Q16.
+    pub on_conductance_q16: i32,
+    /// Voltage across the closed switch, mV.
+    pub switch_drop_mv: i32,
+    /// The freewheel path.
+    pub off: OffPath,
+}
+
+/// Estimator coefficients for one coil, temperature and tick period (shared by channels): the
+/// exact zero-order-hold update of the RL model, integer only.
+///
+/// # Algorithm
+///
+/// Over one tick of length `T` the applied voltage `u` is held constant, so the RL equation
+/// `L di/dt = u − R i` integrates exactly to
+///
+/// ```text
+/// i[k+1] = a·i[k] + (1 − a)·u[k]/R,      a = exp(−T·R/L)
+///        = i[k] + c·(I_t − i[k]),        c = 1 − a,  I_t = u/R (the current the tick heads to)
+/// ```
+///
+/// (closed form of the first-order step response; not forward Euler, which would use
+/// `c = T·R/L` and run 2.26 % high after ten ticks at `T/τ = 0.06`).
+///
+/// - **On**: `u = V_supply − V_switch`, `R = R_on` (winding plus series resistances).
+/// - **Off**: the current freewheels through the clamp: `u = k·V_supply − V_clamp` with
+///   `k = 0` for a clamp across the coil (diode, diode plus zener, resistor plus diode) and
+///   `k = 1` for a clamp across the switch; `R = R_off`. The diode blocks at zero: once the
+///   update reaches zero or below, the current is zero and stays there while off.
+///
+/// # Fixed point
+///
+/// State: the current in microamps (`i32`) and the fraction below one microamp carried from the
+/// last tick (`u32`, units of 2⁻³¹ µA). Carrying the fraction (error feedback) removes the dead
+/// band a plain rounded IIR update has near its target (`0.5/c` µA, half an ampere at
+/// `c = 10⁻⁶`); the remaining bias is below 1 µA.
+///
+/// Coefficients: `c` in Q31, the loop conductance `1/R` in Q16 µA per mV. One tick costs two
+/// 32×32→64 multiplies, shifts and compares: no float, no division. The saturations are
+/// decided on the top word of the product and the operands' signs, so no 64-bit compare is
+/// needed; on Cortex-M0 (no 32×32→64 multiply) a voltage below 2¹⁶ mV (65.5 V) takes a target
+/// from two 32-bit multiplies instead of four, exactly the same value. Measured by `lenz
+/// cost`: 91.5 instructions per tick on Cortex-M0, 37.5 on Cortex-M3, 34.5 on Cortex-M4F.
+///
+/// # Ranges
+///
+/// Documented and checked by the plan constructor: loop resistance 0.05 Ω ..= 50 kΩ,
+/// `T/τ` 10⁻⁶ ..= 1000. At run time the target and the state saturate at ±[`CURRENT_LIMIT_UA`]
+/// (about ±1073 A) and supply readings below zero count as 0 V.
 ///
 /// # Examples
 ///
@@ -127,6 +146,11 @@ impl EstimatorState {
     pub const fn current_ua(&self) -> i32 {
         self.current_ua
     }
+
+    /// Back to zero current (as [`EstimatorState::new`]).
+    pub fn reset(&mut self) {
+        *self = Self::new();
+    }
 }
 
 fn step_q31(tick_s: f32, r_ohm: f32, l_h: f32, param: &'static str) -> Result<i32, Error> {
@@ -152,7 +176,7 @@ impl EstimatorConfig {
     /// # Errors
     ///
     /// Bad temperature or tick, or a loop resistance or `tick/τ` outside the documented ranges
-    /// (module docs), named as `loop_resistance_ohm` or `tick_s`.
+    /// ([*Ranges*](EstimatorConfig#ranges)), named as `loop_resistance_ohm` or `tick_s`.
     pub fn new(coil: &Coil, temp_c: f32, tick_s: f32) -> Result<Self, Error> {
         let diode_v = coil.params().diode_drop_v;
         Self::with_clamp(coil, temp_c, tick_s, 0.0, diode_v, false)
@@ -194,17 +218,23 @@ impl EstimatorConfig {
     /// Coefficients from raw fixed-point values (for constants emitted by the host tool).
     /// The caller is responsible for their validity; the update still cannot overflow or panic.
     #[must_use]
-    pub const fn from_raw(
-        on_step_q31: i32,
-        on_conductance_q16: i32,
-        switch_drop_mv: i32,
-        off: OffPath,
-    ) -> Self {
+    pub const fn from_raw(raw: EstimatorRaw) -> Self {
         Self {
-            on_step_q31,
-            on_conductance_q16,
-            switch_drop_mv,
-            off,
+            on_step_q31: raw.on_step_q31,
+            on_conductance_q16: raw.on_conductance_q16,
+            switch_drop_mv: raw.switch_drop_mv,
+            off: raw.off,
+        }
+    }
+
+    /// The raw coefficients: `EstimatorConfig::from_raw(cfg.raw()) == cfg`.
+    #[must_use]
+    pub const fn raw(&self) -> EstimatorRaw {
+        EstimatorRaw {
+            on_step_q31: self.on_step_q31,
+            on_conductance_q16: self.on_conductance_q16,
+            switch_drop_mv: self.switch_drop_mv,
+            off: self.off,
         }
     }
 
@@ -244,81 +274,152 @@ impl EstimatorConfig {
     ///
     /// The estimated current at the end of the tick, µA, in `0 ..= CURRENT_LIMIT_UA`.
     ///
-    /// With coefficients from [`EstimatorConfig::new`] or [`EstimatorConfig::with_clamp`]
-    /// (steps in `0 ..= 1` Q31) and a state made by this module, the result is the exact
-    /// fixed-point update of the module docs. Raw coefficients outside those ranges (a
-    /// negative step) give an unspecified result, still in range and without overflow or
-    /// panic.
+    /// With coefficients from [`EstimatorConfig::new`] or [`EstimatorConfig::with_clamp`] (steps in
+    /// `0 ..= 1` Q31) and a state made by this module, the result is the exact fixed-point update
+    /// above ([*Algorithm*](EstimatorConfig#algorithm)). Raw coefficients outside those ranges (a
+    /// negative step) give an unspecified result, still in range and without overflow or panic.
     #[inline]
     pub fn update(&self, state: &mut EstimatorState, switch_on: bool, supply_mv: i32) -> i32 {
         let supply = if supply_mv > 0 { supply_mv } else { 0 };
-        let (step, target) = if switch_on {
+        if switch_on {
             let u = supply.saturating_sub(self.switch_drop_mv);
             let u = if u > 0 { u } else { 0 };
-            (self.on_step_q31, on_target_ua(u, self.on_conductance_q16))
+            let target = on_target_ua(u, self.on_conductance_q16);
+            advance(state, self.on_step_q31, target)
         } else {
-            let coupled = if self.off.supply_coupled { supply } else { 0 };
-            let u = coupled.saturating_sub(self.off.clamp_mv);
-            (
-                self.off.step_q31,
-                off_target_ua(u, self.off.conductance_q16),
-            )
-        };
-        // A state made by this module lies in 0 ..= 2^30 and the target in ±2^30, so their
-        // difference fits an i32 and the product with the Q31 step is one 32×32→64 multiply.
-        let current = state.current_ua;
-        let diff = target.wrapping_sub(current);
-        let acc = mul_wide(diff, step) + state.frac as i64;
-        // |diff·step| < 2^62 for a step in 0 ..= 1, so the whole part fits an i32, and the new
-        // current lies between the old one and the target.
-        let whole = (acc >> 31) as i32;
-        // acc − whole·2^31: the low 31 bits, as acc is split with an arithmetic shift.
-        let frac = (acc as u32) & 0x7FFF_FFFF;
-        let i = current.wrapping_add(whole);
-        let (i, frac) = if i > 0 {
-            (
-                if i < CURRENT_LIMIT_UA {
-                    i
-                } else {
-                    CURRENT_LIMIT_UA
-                },
-                frac,
-            )
-        } else {
-            // The switch or the freewheel diode blocks reverse current.
-            (0, 0)
-        };
-        state.current_ua = i;
-        state.frac = frac;
-        i
+            self.off_from(state, supply)
+        }
+    }
+
+    /// [`EstimatorConfig::update`] with the switch open (the off-timer's tick).
+    #[inline(always)]
+    pub(crate) fn update_off(&self, state: &mut EstimatorState, supply_mv: i32) -> i32 {
+        let supply = if supply_mv > 0 { supply_mv } else { 0 };
+        self.off_from(state, supply)
+    }
+
+    /// The off-path tick from a supply already clamped at zero.
+    #[inline(always)]
+    fn off_from(&self, state: &mut EstimatorState, supply: i32) -> i32 {
+        let coupled = if self.off.supply_coupled { supply } else { 0 };
+        let u = coupled.saturating_sub(self.off.clamp_mv);
+        let target = off_target_ua(u, self.off.conductance_q16);
+        advance(state, self.off.step_q31, target)
     }
 }
 
-/// `(u·g + 2^15) >> 16` (µA from mV and a Q16 conductance) saturated into `0 ..= 2^30`.
+/// One exact step `i += c·(I_t − i)` with the carried fraction, blocked at zero and saturated
+/// at [`CURRENT_LIMIT_UA`]; returns the new current.
+#[inline(always)]
+fn advance(state: &mut EstimatorState, step_q31: i32, target_ua: i32) -> i32 {
+    // A state made by this module lies in 0 ..= 2^30 and the target in ±2^30, so their
+    // difference fits an i32 and the product with the Q31 step is one 32×32→64 multiply.
+    let current = state.current_ua;
+    let diff = target_ua.wrapping_sub(current);
+    let acc = mul_wide(diff, step_q31) + state.frac as i64;
+    // |diff·step| < 2^62 for a step in 0 ..= 1, so the whole part fits an i32, and the new
+    // current lies between the old one and the target.
+    let whole = (acc >> 31) as i32;
+    // acc − whole·2^31: the low 31 bits, as acc is split with an arithmetic shift.
+    let frac = (acc as u32) & 0x7FFF_FFFF;
+    let i = current.wrapping_add(whole);
+    let (i, frac) = if i > 0 {
+        (
+            if i < CURRENT_LIMIT_UA {
+                i
+            } else {
+                CURRENT_LIMIT_UA
+            },
+            frac,
+        )
+    } else {
+        // The switch or the freewheel diode blocks reverse current.
+        (0, 0)
+    };
+    state.current_ua = i;
+    state.frac = frac;
+    i
+}
+
+/// `(u·g + 2^15) >> 16` (µA from mV and a Q16 conductance) saturated into `0 ..= 2^30`, for
+/// `u ≥ 0`.
 ///
-/// The rounded product `p = u·g + 2^15` is in range exactly when `p >> 46` is 0 (the top word
-/// alone decides, no 64-bit compare): then `p >> 16 < 2^30`; otherwise the sign of `p` picks the
-/// bound (`p >> 16 = 2^30` itself lands on the upper bound).
+/// The rounded product `p = u·g + 2^15` is in range exactly when `p >> 46` is 0, which is the
+/// top word of `p` shifted by 14: the top word alone decides, no 64-bit compare, and its sign
+/// picks the bound otherwise (`p >> 16 = 2^30` itself lands on the upper bound). On ARMv6-M a
+/// voltage below 2¹⁶ mV (65.5 V) takes [`mul_q16_round_small`] (two 32-bit multiplies) instead
+/// of the four of [`mul_wide`]; both are exact.
 #[inline(always)]
 fn on_target_ua(u_mv: i32, g_q16: i32) -> i32 {
+    if ARMV6M && u_mv < (1 << 16) {
+        on_target_small(u_mv, g_q16)
+    } else {
+        on_target_wide(u_mv, g_q16)
+    }
+}
+
+/// [`on_target_ua`] for `0 ≤ u < 2¹⁶` from [`mul_q16_round_small`].
+#[inline(always)]
+fn on_target_small(u_mv: i32, g_q16: i32) -> i32 {
+    let t = mul_q16_round_small(u_mv, g_q16);
+    if t < 0 {
+        0
+    } else if t < CURRENT_LIMIT_UA {
+        t
+    } else {
+        CURRENT_LIMIT_UA
+    }
+}
+
+/// [`on_target_ua`] from the wide product.
+#[inline(always)]
+fn on_target_wide(u_mv: i32, g_q16: i32) -> i32 {
     let p = mul_wide(u_mv, g_q16) + (1 << 15);
-    if p >> 46 == 0 {
+    let top = (p >> 32) as i32;
+    if top >> 14 == 0 {
         (p >> 16) as i32
-    } else if p < 0 {
+    } else if g_q16 < 0 {
+        // Out of range means |u·g| ≥ 2⁴⁶ − 2¹⁵, so u > 0 and the sign is g's. (Testing g, not
+        // p, keeps the compiler from forming the product a second time for a 64-bit compare.)
         0
     } else {
         CURRENT_LIMIT_UA
     }
 }
 
-/// As [`on_target_ua`], saturated into `−2^30 ..= 2^30` (`p >> 46` is 0 or −1 in range).
+/// As [`on_target_ua`] for any `u`, saturated into `−2^30 ..= 2^30` (in range when `p >> 46`
+/// is 0 or −1).
 #[inline(always)]
 fn off_target_ua(u_mv: i32, g_q16: i32) -> i32 {
+    if ARMV6M && (u_mv as u32).wrapping_add(0xFFFF) < 0x1_FFFF {
+        off_target_small(u_mv, g_q16)
+    } else {
+        off_target_wide(u_mv, g_q16)
+    }
+}
+
+/// [`off_target_ua`] for `|u| < 2¹⁶` from [`mul_q16_round_small`].
+#[inline(always)]
+fn off_target_small(u_mv: i32, g_q16: i32) -> i32 {
+    let t = mul_q16_round_small(u_mv, g_q16);
+    if t < -CURRENT_LIMIT_UA {
+        -CURRENT_LIMIT_UA
+    } else if t < CURRENT_LIMIT_UA {
+        t
+    } else {
+        CURRENT_LIMIT_UA
+    }
+}
+
+/// [`off_target_ua`] from the wide product.
+#[inline(always)]
+fn off_target_wide(u_mv: i32, g_q16: i32) -> i32 {
     let p = mul_wide(u_mv, g_q16) + (1 << 15);
-    let top = (p >> 46) as i32;
-    if top == 0 || top == -1 {
+    let top = (p >> 32) as i32;
+    if ((top >> 14).wrapping_add(1) as u32) < 2 {
         (p >> 16) as i32
-    } else if p < 0 {
+    } else if (u_mv ^ g_q16) < 0 {
+        // Out of range means |u·g| ≥ 2⁴⁵, so the sign of p is the sign of u·g.
         -CURRENT_LIMIT_UA
     } else {
         CURRENT_LIMIT_UA
@@ -333,6 +434,33 @@ mod tests {
 
     fn reference_coil() -> Coil {
         CoilParams::new(0.040, 24.0).validate().unwrap()
+    }
+
+    /// The raw values carry every field, and `from_raw` is usable in a constant.
+    #[test]
+    fn raw_round_trip() {
+        let cfg =
+            EstimatorConfig::with_clamp(&reference_coil(), 60.0, 100e-6, 10.0, 24.7, true).unwrap();
+        assert_eq!(EstimatorConfig::from_raw(cfg.raw()), cfg);
+        const C: EstimatorConfig = EstimatorConfig::from_raw(EstimatorRaw {
+            on_step_q31: 1,
+            on_conductance_q16: 2,
+            switch_drop_mv: 3,
+            off: OffPath {
+                step_q31: 4,
+                conductance_q16: 5,
+                clamp_mv: 6,
+                supply_coupled: true,
+            },
+        });
+        assert_eq!(
+            (C.on_step_q31(), C.on_conductance_q16(), C.switch_drop_mv()),
+            (1, 2, 3)
+        );
+        assert_eq!(C.off_path().clamp_mv, 6);
+        let mut s = EstimatorState::with_current_ua(5);
+        s.reset();
+        assert_eq!(s, EstimatorState::new());
     }
 
     #[test]
@@ -410,7 +538,7 @@ mod tests {
     }
 
     /// The update written out in 64-bit arithmetic with plain clamps (the reference form of
-    /// the module docs: computed, exact integer arithmetic).
+    /// the type docs: computed, exact integer arithmetic).
     fn wide_reference(
         c: &EstimatorConfig,
         s: &mut EstimatorState,
@@ -442,6 +570,38 @@ mod tests {
         i as i32
     }
 
+    /// The ARMv6-M target forms equal the wide ones (computed: exact integer identity, every
+    /// voltage of the small range against edge and pseudo-random conductances).
+    #[test]
+    fn small_targets_equal_wide_targets() {
+        let mut x = 0x2545_F491_4F6C_DD1Du64;
+        let mut gs = std::vec![
+            0,
+            1,
+            -1,
+            2_048_000,
+            i32::MAX,
+            i32::MIN,
+            0x4000_0000,
+            -0x4000_0000
+        ];
+        for _ in 0..40 {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            gs.push(x as i32);
+            gs.push((x >> 40) as i32); // conductances of plan size
+        }
+        for &g in &gs {
+            for u in -0xFFFF..=0xFFFF {
+                if u >= 0 {
+                    assert_eq!(on_target_small(u, g), on_target_wide(u, g), "{u} {g}");
+                }
+                assert_eq!(off_target_small(u, g), off_target_wide(u, g), "{u} {g}");
+            }
+        }
+    }
+
     proptest! {
         #[test]
         fn update_equals_wide_reference(
@@ -450,8 +610,12 @@ mod tests {
             coupled in any::<bool>(), start in any::<i32>(),
             seq in proptest::collection::vec((any::<bool>(), any::<i32>()), 1..50),
         ) {
-            let cfg = EstimatorConfig::from_raw(on_step, g, drop, OffPath {
-                step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp, supply_coupled: coupled,
+            let cfg = EstimatorConfig::from_raw(EstimatorRaw {
+                on_step_q31: on_step, on_conductance_q16: g, switch_drop_mv: drop,
+                off: OffPath {
+                    step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp,
+                    supply_coupled: coupled,
+                },
             });
             let mut s = EstimatorState::with_current_ua(start);
             let mut r = s;
@@ -468,8 +632,12 @@ mod tests {
             coupled in any::<bool>(), start in any::<i32>(),
             seq in proptest::collection::vec((any::<bool>(), any::<i32>()), 1..50),
         ) {
-            let cfg = EstimatorConfig::from_raw(on_step, g, drop, OffPath {
-                step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp, supply_coupled: coupled,
+            let cfg = EstimatorConfig::from_raw(EstimatorRaw {
+                on_step_q31: on_step, on_conductance_q16: g, switch_drop_mv: drop,
+                off: OffPath {
+                    step_q31: off_step, conductance_q16: g_off, clamp_mv: clamp,
+                    supply_coupled: coupled,
+                },
             });
             let mut s = EstimatorState::with_current_ua(start);
             for (on, v) in seq {

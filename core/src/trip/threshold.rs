@@ -58,8 +58,9 @@
 
 use crate::error::{Error, finite, finite_result, in_range, non_negative, positive};
 
-/// Largest current accepted, A.
-pub const CURRENT_MAX_A: f32 = 1.0e6;
+/// Largest current accepted by the threshold plans (switch limits, fault and initial
+/// currents: a shorted load draws far more than a coil), A.
+pub const FAULT_CURRENT_MAX_A: f32 = 1.0e6;
 /// Largest supply accepted, V.
 pub const SUPPLY_MAX_V: f32 = 1.0e5;
 /// Smallest inductance accepted, H.
@@ -175,7 +176,12 @@ impl ShortedLoad {
     ///
     /// `current_a` not finite or beyond ±1e6 A.
     pub fn di_dt_a_per_s(&self, current_a: f32) -> Result<f32, Error> {
-        let i = in_range("current_a", current_a, -CURRENT_MAX_A, CURRENT_MAX_A)?;
+        let i = in_range(
+            "current_a",
+            current_a,
+            -FAULT_CURRENT_MAX_A,
+            FAULT_CURRENT_MAX_A,
+        )?;
         finite_result(
             "current_a",
             (self.supply_v - i * self.resistance_ohm) / self.inductance_h,
@@ -193,7 +199,12 @@ impl ShortedLoad {
     ///
     /// `initial_a` beyond ±1e6 A, `t_s` negative or above 1e3 s, or a result f32 cannot hold.
     pub fn current_after_a(&self, initial_a: f32, t_s: f32) -> Result<f32, Error> {
-        let i0 = in_range("initial_a", initial_a, -CURRENT_MAX_A, CURRENT_MAX_A)?;
+        let i0 = in_range(
+            "initial_a",
+            initial_a,
+            -FAULT_CURRENT_MAX_A,
+            FAULT_CURRENT_MAX_A,
+        )?;
         let t = Self::check_time(t_s)?;
         let i = if self.resistance_ohm > 0.0 {
             let x = t * self.resistance_ohm / self.inductance_h;
@@ -211,7 +222,12 @@ impl ShortedLoad {
     ///
     /// As [`ShortedLoad::current_after_a`].
     pub fn linear_bound_a(&self, initial_a: f32, t_s: f32) -> Result<f32, Error> {
-        let i0 = in_range("initial_a", initial_a, -CURRENT_MAX_A, CURRENT_MAX_A)?;
+        let i0 = in_range(
+            "initial_a",
+            initial_a,
+            -FAULT_CURRENT_MAX_A,
+            FAULT_CURRENT_MAX_A,
+        )?;
         let t = Self::check_time(t_s)?;
         finite_result("t_s", i0 + self.di_dt_a_per_s(i0)? * t)
     }
@@ -223,8 +239,13 @@ impl ShortedLoad {
     /// Currents beyond ±1e6 A or `target_a < initial_a` (`target_a` out of range);
     /// [`Error::Unreachable`] when `target_a` is at or above the steady current.
     pub fn time_to_current_s(&self, initial_a: f32, target_a: f32) -> Result<f32, Error> {
-        let i0 = in_range("initial_a", initial_a, -CURRENT_MAX_A, CURRENT_MAX_A)?;
-        let i1 = in_range("target_a", target_a, i0, CURRENT_MAX_A)?;
+        let i0 = in_range(
+            "initial_a",
+            initial_a,
+            -FAULT_CURRENT_MAX_A,
+            FAULT_CURRENT_MAX_A,
+        )?;
+        let i1 = in_range("target_a", target_a, i0, FAULT_CURRENT_MAX_A)?;
         let t = if self.resistance_ohm > 0.0 {
             let iss = self.steady_current_a();
             if i1 >= iss {
@@ -250,7 +271,7 @@ impl ShortedLoad {
     /// `limit_a` not in `0 < I ≤ 1e6`, `delay_s` negative or above 1e3 s.
     pub fn highest_threshold_a(&self, limit_a: f32, delay_s: f32) -> Result<f32, Error> {
         let lim = positive("limit_a", limit_a)?;
-        in_range("limit_a", lim, 0.0, CURRENT_MAX_A)?;
+        in_range("limit_a", lim, 0.0, FAULT_CURRENT_MAX_A)?;
         let t = Self::check_time(delay_s)?;
         let thr = if self.resistance_ohm > 0.0 {
             let x = t * self.resistance_ohm / self.inductance_h;
@@ -268,7 +289,7 @@ impl ShortedLoad {
     /// As [`ShortedLoad::highest_threshold_a`].
     pub fn linear_threshold_a(&self, limit_a: f32, delay_s: f32) -> Result<f32, Error> {
         let lim = positive("limit_a", limit_a)?;
-        in_range("limit_a", lim, 0.0, CURRENT_MAX_A)?;
+        in_range("limit_a", lim, 0.0, FAULT_CURRENT_MAX_A)?;
         let t = Self::check_time(delay_s)?;
         finite_result("delay_s", lim - self.supply_v / self.inductance_h * t)
     }
@@ -342,7 +363,7 @@ pub struct Remedy {
 impl ThresholdParams {
     fn validate(&self) -> Result<(f32, f32, f32, f32, Option<f32>), Error> {
         let lim = positive("switch_limit_a", self.switch_limit_a)?;
-        in_range("switch_limit_a", lim, 0.0, CURRENT_MAX_A)?;
+        in_range("switch_limit_a", lim, 0.0, FAULT_CURRENT_MAX_A)?;
         let v = positive("supply_max_v", self.supply_max_v)?;
         in_range("supply_max_v", v, 0.0, SUPPLY_MAX_V)?;
         let l = in_range(
@@ -357,7 +378,7 @@ impl ThresholdParams {
                 "normal_peak_a",
                 non_negative("normal_peak_a", n)?,
                 0.0,
-                CURRENT_MAX_A,
+                FAULT_CURRENT_MAX_A,
             )?),
             None => None,
         };

@@ -5,7 +5,7 @@
 //! 1. Error `e = target − v_out` in output counts (the reading of the previous tick: the
 //!    conversion delay).
 //! 2. PI in Q16 duty counts: `request = (k_p·e + I) >> 16` with the integrator `I += k_i·e`.
-//! 3. The duty limiter ([`lenz::kernel::DutyLimiterConfig::tick`]) clamps the request to the
+//! 3. The duty limiter ([`lenz::kernel::DutyLimiterConfig::update`]) clamps the request to the
 //!    plan's limits at the measured input (inductor saturation, gain peak, light-load
 //!    overvoltage, minimum off and on time), ramps it by the soft start and cuts it on output
 //!    overvoltage or an implausible reading.
@@ -124,7 +124,7 @@ impl Controller for BoostRegulator {
         let duty = if c.bypass {
             request as u16
         } else {
-            c.limiter.tick(
+            c.limiter.update(
                 &mut self.lim,
                 request as i32,
                 s.supply_counts,

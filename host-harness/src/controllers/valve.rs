@@ -23,7 +23,7 @@
 use crate::closed_loop::{Actuation, AdcChannel, Controller, Sensed, Telemetry};
 use lenz::kernel::{
     EstimatorConfig, EstimatorState, MonitorConfig, MonitorParams, MonitorState, OffStatus,
-    OffTimerState, SenseScale, TrackingOffTimer, TripConfig, TripParams, TripState,
+    OffTimerState, SenseScale, TrackingOffTimerConfig, TripConfig, TripParams, TripState,
 };
 use lenz::turnoff::Clamp;
 use lenz::{Coil, Error};
@@ -62,7 +62,7 @@ pub struct ValvePlan {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct ValveDriverConfig {
     estimator: EstimatorConfig,
-    off_timer: TrackingOffTimer,
+    off_timer: TrackingOffTimerConfig,
     monitor: MonitorConfig,
     trip: TripConfig,
     current_zero_counts: u16,
@@ -82,7 +82,8 @@ impl ValveDriverConfig {
     /// The estimator's or monitor's plan errors, or a duty outside 0 ..= 1 (`hold_duty`), a
     /// negative pull-in time (`pull_in_min_s`) or a bad sense scale.
     pub fn new(p: &ValvePlan) -> Result<Self, Error> {
-        let off_timer = TrackingOffTimer::new(&p.coil, p.temp_c, p.tick_s, &p.clamp, p.release_a)?;
+        let off_timer =
+            TrackingOffTimerConfig::new(&p.coil, p.temp_c, p.tick_s, &p.clamp, p.release_a)?;
         // The off-timer's estimator has the same on path and the clamp's off path.
         let estimator = *off_timer.estimator();
         let scale = SenseScale::new(
@@ -235,12 +236,12 @@ impl Controller for ValveDriver {
         let reading = s.current_counts.saturating_sub(c.current_zero_counts);
         let verdict = c
             .trip
-            .sample(&mut self.trip, reading, self.applied != Applied::Off);
+            .update(&mut self.trip, reading, self.applied != Applied::Off);
         if !verdict.switch_allowed() {
             self.tripped = true;
         }
         if c.monitor
-            .check(&mut self.mon, self.prev_estimate_ua, s.current_counts)
+            .update(&mut self.mon, self.prev_estimate_ua, s.current_counts)
             .is_some()
         {
             self.tripped = true;
@@ -248,7 +249,7 @@ impl Controller for ValveDriver {
         self.prev_estimate_ua = estimate_ua;
 
         if self.phase == Phase::Releasing
-            && c.off_timer.tick(&mut self.off, supply_mv) == OffStatus::Released
+            && c.off_timer.update(&mut self.off, supply_mv) == OffStatus::Released
         {
             self.phase = Phase::Idle;
         }

@@ -1,4 +1,4 @@
-//! Duty limiter: [`DutyLimiterConfig::tick`], one boost duty request clamped to the plan's limits.
+//! Duty limiter: [`DutyLimiterConfig::update`], one boost duty request clamped to the plan's limits.
 
 use lenz::kernel::{DutyLimiterConfig, DutyLimiterRaw, DutyLimiterState};
 
@@ -75,7 +75,7 @@ pub fn lenz_kernel_duty(
     s: &mut DutyLimiterState,
     x: (i32, u16, u16),
 ) -> u16 {
-    cfg.tick(s, x.0, x.1, x.2)
+    cfg.update(s, x.0, x.1, x.2)
 }
 
 /// The same tick written the straightforward way in f32 volts: the limits recomputed from

@@ -1,6 +1,6 @@
 //! Estimator: [`EstimatorConfig::update`], one tick of the RL current estimate.
 
-use lenz::kernel::{EstimatorConfig, EstimatorState, OffPath};
+use lenz::kernel::{EstimatorConfig, EstimatorRaw, EstimatorState, OffPath};
 
 use super::{Checker, Kernel};
 use crate::bench::measure;
@@ -111,4 +111,4 @@ pub const KERNEL: Kernel = Kernel {
 };
 
 // `OffPath` is named by the generated constants.
-const _: Option<OffPath> = None;
+const _: Option<(EstimatorRaw, OffPath)> = None;

@@ -20,6 +20,7 @@ pub mod monitor;
 pub mod offtimer;
 pub mod offtimer_planned;
 pub mod trip;
+pub mod trip_block;
 
 /// Every kernel the target images check and measure.
 pub static KERNELS: &[Kernel] = &[
@@ -29,6 +30,7 @@ pub static KERNELS: &[Kernel] = &[
     offtimer::KERNEL,
     offtimer_planned::KERNEL,
     trip::KERNEL,
+    trip_block::KERNEL,
 ];
 
 /// One kernel in the target images.

@@ -1,6 +1,6 @@
-//! Plausibility monitor: [`MonitorConfig::check`], one sample of estimate against measurement.
+//! Plausibility monitor: [`MonitorConfig::update`], one sample of estimate against measurement.
 
-use lenz::kernel::{Fault, MonitorConfig, MonitorState, SenseScale};
+use lenz::kernel::{Fault, MonitorConfig, MonitorRaw, MonitorState, SenseScale};
 
 use super::{Checker, Kernel};
 use crate::bench::measure;
@@ -72,7 +72,7 @@ pub fn lenz_kernel_monitor(
     s: &mut MonitorState,
     x: (i32, u16),
 ) -> Option<Fault> {
-    cfg.check(s, x.0, x.1)
+    cfg.update(s, x.0, x.1)
 }
 
 fn decide_naive(p: &Naive, s: &mut NaiveState, est_a: f32, counts: u16) -> Option<Fault> {
@@ -175,4 +175,4 @@ pub const KERNEL: Kernel = Kernel {
 };
 
 // `SenseScale` is named by the generated constants.
-const _: Option<SenseScale> = None;
+const _: Option<(MonitorRaw, SenseScale)> = None;

@@ -1,7 +1,9 @@
-//! Tracking off-timer: [`TrackingOffTimer::tick`], one estimator off-state update against the
+//! Tracking off-timer: [`TrackingOffTimerConfig::update`], one estimator off-state update against the
 //! release threshold.
 
-use lenz::kernel::{EstimatorConfig, OffPath, OffStatus, OffTimerState, TrackingOffTimer};
+use lenz::kernel::{
+    EstimatorRaw, OffPath, OffStatus, OffTimerState, TrackingOffTimerConfig, TrackingOffTimerRaw,
+};
 
 use super::{Checker, Kernel};
 use crate::bench::measure;
@@ -9,7 +11,7 @@ use crate::bench::measure;
 /// One generated sequence from an idle [`OffTimerState`].
 pub struct TrackingCase {
     /// Timer (from the plan constructor on the host, or raw edge values).
-    pub timer: TrackingOffTimer,
+    pub timer: TrackingOffTimerConfig,
     /// Per tick: a switch-off current to start from (before the tick), the supply in mV, and
     /// the host's status and estimate in µA after the tick.
     pub steps: &'static [(Option<i32>, i32, OffStatus, i32)],
@@ -38,11 +40,11 @@ include!(concat!(env!("OUT_DIR"), "/offtimer.rs"));
 #[unsafe(no_mangle)]
 #[inline(never)]
 pub fn lenz_kernel_offtimer(
-    t: &TrackingOffTimer,
+    t: &TrackingOffTimerConfig,
     s: &mut OffTimerState,
     supply_mv: i32,
 ) -> OffStatus {
-    t.tick(s, supply_mv)
+    t.update(s, supply_mv)
 }
 
 /// The same tick written the straightforward way: the off-state decay with `exp(−T·R/L)`
@@ -67,7 +69,7 @@ pub fn lenz_naive_offtimer(p: &TrackingNaive, i_a: &mut f32, supply_mv: i32) -> 
     }
 }
 
-fn empty(_: &TrackingOffTimer, _: &mut OffTimerState, _: i32) -> OffStatus {
+fn empty(_: &TrackingOffTimerConfig, _: &mut OffTimerState, _: i32) -> OffStatus {
     OffStatus::NotYet
 }
 
@@ -120,4 +122,4 @@ pub const KERNEL: Kernel = Kernel {
 };
 
 // Named by the generated constants.
-const _: Option<(EstimatorConfig, OffPath)> = None;
+const _: Option<(EstimatorRaw, OffPath, TrackingOffTimerRaw)> = None;

@@ -1,6 +1,6 @@
-//! Planned off-timer: [`PlannedOffTimer::tick`], one tick of the count chosen at switch-off.
+//! Planned off-timer: [`PlannedOffTimerConfig::update`], one tick of the count chosen at switch-off.
 
-use lenz::kernel::{OffStatus, OffTimerState, PlannedOffTimer};
+use lenz::kernel::{OffStatus, OffTimerState, PlannedOffTimerConfig, PlannedOffTimerRaw};
 
 use super::{Checker, Kernel};
 use crate::bench::measure;
@@ -8,7 +8,7 @@ use crate::bench::measure;
 /// One generated sequence from an idle [`OffTimerState`].
 pub struct PlannedCase {
     /// Table (from the plan constructor on the host, or raw edge values).
-    pub timer: PlannedOffTimer,
+    pub timer: PlannedOffTimerConfig,
     /// Per tick: a switch-off current to start from (before the tick), and the host's status
     /// and remaining ticks after the tick.
     pub steps: &'static [(Option<i32>, OffStatus, u32)],
@@ -29,11 +29,11 @@ include!(concat!(env!("OUT_DIR"), "/offtimer_planned.rs"));
 #[unsafe(no_mangle)]
 #[inline(never)]
 pub fn lenz_kernel_offtimer_planned(
-    t: &PlannedOffTimer,
+    t: &PlannedOffTimerConfig,
     s: &mut OffTimerState,
     _: (),
 ) -> OffStatus {
-    t.tick(s)
+    t.update(s)
 }
 
 /// The same tick written the straightforward way: elapsed time in f32 seconds against the
@@ -49,7 +49,7 @@ pub fn lenz_naive_offtimer_planned(p: &PlannedNaive, elapsed_s: &mut f32, _: ())
     }
 }
 
-fn empty(_: &PlannedOffTimer, _: &mut OffTimerState, _: ()) -> OffStatus {
+fn empty(_: &PlannedOffTimerConfig, _: &mut OffTimerState, _: ()) -> OffStatus {
     OffStatus::NotYet
 }
 

@@ -1,6 +1,6 @@
-//! Trip detector: [`TripConfig::sample`], one ADC sample through every protection element.
+//! Trip detector: [`TripConfig::update`], one ADC sample through every protection element.
 
-use lenz::kernel::{Cause, InverseTable, TripConfig, TripEvent, TripState, Verdict};
+use lenz::kernel::{Cause, InverseTable, TripConfig, TripEvent, TripRaw, TripState, Verdict};
 
 use super::{Checker, Kernel};
 use crate::bench::measure;
@@ -59,7 +59,8 @@ pub struct NaiveState {
     tripped: bool,
 }
 
-const NAIVE_STATE: NaiveState = NaiveState {
+/// The straightforward detector at rest.
+pub const NAIVE_STATE: NaiveState = NaiveState {
     inverse: 0.0,
     theta: 0.0,
     history: 0,
@@ -74,7 +75,7 @@ include!(concat!(env!("OUT_DIR"), "/trip.rs"));
 #[unsafe(no_mangle)]
 #[inline(never)]
 pub fn lenz_kernel_trip(cfg: &TripConfig, s: &mut TripState, x: (u16, bool)) -> Verdict {
-    cfg.sample(s, x.0, x.1)
+    cfg.update(s, x.0, x.1)
 }
 
 /// The same elements written the straightforward way: the curve `TMS·(k/(M^α − 1) + c)` with
@@ -171,4 +172,4 @@ pub const KERNEL: Kernel = Kernel {
 };
 
 // Named by the generated constants.
-const _: Option<(InverseTable, TripEvent, Cause)> = None;
+const _: Option<(InverseTable, TripEvent, TripRaw, Cause)> = None;
