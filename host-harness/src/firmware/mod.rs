@@ -13,9 +13,11 @@
 //! are reported with the exact packages to install ([`Missing`]).
 
 pub mod budget;
+pub mod c_vectors;
 pub mod cost;
 pub mod disasm;
 mod toolchain;
+pub mod vectors;
 
 use std::io::Read;
 use std::path::{Path, PathBuf};
