@@ -198,3 +198,26 @@ fn size_checks_stop_a_compiler_with_another_layout() {
         .expect_err("a packed layout must fail the size checks");
     assert!(err.contains("lenz_size_of_LenzOffPath"), "{err}");
 }
+
+/// The README's "From C" example compiles as strict C99 against the committed header.
+#[test]
+fn readme_c_example_compiles() {
+    let readme =
+        std::fs::read_to_string(crate_dir().join("..").join("README.md")).expect("read README.md");
+    let section = readme
+        .split("## From C")
+        .nth(1)
+        .expect("README has a \"From C\" section");
+    let code = section
+        .split("```c\n")
+        .nth(1)
+        .and_then(|c| c.split("```").next())
+        .expect("the section has a C block");
+    assert!(code.contains("lenz_estimator_update"), "{code}");
+    gcc(
+        "readme",
+        code,
+        &["-std=c99", "-Wall", "-Wextra", "-Werror", "-pedantic"],
+    )
+    .unwrap_or_else(|e| panic!("the README's C example does not compile:\n{e}"));
+}

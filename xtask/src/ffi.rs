@@ -309,3 +309,24 @@ pub fn checks() -> Result<(), String> {
     }
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::is_panic;
+
+    #[test]
+    fn panic_machinery_is_recognised() {
+        for name in [
+            "core::panicking::panic_bounds_check",
+            "rust_begin_unwind",
+            "core::slice::index::slice_end_index_len_fail",
+            "core::result::unwrap_failed",
+            "core::panicking::panic_const::panic_const_add_overflow",
+        ] {
+            assert!(is_panic(name), "{name}");
+        }
+        for name in ["lenz_trip_update", "__aeabi_lmul", "memcpy"] {
+            assert!(!is_panic(name), "{name}");
+        }
+    }
+}
