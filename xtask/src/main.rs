@@ -9,9 +9,12 @@
 //!    intra-doc links fail)
 //! 6. the target checks ([`target`]): Cortex-M builds of lenz, the on-target test image under
 //!    qemu, the disassembly check and the cost budget
+//! 7. the C API's checks ([`ffi`]): `liblenz_ffi.a` for the Cortex-M targets, the C firmware
+//!    example on the vectors under qemu, the no-panic link check and the code sizes
 //!
 //! `cargo test --workspace` alone stays the quick host-only run.
 
+mod ffi;
 mod target;
 
 use std::path::{Path, PathBuf};
@@ -86,6 +89,7 @@ fn test() -> Result<(), String> {
         &[("RUSTDOCFLAGS", "-D warnings")],
     )?;
     target::checks()?;
+    ffi::checks()?;
     Ok(())
 }
 
@@ -103,7 +107,9 @@ fn main() -> ExitCode {
             }
             r
         }
-        _ => Err("usage: cargo xtask test".to_string()),
+        // The C API's target checks alone (they need the firmware tools `test` installs).
+        Some("ffi") => ffi::checks(),
+        _ => Err("usage: cargo xtask test | cargo xtask ffi".to_string()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -26,14 +26,14 @@ fn timed<T>(name: &str, f: impl FnOnce() -> Result<T, String>) -> Result<T, Stri
     Ok(r)
 }
 
-fn is_root() -> bool {
+pub(crate) fn is_root() -> bool {
     Command::new("id")
         .arg("-u")
         .output()
         .is_ok_and(|o| String::from_utf8_lossy(&o.stdout).trim() == "0")
 }
 
-fn apt_get(args: &[&str]) -> Result<(), String> {
+pub(crate) fn apt_get(args: &[&str]) -> Result<(), String> {
     println!("xtask: apt-get {}", args.join(" "));
     let status = Command::new("apt-get")
         .args(args)

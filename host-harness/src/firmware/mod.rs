@@ -13,16 +13,18 @@
 //! are reported with the exact packages to install ([`Missing`]).
 
 pub mod budget;
+pub mod c_vectors;
 pub mod cost;
 pub mod disasm;
 mod toolchain;
+pub mod vectors;
 
 use std::io::Read;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-pub use toolchain::{Missing, Toolchain};
+pub use toolchain::{CCompiler, Missing, Toolchain};
 
 /// A Cortex-M target and the machine that emulates it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -118,6 +120,8 @@ pub enum Build {
     Check,
     /// The benchmark image (`cost`).
     Cost,
+    /// The C API's static library `liblenz_ffi.a` (package `lenz-ffi` of the workspace).
+    Ffi,
 }
 
 impl Build {
@@ -127,23 +131,33 @@ impl Build {
             Build::Lenz { defmt: true } => "lenz (defmt)",
             Build::Check => "on-target test image",
             Build::Cost => "benchmark image",
+            Build::Ffi => "C API static library",
         }
     }
 }
 
 /// Builds `what` for `target` in release mode (the images' profile: `opt-level = "s"`, one
-/// codegen unit) and returns the image path (the folder of the library for [`Build::Lenz`]).
+/// codegen unit) and returns the image path (the folder of the library for [`Build::Lenz`],
+/// the archive for [`Build::Ffi`]).
 ///
 /// # Errors
 ///
 /// The build failed (its output was shown on the terminal).
 pub fn build(tc: &Toolchain, target: Target, what: Build) -> Result<PathBuf, String> {
     let mut cmd = tc.cargo_command(target);
+    // The C API is a member of the host workspace (its profile set to the images' here).
+    let manifest = if what == Build::Ffi {
+        cmd.env("CARGO_PROFILE_RELEASE_OPT_LEVEL", "s")
+            .env("CARGO_PROFILE_RELEASE_CODEGEN_UNITS", "1");
+        workspace_root().join("Cargo.toml")
+    } else {
+        images_dir().join("Cargo.toml")
+    };
     cmd.arg("build")
         .arg("--quiet")
         .arg("--release")
         .arg("--manifest-path")
-        .arg(images_dir().join("Cargo.toml"))
+        .arg(manifest)
         .args(["--target", target.triple()]);
     match what {
         // Features can be chosen only for the images' own package: its `defmt` feature turns
@@ -159,6 +173,9 @@ pub fn build(tc: &Toolchain, target: Target, what: Build) -> Result<PathBuf, Str
         }
         Build::Cost => {
             cmd.args(["--bin", "cost"]);
+        }
+        Build::Ffi => {
+            cmd.args(["-p", "lenz-ffi", "--lib"]);
         }
     }
     let status = cmd
@@ -176,6 +193,7 @@ pub fn build(tc: &Toolchain, target: Target, what: Build) -> Result<PathBuf, Str
         Build::Lenz { .. } => dir,
         Build::Check => dir.join("check"),
         Build::Cost => dir.join("cost"),
+        Build::Ffi => dir.join("liblenz_ffi.a"),
     })
 }
 
@@ -308,7 +326,15 @@ pub fn check_on_target(tc: &Toolchain, target: Target) -> Result<Vec<KernelCheck
     parse_check(target, &out)
 }
 
-fn parse_check(target: Target, out: &RunOutput) -> Result<Vec<KernelCheck>, String> {
+/// Reads the report of an image that checks vectors (`kernel=… vectors=… failures=…
+/// state_bytes=…` per kernel, `FAIL …` lines, `DONE failures=…`): the target images'
+/// `check` and the C example.
+///
+/// # Errors
+///
+/// A difference, a failed run or an incomplete report; the message holds the `FAIL` lines
+/// or, without any, everything the image printed.
+pub fn parse_check(target: Target, out: &RunOutput) -> Result<Vec<KernelCheck>, String> {
     let lines: Vec<&str> = out.console.lines().collect();
     let fails: Vec<&str> = lines
         .iter()

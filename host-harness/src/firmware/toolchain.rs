@@ -13,6 +13,9 @@ pub const APT_QEMU: &str = "qemu-system-arm";
 /// Debian package of `arm-none-eabi-objdump` and `arm-none-eabi-nm`.
 pub const APT_BINUTILS: &str = "binutils-arm-none-eabi";
 
+/// Debian package of `arm-none-eabi-gcc` (the C firmware example of the C API).
+pub const APT_GCC: &str = "gcc-arm-none-eabi";
+
 /// Where Debian's `rustc-web` and `cargo-web` install their programs.
 const DEBIAN_RUSTC: &str = "/usr/bin/rustc";
 const DEBIAN_CARGO: &str = "/usr/bin/cargo";
@@ -260,5 +263,44 @@ impl Toolchain {
             ]);
         }
         cmd
+    }
+}
+
+/// The C cross compiler of the C firmware example, and `size` for its code size.
+#[derive(Debug, Clone)]
+pub struct CCompiler {
+    /// `arm-none-eabi-gcc`.
+    pub gcc: PathBuf,
+    /// `arm-none-eabi-size`.
+    pub size: PathBuf,
+}
+
+impl CCompiler {
+    /// Finds `arm-none-eabi-gcc` and `arm-none-eabi-size` on `PATH`.
+    ///
+    /// # Errors
+    ///
+    /// [`Missing`] names what is missing and the Debian packages that provide it.
+    pub fn detect() -> Result<CCompiler, Missing> {
+        let mut m = Missing {
+            what: Vec::new(),
+            apt_packages: Vec::new(),
+            other: Vec::new(),
+        };
+        let gcc = which("arm-none-eabi-gcc");
+        if gcc.is_none() {
+            m.what
+                .push("arm-none-eabi-gcc (the C example of the C API)".into());
+            m.apt_packages.push(APT_GCC);
+        }
+        let size = which("arm-none-eabi-size");
+        if size.is_none() {
+            m.what.push("arm-none-eabi-size".into());
+            m.apt_packages.push(APT_BINUTILS);
+        }
+        match (gcc, size) {
+            (Some(gcc), Some(size)) => Ok(CCompiler { gcc, size }),
+            _ => Err(m),
+        }
     }
 }
