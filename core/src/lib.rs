@@ -4,6 +4,7 @@
 pub mod boost;
 pub mod bounds;
 pub mod coil;
+pub mod drive;
 mod error;
 pub mod kernel;
 #[cfg(test)]

@@ -703,7 +703,12 @@ mod tests {
         assert_eq!(DutyLimiterConfig::from_raw(c.raw()), *c);
         let r = c.raw();
         assert_eq!(
-            (c.vin_lo_counts(), c.vin_hi_counts(), c.shift(), c.min_off_q8()),
+            (
+                c.vin_lo_counts(),
+                c.vin_hi_counts(),
+                c.shift(),
+                c.min_off_q8()
+            ),
             (r.vin_lo_counts, r.vin_hi_counts, r.shift, r.min_off_q8)
         );
         assert_eq!(

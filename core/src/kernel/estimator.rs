@@ -365,8 +365,8 @@ mod tests {
     /// The raw values carry every field, and `from_raw` is usable in a constant.
     #[test]
     fn raw_round_trip() {
-        let cfg = EstimatorConfig::with_clamp(&reference_coil(), 60.0, 100e-6, 10.0, 24.7, true)
-            .unwrap();
+        let cfg =
+            EstimatorConfig::with_clamp(&reference_coil(), 60.0, 100e-6, 10.0, 24.7, true).unwrap();
         assert_eq!(EstimatorConfig::from_raw(cfg.raw()), cfg);
         const C: EstimatorConfig = EstimatorConfig::from_raw(EstimatorRaw {
             on_step_q31: 1,

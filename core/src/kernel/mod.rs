@@ -21,6 +21,8 @@ pub use duty::{
 };
 pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorRaw, EstimatorState, OffPath};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorRaw, MonitorState, SenseScale};
+// The clamp's off path (extra resistance, voltage, supply coupling), shared with the drivers.
+pub(crate) use offtimer::off_path_of;
 pub use offtimer::{
     OffStatus, OffTimerState, PLANNED_TABLE_LEN, PlannedOffTimerConfig, PlannedOffTimerRaw,
     TrackingOffTimerConfig, TrackingOffTimerRaw,

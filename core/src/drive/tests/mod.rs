@@ -1,0 +1,5 @@
+//! Tests of the drivers: transactions on mocked outputs, the hold estimate against an f64
+//! simulation of the PWM-held coil, faults, and properties over arbitrary readings.
+
+mod hold_accuracy;
+mod support;
