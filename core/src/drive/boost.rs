@@ -69,7 +69,7 @@ impl BoostLoopState {
 /// # Memory
 ///
 /// RAM per channel: the state ([`BoostLoopState`], 24 bytes), the output handle `S` and the
-/// configuration handle `C` (a reference, or the configuration, 432 bytes).
+/// configuration handle `C` (a reference, or the configuration, 424 bytes).
 ///
 /// # Examples
 ///

@@ -129,8 +129,10 @@ impl Default for CoilDriverState {
 /// # Memory
 ///
 /// RAM per channel: the state ([`CoilDriverState`], 112 bytes), the output handle `S`, the
-/// configuration handle `C` (a reference: one pointer; or the configuration itself, 920 bytes,
-/// most of it the trip detector's table), and 8 bytes of PWM resolution and hold duty.
+/// configuration handle `C` (a reference: one pointer; or the configuration itself, 852 bytes,
+/// most of it the trip detector's table), and 10 bytes of PWM resolution and hold duty,
+/// padded to a multiple of 8 (128 bytes in all with a reference and a zero-sized output on a
+/// 32-bit target).
 /// The configuration is best kept in flash and shared:
 /// `CoilDriver::new(&CONFIG, pwm)` with `static CONFIG: CoilDriverConfig =
 /// CoilDriverConfig::from_raw(...)`.

@@ -33,8 +33,8 @@
 //!
 //! | Driver | State | Configuration (shareable, flash) |
 //! |---|---|---|
-//! | [`CoilDriver`] | [`CoilDriverState`]: 112 bytes, plus the output handle, the configuration handle and 8 bytes (PWM resolution, hold duty) | [`CoilDriverConfig`]: 920 bytes |
-//! | [`BoostLoop`] | [`BoostLoopState`]: 24 bytes, plus the output and configuration handles | [`BoostLoopConfig`]: 432 bytes |
+//! | [`CoilDriver`] | [`CoilDriverState`]: 112 bytes, plus the output handle, the configuration handle and 10 bytes (PWM resolution, hold duty), padded to 8: 128 bytes with a reference on a 32-bit target | [`CoilDriverConfig`]: 852 bytes |
+//! | [`BoostLoop`] | [`BoostLoopState`]: 24 bytes, plus the output and configuration handles | [`BoostLoopConfig`]: 424 bytes |
 //!
 //! (Sizes asserted by unit tests; a reference as the configuration handle is one pointer.)
 //!
