@@ -129,3 +129,61 @@ proptest! {
         }
     }
 }
+
+fn any_f32() -> impl Strategy<Value = f32> {
+    prop_oneof![
+        any::<f32>(),
+        Just(f32::NAN),
+        Just(f32::INFINITY),
+        Just(-0.0f32),
+        Just(f32::MIN_POSITIVE / 2.0),
+        -1.0e3f32..1.0e3,
+    ]
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    /// The plan constructors over arbitrary f32 (NaN, ±inf, subnormals, huge): an error naming
+    /// a parameter, or a configuration that drives without panic.
+    #[test]
+    fn plans_never_panic(
+        which in 0usize..12, v in any_f32(), w in any_f32(), clamp in 0usize..4,
+        regulated in any::<bool>(),
+    ) {
+        let c = clamps()[clamp];
+        let mut p = params(c, if regulated { current_hold() } else { duty_hold(&c) });
+        match which {
+            0 => p.temp_c = v,
+            1 => p.tick_s = v,
+            2 => p.release_a = v,
+            3 => p.pull_in_a = v,
+            4 => { p.pull_in_min_s = v; p.pull_in_max_s = w; }
+            5 => p.pwm_frequency_hz = v,
+            6 => p.supply_v_per_count = v,
+            7 => p.supply_zero_counts = v,
+            8 => p.hold = crate::drive::Hold::Duty { duty: v },
+            9 => p.hold = crate::drive::Hold::Current {
+                current_a: v, kp_per_a: w, ki_per_a_tick: 0.01,
+            },
+            10 => { p.monitor.abs_tol_a = v; p.monitor.rel_tol = w; }
+            _ => p.supply_v = match crate::bounds::Range::new("supply_v", v, w) {
+                Ok(r) => r,
+                Err(_) => return Ok(()),
+            },
+        }
+        match CoilDriverConfig::new(&p) {
+            Err(e) => prop_assert!(!e.param().is_empty()),
+            Ok(cfg) => {
+                prop_assert!(cfg.hold().error_bound_ua() >= 0);
+                let mut drv = CoilDriver::new(&cfg, RecordingPwm::new(1000));
+                if let Ok(drv) = drv.as_mut() {
+                    for k in 0..300u16 {
+                        let s = CoilSense { current_counts: k * 3, supply_counts: 2400 };
+                        drv.update(k < 200, s).unwrap();
+                    }
+                }
+            }
+        }
+    }
+}
