@@ -110,24 +110,28 @@ impl BoostLoopConfig {
     }
 
     /// The duty limiter.
+    #[inline]
     #[must_use]
     pub const fn limiter(&self) -> &DutyLimiterConfig {
         &self.limiter
     }
 
     /// The output reading of the wanted voltage, counts.
+    #[inline]
     #[must_use]
     pub const fn target_counts(&self) -> u16 {
         self.target_counts
     }
 
     /// Proportional gain, duty counts per output count, Q16.
+    #[inline]
     #[must_use]
     pub const fn kp_q16(&self) -> i32 {
         self.kp_q16
     }
 
     /// Integral gain, duty counts per output count per tick, Q16.
+    #[inline]
     #[must_use]
     pub const fn ki_q16(&self) -> i32 {
         self.ki_q16

@@ -382,90 +382,105 @@ impl CoilDriverConfig {
     }
 
     /// The off-timer (with the coil's estimator).
+    #[inline]
     #[must_use]
     pub const fn off_timer(&self) -> &TrackingOffTimerConfig {
         &self.off_timer
     }
 
     /// The coil's estimator: on path for the pull-in, the clamp's off path for the decay.
+    #[inline]
     #[must_use]
     pub const fn estimator(&self) -> &EstimatorConfig {
         self.off_timer.estimator()
     }
 
     /// The hold estimator.
+    #[inline]
     #[must_use]
     pub const fn hold(&self) -> &HoldEstimatorConfig {
         &self.hold
     }
 
     /// The plausibility monitor.
+    #[inline]
     #[must_use]
     pub const fn monitor(&self) -> &MonitorConfig {
         &self.monitor
     }
 
     /// The trip detector.
+    #[inline]
     #[must_use]
     pub const fn trip(&self) -> &TripConfig {
         &self.trip
     }
 
     /// Supply reading at 0 V, counts.
+    #[inline]
     #[must_use]
     pub const fn supply_zero_counts(&self) -> u16 {
         self.supply_zero_counts
     }
 
     /// Supply per count, mV, Q16.
+    #[inline]
     #[must_use]
     pub const fn supply_mv_per_count_q16(&self) -> i32 {
         self.supply_mv_per_count_q16
     }
 
     /// Pull-in current, µA.
+    #[inline]
     #[must_use]
     pub const fn pull_in_ua(&self) -> i32 {
         self.pull_in_ua
     }
 
     /// What must reach the pull-in current.
+    #[inline]
     #[must_use]
     pub const fn pull_in_source(&self) -> PullInSource {
         self.pull_in_source
     }
 
     /// Shortest pull-in, ticks.
+    #[inline]
     #[must_use]
     pub const fn pull_in_min_ticks(&self) -> u32 {
         self.pull_in_min_ticks
     }
 
     /// Longest pull-in, ticks.
+    #[inline]
     #[must_use]
     pub const fn pull_in_max_ticks(&self) -> u32 {
         self.pull_in_max_ticks
     }
 
     /// Fixed duty or regulated current.
+    #[inline]
     #[must_use]
     pub const fn hold_mode(&self) -> HoldMode {
         self.hold_mode
     }
 
     /// Hold current of the regulation, µA.
+    #[inline]
     #[must_use]
     pub const fn hold_current_ua(&self) -> i32 {
         self.hold_current_ua
     }
 
     /// Proportional gain of the regulation, Q32 duty per µA.
+    #[inline]
     #[must_use]
     pub const fn hold_kp_q32(&self) -> i32 {
         self.hold_kp_q32
     }
 
     /// Integral gain of the regulation, Q32 duty per µA per tick.
+    #[inline]
     #[must_use]
     pub const fn hold_ki_q32(&self) -> i32 {
         self.hold_ki_q32

@@ -401,30 +401,35 @@ impl HoldEstimatorConfig {
     }
 
     /// `1 − exp(−T·R_ref/L)`, Q31.
+    #[inline]
     #[must_use]
     pub const fn step_q31(&self) -> i32 {
         self.averaged.off_path().step_q31
     }
 
     /// `1/R_ref`, µA per mV, Q16.
+    #[inline]
     #[must_use]
     pub const fn conductance_q16(&self) -> i32 {
         self.averaged.off_path().conductance_q16
     }
 
     /// The reference duty `D_ref`, Q16 fraction.
+    #[inline]
     #[must_use]
     pub const fn reference_duty_q16(&self) -> u32 {
         self.reference_duty_q16
     }
 
     /// `R_on − R_off`, mV per µA, Q24.
+    #[inline]
     #[must_use]
     pub const fn delta_r_q24(&self) -> i32 {
         self.delta_r_q24
     }
 
     /// The bound of the estimate's error in hold, µA ([`HoldEstimatorConfig`] docs).
+    #[inline]
     #[must_use]
     pub const fn error_bound_ua(&self) -> i32 {
         self.error_bound_ua

@@ -256,3 +256,47 @@ fn new_hands_the_output_back() {
         out.done();
     }
 }
+
+/// Pull-in on the measured current: it ends at the first reading at or above the pull-in
+/// current after the minimum time, or at the maximum time (flagged) if none comes.
+#[test]
+fn measured_pull_in_ends_on_the_reading_or_times_out() {
+    let mut p = params(ZENER, duty_hold(&ZENER));
+    p.pull_in_source = crate::drive::PullInSource::Measured;
+    let cfg = CoilDriverConfig::new(&p).unwrap();
+    let reading = |i: f64| CoilSense {
+        current_counts: counts_of(i),
+        supply_counts: supply_counts(24.0),
+    };
+    // The reading follows the estimate but never exceeds 0.3 A (a sense that reads low): no
+    // pull-in current is measured, so the hold comes at the 50 ms maximum (500 ticks).
+    let mut drv = CoilDriver::new(&cfg, RecordingPwm::new(1000)).unwrap();
+    let mut first_hold = None;
+    for k in 0..600 {
+        let mut s = perfect(&drv);
+        s.current_counts = s.current_counts.min(counts_of(0.3));
+        if drv.update(true, s).unwrap() == CoilPhase::Hold && first_hold.is_none() {
+            first_hold = Some(k);
+        }
+    }
+    assert_eq!(drv.fault(), None);
+    assert_eq!(first_hold, Some(500));
+    assert!(drv.pull_in_timed_out());
+    // 0.5 A measured from tick 25 on (after the 20-tick minimum): hold at once.
+    let mut drv = CoilDriver::new(&cfg, RecordingPwm::new(1000)).unwrap();
+    let mut first_hold = None;
+    for k in 0..30 {
+        let s = if k < 25 { perfect(&drv) } else { reading(0.5) };
+        let s = if k < 25 && s.current_counts > counts_of(0.44) {
+            reading(0.44)
+        } else {
+            s
+        };
+        if drv.update(true, s).unwrap() == CoilPhase::Hold && first_hold.is_none() {
+            first_hold = Some(k);
+        }
+    }
+    assert_eq!(first_hold, Some(25));
+    assert!(!drv.pull_in_timed_out());
+    assert_eq!(drv.fault(), None);
+}
