@@ -285,7 +285,7 @@ fn measured_pull_in_ends_on_the_reading_or_times_out() {
     // 0.5 A measured from tick 25 on (after the 20-tick minimum): hold at once.
     let mut drv = CoilDriver::new(&cfg, RecordingPwm::new(1000)).unwrap();
     let mut first_hold = None;
-    for k in 0..30 {
+    for k in 0..26 {
         let s = if k < 25 { perfect(&drv) } else { reading(0.5) };
         let s = if k < 25 && s.current_counts > counts_of(0.44) {
             reading(0.44)
