@@ -5,6 +5,7 @@ pub mod armature;
 pub mod boost;
 pub mod bounds;
 pub mod coil;
+pub mod drive;
 mod error;
 pub mod kernel;
 pub mod motor;

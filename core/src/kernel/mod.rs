@@ -88,6 +88,8 @@ pub use estimator::{CURRENT_LIMIT_UA, EstimatorConfig, EstimatorRaw, EstimatorSt
 pub use jam::{JamConfig, JamParams, JamRaw, JamState, JamStatus, MotorFault};
 pub use monitor::{Fault, MonitorConfig, MonitorParams, MonitorRaw, MonitorState, SenseScale};
 pub use movement::{Motion, MovementConfig, MovementParams, MovementRaw, MovementState};
+// The clamp's off path (extra resistance, voltage, supply coupling), shared with the drivers.
+pub(crate) use offtimer::off_path_of;
 pub use offtimer::{
     OffStatus, OffTimerState, PLANNED_TABLE_LEN, PlannedOffTimerConfig, PlannedOffTimerRaw,
     TrackingOffTimerConfig, TrackingOffTimerRaw,

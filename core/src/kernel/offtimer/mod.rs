@@ -14,6 +14,8 @@ mod tests;
 pub use planned::{PLANNED_TABLE_LEN, PlannedOffTimerConfig, PlannedOffTimerRaw};
 pub use state::{OffStatus, OffTimerState};
 pub use tracking::{TrackingOffTimerConfig, TrackingOffTimerRaw};
+// The clamp's off path (extra resistance, voltage, supply coupling), shared with the drivers.
+pub(crate) use tracking::off_path_of;
 
 /// Largest threshold or breakpoint current, µA (the estimator's range).
 const CURRENT_LIMIT_UA: i32 = super::estimator::CURRENT_LIMIT_UA;

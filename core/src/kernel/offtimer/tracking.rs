@@ -14,7 +14,7 @@ use crate::turnoff::Clamp;
 
 /// Off-path arguments of [`EstimatorConfig::with_clamp`] for a clamp kind:
 /// `(extra resistance Ω, clamp voltage V, supply coupled)`.
-fn off_path_of(clamp: &Clamp) -> Result<(f32, f32, bool), Error> {
+pub(crate) fn off_path_of(clamp: &Clamp) -> Result<(f32, f32, bool), Error> {
     Ok(match *clamp {
         Clamp::Diode { forward_v } => (0.0, forward_v, false),
         Clamp::Zener { zener_v, forward_v } => (0.0, zener_v + forward_v, false),

@@ -1,0 +1,9 @@
+//! Tests of the drivers: transactions on mocked outputs, the hold estimate against an f64
+//! simulation of the PWM-held coil, faults, and properties over arbitrary readings.
+
+mod boost;
+mod faults;
+mod hold_accuracy;
+mod props;
+mod support;
+mod transactions;
