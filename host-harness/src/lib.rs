@@ -1,7 +1,8 @@
 //! `lenz-harness`: the host side of lenz. The `lenz` binary's commands (quick calculations,
 //! plans, the demo) live in [`cli`]; values with SI prefixes are read by [`si`]. The plant
 //! simulator is [`plant`], the closed loop that runs firmware against it is [`closed_loop`]
-//! (faults in [`faults`]), and example firmware built from the kernels is in [`controllers`].
+//! (faults in [`faults`]), and example firmware built from the kernels is in [`controllers`]: the `lenz::drive`
+//! drivers on the simulated embedded-hal outputs of [`sim_pins`].
 
 pub mod cli;
 pub mod closed_loop;
@@ -14,4 +15,5 @@ pub mod plant;
 pub mod report;
 pub mod scenario;
 pub mod si;
+pub mod sim_pins;
 pub mod sweep;

@@ -28,7 +28,8 @@ use super::schema::{
 };
 use crate::closed_loop::{self, AdcChannel, Band, Limits, LoopConfig, Release, RunResult, Sensors};
 use crate::controllers::{
-    BoostPlan, BoostRegulator, BoostRegulatorConfig, ValveDriver, ValveDriverConfig, ValvePlan,
+    BoostPlan, BoostRegulator, BoostRegulatorConfig, PULL_IN_GRACE_S, PWM_MAX_DUTY, ValveDriver,
+    ValveDriverConfig, ValvePlan,
 };
 use crate::faults::{Channel, Fault, FaultAt};
 use crate::plant::{
@@ -479,15 +480,26 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
         .map_err(lenz_err("system.coil"))?;
     let nominal = sensors(file, &Params::NOMINAL, false);
     let m = &c.monitor;
+    let supply_v = lenz::Range::new(
+        "supply_v",
+        s.supply.min.get() as f32,
+        s.supply.max.get() as f32,
+    )
+    .map_err(lenz_err("system.supply"))?;
+    let pull_in_min_s = c.pull_in_min_time.get() as f32;
     ValveDriverConfig::new(&ValvePlan {
         coil: model,
         temp_c: temp_c as f32,
         tick_s: s.tick.get() as f32,
         clamp,
+        supply_v,
         release_a: coil.release_current.get() as f32,
         pull_in_a: c.pull_in_current.get() as f32,
-        pull_in_min_s: c.pull_in_min_time.get() as f32,
+        pull_in_min_s,
+        pull_in_max_s: pull_in_min_s + PULL_IN_GRACE_S,
         hold_duty: c.hold_duty.get() as f32,
+        pwm_frequency_hz: s.pwm_frequency.get() as f32,
+        pwm_max_duty: PWM_MAX_DUTY,
         current_adc: nominal.current,
         supply_adc: nominal.supply,
         monitor: lenz::kernel::MonitorParams {
@@ -675,7 +687,8 @@ pub fn run(
         super::Controller::Coil(_) => {
             let mut plant = coil_plant(file, p, &pt)?;
             plant.set_record_events(false);
-            let mut ctrl = ValveDriver::new(coil_driver(file, pt.temp_c)?);
+            let mut ctrl = ValveDriver::new(coil_driver(file, pt.temp_c)?)
+                .map_err(|e| RunSetupError(format!("controller.coil: {e}")))?;
             closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
         }
         super::Controller::Boost(c) => {
@@ -688,7 +701,8 @@ pub fn run(
             // The input was up before the rail is enabled: the output starts precharged
             // through the diode.
             plant.settle_off();
-            let mut ctrl = BoostRegulator::new(boost_regulator(file, b, c)?);
+            let mut ctrl = BoostRegulator::new(boost_regulator(file, b, c)?)
+                .map_err(|e| RunSetupError(format!("controller.boost: {e}")))?;
             closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
         }
     }
