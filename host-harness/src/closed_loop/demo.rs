@@ -252,28 +252,6 @@ pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
     )
 }
 
-/// [`valve_driver`] with the firmware's view of another clamp.
-///
-/// # Errors
-///
-/// The plan errors of [`ValveDriverConfig::new`].
-pub fn valve_driver_with_clamp(
-    temp_c: f32,
-    clamp: lenz::turnoff::Clamp,
-) -> Result<ValveDriverConfig, Error> {
-    driver_plan_with_clamp(
-        VALVE_INDUCTANCE_H as f32,
-        VALVE_RESISTANCE_OHM as f32,
-        temp_c,
-        0.54,
-        0.45,
-        2.0,
-        0.075,
-        VALVE_SUPPLY_RANGE_V,
-        clamp,
-    )
-}
-
 /// The valve's limits: switch rated 60 V and 10 mJ per switch-off, clamp diode 100 mJ, 10 A
 /// pulse current, trip within 10 ms, release to 75 mA (10 % of 0.75 A) within 12 ms,
 /// estimator within 30 mA.
