@@ -64,3 +64,38 @@ fn the_valve_file_with_every_clamp_kind() {
         }
     }
 }
+
+/// A hold the driver cannot average is refused before anything runs, in the file's keys: a
+/// 45 % duty against a 24 V zener drives the mean current below zero (the coil current would
+/// stop in every PWM period), and a monitor tolerance below the hold estimate's bound would
+/// trip on the averaging alone.
+#[test]
+fn holds_the_driver_cannot_average_are_errors_in_the_files_keys() {
+    let zener = with_clamp(
+        "diode-zener",
+        "diode_drop = \"0.7V\"\nzener = \"24V\"",
+        0.45,
+    );
+    let file = scenario::parse("zener.toml", &zener).unwrap();
+    let e = run::run(&file, 0, &run::Params::NOMINAL, run::Record::None).unwrap_err();
+    assert!(
+        e.0.starts_with("controller.coil.hold_duty: 0.45 does not keep the current flowing"),
+        "{e}"
+    );
+    // At the lowest supply: (0.45·21.6 V − 0.55·24.7 V)/(0.45·32.11 Ω + 0.55·32 Ω) =
+    // −120.6 mA (computed: the averaged loop's steady state).
+    assert!(e.0.contains("mean current -120.6 mA"), "{e}");
+    let tight = with_clamp(
+        "diode-zener",
+        "diode_drop = \"0.7V\"\nzener = \"24V\"",
+        0.73,
+    )
+    .replacen("abs_tol = \"50mA\"", "abs_tol = \"1mA\"", 1)
+    .replacen("rel_tol = 0.2", "rel_tol = 0", 1);
+    let file = scenario::parse("tight.toml", &tight).unwrap();
+    let e = run::run(&file, 0, &run::Params::NOMINAL, run::Record::None).unwrap_err();
+    assert!(
+        e.0.starts_with("controller.coil.monitor.abs_tol: 1.000 mA is below"),
+        "{e}"
+    );
+}

@@ -513,7 +513,43 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
         },
         trip_threshold_a: c.trip_current.get() as f32,
     })
-    .map_err(lenz_err("controller.coil"))
+    .map_err(|e| coil_plan_err(c, e))
+}
+
+/// The coil driver's plan errors that name a derived quantity, in the file's keys; the others
+/// as the plan words them.
+fn coil_plan_err(c: &super::CoilController, e: lenz::Error) -> RunSetupError {
+    use crate::cmd::table::si;
+    match e {
+        // The hold estimator's continuous-conduction check: `value` is the smallest mean
+        // current over the supply range, `min` the PWM ripple it must exceed.
+        lenz::Error::OutOfRange {
+            param: "hold_duty",
+            value,
+            min,
+            max,
+        } if max > 1.0 => RunSetupError(format!(
+            "controller.coil.hold_duty: {} does not keep the current flowing through every PWM \
+             period with this clamp over the supply range (mean current {}, the PWM ripple \
+             needs more than {}): raise the duty",
+            c.hold_duty.get(),
+            si(f64::from(value), "A"),
+            si(f64::from(min), "A")
+        )),
+        lenz::Error::OutOfRange {
+            param: "abs_tol_a",
+            value,
+            min,
+            ..
+        } => RunSetupError(format!(
+            "controller.coil.monitor.abs_tol: {} is below what the PWM hold estimate's error \
+             bound needs with rel_tol {}: at least {}",
+            si(f64::from(value), "A"),
+            c.monitor.rel_tol.get(),
+            si(f64::from(min), "A")
+        )),
+        other => lenz_err("controller.coil")(other),
+    }
 }
 
 fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetupError> {
