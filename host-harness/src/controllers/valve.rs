@@ -200,3 +200,72 @@ impl Controller for ValveDriver {
         self.0.telemetry()
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::closed_loop::demo::{DIODE, sensors, valve_loop, valve_plant};
+
+    fn plan(hold_duty: f32, pwm_max_duty: u16) -> ValvePlan {
+        let s = sensors();
+        ValvePlan {
+            coil: lenz::CoilParams::new(0.120, 32.0)
+                .with_switch_resistance_ohm(0.1)
+                .with_shunt_resistance_ohm(0.010)
+                .validate()
+                .unwrap(),
+            temp_c: 20.0,
+            tick_s: 100e-6,
+            clamp: Clamp::Diode { forward_v: 0.7 },
+            supply_v: Range::new("supply_v", 21.6, 26.4).unwrap(),
+            release_a: 0.075,
+            pull_in_a: 0.54,
+            pull_in_min_s: 0.030,
+            pull_in_max_s: 0.060,
+            hold_duty,
+            pwm_frequency_hz: 20e3,
+            pwm_max_duty,
+            current_adc: s.current,
+            supply_adc: s.supply,
+            monitor: MonitorParams {
+                abs_tol_a: 0.05,
+                rel_tol: 0.2,
+                open_min_estimate_a: 0.1,
+                open_max_a: 0.02,
+                persistence: 3,
+                stuck_samples: 50,
+                stuck_min_change_a: 0.1,
+            },
+            trip_threshold_a: 2.0,
+        }
+    }
+
+    /// The PWM's resolution must set the hold duty within 1 % of full scale: 20 steps set
+    /// 0.45 exactly, 8 steps only 0.375 or 0.5, and 0 steps (raised to an on/off output) only 1.
+    #[test]
+    fn the_pwm_resolution_must_carry_the_hold_duty() {
+        assert!(ValveDriverConfig::new(&plan(0.45, 20)).is_ok());
+        for steps in [8, 0] {
+            let e = ValveDriverConfig::new(&plan(0.45, steps)).unwrap_err();
+            assert_eq!(e.param(), "hold_duty", "{steps} steps");
+        }
+        assert!(ValveDriverConfig::new(&plan(1.0, 1)).is_ok());
+    }
+
+    /// The duty register the driver writes in hold is the planned duty in the PWM's counts, and
+    /// the simulated channel hands it to the plant as that fraction.
+    #[test]
+    fn hold_duty_in_counts() {
+        let cfg = ValveDriverConfig::new(&plan(0.45, 20)).unwrap();
+        let mut v = ValveDriver::new(cfg).unwrap();
+        let mut plant = valve_plant(20.0, 24.0, DIODE);
+        let r = crate::closed_loop::run(
+            &mut plant,
+            &mut v,
+            &valve_loop(0.05, vec![(0.001, true)], vec![]),
+        )
+        .unwrap();
+        assert_eq!(v.driver().duty_counts(), 9);
+        assert_eq!(r.waveform.drive.last(), Some(&0.45));
+    }
+}

@@ -22,11 +22,8 @@ pub struct SimPwm {
 }
 
 impl SimPwm {
-    /// A working channel with resolution `max_duty_cycle` (at least 1).
-    ///
-    /// # Panics
-    ///
-    /// Never; a `max_duty_cycle` of 0 is raised to 1 (an on/off output).
+    /// A working channel with resolution `max_duty_cycle` (a 0 is taken as 1: an on/off
+    /// output).
     #[must_use]
     pub fn new(max_duty_cycle: u16) -> Self {
         Self::with_fault(max_duty_cycle, OutputFault::new())
