@@ -14,6 +14,7 @@
 
 pub mod budget;
 pub mod c_vectors;
+mod c_vectors_motion;
 pub mod cost;
 pub mod disasm;
 mod toolchain;
