@@ -181,13 +181,16 @@ pub mod boost_driver {
     use lenz::drive::{BoostLoopConfig, BoostLoopRaw};
     use lenz::kernel::DutyLimiterRaw;
 
+    /// One tick's inputs: enable, output failing, input and output readings (counts).
+    pub type Inputs = (bool, bool, u16, u16);
+
     /// One sequence from a new loop.
     pub struct Case {
         /// Settings.
         pub config: BoostLoopConfig,
         /// Per tick: inputs, the host's returned duty (`None`: an output error) and the duty
         /// written.
-        pub steps: &'static [((bool, bool, u16, u16), Option<u16>, u16)],
+        pub steps: &'static [(Inputs, Option<u16>, u16)],
     }
 
     include!(concat!(env!("OUT_DIR"), "/cases_boost_driver.rs"));
