@@ -3,12 +3,16 @@
 //! 1. the format of the target-only crate, and the prerequisites: the firmware toolchain, installed with apt-get when missing and running
 //!    as root on Debian, otherwise a stop with the exact packages to install (never skipped);
 //! 2. `lenz` built for thumbv6m-none-eabi, thumbv7m-none-eabi and thumbv7em-none-eabihf,
-//!    with no features and with `defmt`;
-//! 3. the on-target test image on each emulated core: every kernel on the host's vectors, bit
-//!    for bit (a difference fails naming the kernel and the vector);
-//! 4. the disassembly check: no soft-float and no division in any kernel's call graph (required
-//!    on thumbv6m, where both would be library calls; run on all three);
+//!    with no features and with `defmt` (the `drive` module has no feature gate: it is in both
+//!    builds, and its drivers are instantiated on a PWM in the images);
+//! 3. the on-target test images (`check`, `check2`) on each emulated core: every kernel and
+//!    driver tick on the host's vectors, bit for bit (a difference fails naming the kernel and
+//!    the vector);
+//! 4. the disassembly check: no soft-float and no division in any kernel's or driver tick's
+//!    call graph (required on thumbv6m, where both would be library calls; run on all three);
 //! 5. `lenz cost` on each core and the committed budget (`benches/target/budget.json`).
+//!
+//! `cargo xtask target` runs these steps alone.
 
 use std::path::Path;
 use std::process::Command;

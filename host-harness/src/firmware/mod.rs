@@ -2,8 +2,10 @@
 //! `qemu-system-arm`, the disassembly check and the cost measurement.
 //!
 //! Used by `lenz cost` and by the target checks of `cargo xtask test`. The images and the
-//! kernel table live in `benches/target` (see its `src/kernels/mod.rs`); this side knows no
-//! kernel by name except for the hard instruction caps in [`budget`].
+//! kernel table live in `benches/target` (see its `src/kernels/mod.rs`): the on-target test
+//! images [`CHECK_IMAGES`] and the benchmark image. This side knows no kernel by name except
+//! for the hard instruction caps in [`budget`] (and a driver's tick by its `_driver` suffix,
+//! for its state limit).
 //!
 //! # Toolchain
 //!
