@@ -9,7 +9,7 @@
 //!
 //! `--shard K/N` runs the contiguous slice `[(K−1)·R/N, K·R/N)` of the `R` runs. Every output
 //! carries its run records; [`merge`] checks that the shards belong to one sweep (same file
-//! contents, seed, run count and shard count, each shard exactly once), puts the records back
+//! contents, whatever the path's spelling, seed, run count and shard count, each shard exactly once), puts the records back
 //! in order and summarises them with the same code as an unsharded run, so the merged JSON is
 //! byte-for-byte the unsharded one.
 //!
@@ -228,7 +228,27 @@ pub fn run_one(
     Ok((p, results))
 }
 
+/// The properties of a run, in [`Key`] order.
+fn keys_of(file: &File, results: &[RunResult]) -> Vec<Key> {
+    let mut keys = Vec::new();
+    for (sc, r) in file.scenarios.iter().zip(results) {
+        for p in &r.properties {
+            keys.push(Key {
+                scenario: sc.name.clone(),
+                property: p.name.to_string(),
+                unit: p.unit.to_string(),
+                limit: p.limit,
+            });
+        }
+    }
+    keys
+}
+
 /// Runs the sweep; `tick` is called after every run (for a progress bar).
+///
+/// Memory: each run is reduced to its [`RunRecord`] (part values and one value per property)
+/// on the worker thread, so a run's waveforms, events and switch-offs are freed as soon as it
+/// ends; what grows with the number of runs is the records (a few hundred bytes each).
 ///
 /// # Errors
 ///
@@ -239,44 +259,32 @@ pub fn sweep(plan: &Plan<'_>, tick: &(dyn Fn() + Sync)) -> Result<Output, RunSet
         .num_threads(plan.jobs.max(1))
         .build()
         .map_err(|e| RunSetupError(format!("--jobs: cannot start the threads: {e}")))?;
-    let runs: Vec<(u64, Params, Vec<RunResult>)> = pool.install(|| {
+    // The property list is the same in every run (it depends on the file only): taken from
+    // the first run of the range.
+    let keys = std::sync::OnceLock::new();
+    let records: Vec<RunRecord> = pool.install(|| {
         range
             .into_par_iter()
-            .map(|i| {
-                let r = run_one(plan.file, plan.seed, i).map(|(p, res)| (i, p, res));
+            .map(|index| {
+                let r = run_one(plan.file, plan.seed, index).map(|(params, res)| {
+                    if index == range_start(plan) {
+                        let _ = keys.set(keys_of(plan.file, &res));
+                    }
+                    let props = || res.iter().flat_map(|r| r.properties.iter());
+                    RunRecord {
+                        index,
+                        params,
+                        values: props()
+                            .map(|p| Some(p.value).filter(|v| v.is_finite()))
+                            .collect(),
+                        pass: props().map(|p| p.pass).collect(),
+                    }
+                });
                 tick();
                 r
             })
             .collect::<Result<Vec<_>, _>>()
     })?;
-    let mut keys: Vec<Key> = Vec::new();
-    if let Some((_, _, res)) = runs.first() {
-        for (sc, r) in plan.file.scenarios.iter().zip(res) {
-            for p in &r.properties {
-                keys.push(Key {
-                    scenario: sc.name.clone(),
-                    property: p.name.to_string(),
-                    unit: p.unit.to_string(),
-                    limit: p.limit,
-                });
-            }
-        }
-    }
-    let records = runs
-        .into_iter()
-        .map(|(index, params, res)| {
-            let props: Vec<_> = res.iter().flat_map(|r| r.properties.iter()).collect();
-            RunRecord {
-                index,
-                params,
-                values: props
-                    .iter()
-                    .map(|p| Some(p.value).filter(|v| v.is_finite()))
-                    .collect(),
-                pass: props.iter().map(|p| p.pass).collect(),
-            }
-        })
-        .collect();
     Ok(summarise(
         plan.file_name,
         plan.file_hash,
@@ -284,9 +292,13 @@ pub fn sweep(plan: &Plan<'_>, tick: &(dyn Fn() + Sync)) -> Result<Output, RunSet
         plan.seed,
         plan.runs,
         plan.shard,
-        keys,
+        keys.into_inner().unwrap_or_default(),
         records,
     ))
+}
+
+fn range_start(plan: &Plan<'_>) -> u64 {
+    plan.shard.map_or(0, |s| s.range(plan.runs).start)
 }
 
 /// Builds the output from records (sorted here by index).
@@ -426,9 +438,12 @@ pub fn merge(parts: Vec<Output>) -> Result<Output, String> {
         if s.k == 0 || s.k > s.n {
             return Err(format!("shard {}/{}: needs 1 ≤ K ≤ N", s.k, s.n));
         }
-        if p.file_hash != hash || p.file != file {
+        // The file's contents decide, not how its path was spelled (`./a.toml`, `a.toml`, a
+        // CI runner's own checkout folder); the merged output names it as the first shard does.
+        if p.file_hash != hash {
             return Err(format!(
-                "shard {}/{} is of another file ({} {}) than the first ({file} {hash})",
+                "shard {}/{} is of another file ({}, contents {}) than the first ({file}, \
+                 contents {hash})",
                 s.k, s.n, p.file, p.file_hash
             ));
         }

@@ -36,10 +36,18 @@
 //! position is the value's own (or its table's, for checks across a table's values). Unknown
 //! keys, missing keys, values that are not numbers in the right unit and values out of range
 //! are all errors; nothing is silently ignored or clamped.
+//!
+//! # When events take effect
+//!
+//! A command takes effect at the first control tick at or after its time; a fault, supply
+//! change or load step at its exact time. An event that would have no effect (lost between
+//! ticks, at or after the end, setting the demand it already has) or a scenario that would
+//! simulate or measure nothing is an error at its position: see [`timing`].
 
 pub mod quantity;
 pub mod run;
 pub mod schema;
+pub mod timing;
 
 use std::fmt;
 use std::path::Path;
@@ -137,6 +145,17 @@ pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
     check_consistency(&parsed).map_err(|(key, needle, problem)| {
         let offset = needle.map_or(0, |n| locate(text, &n));
         at(offset, key, problem)
+    })?;
+    timing::check(&parsed).map_err(|t| {
+        let place = Place {
+            scenario: parsed
+                .scenarios
+                .get(t.scenario)
+                .map_or_else(String::new, |s| s.name.clone()),
+            table: t.table,
+            literal: None,
+        };
+        at(locate(text, &place), t.key, t.problem)
     })?;
     Ok(parsed)
 }
