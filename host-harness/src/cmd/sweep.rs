@@ -81,8 +81,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         .map(|d| Staged::prepare("--plot", d))
         .transpose()?;
     let name = a.file.display().to_string();
-    let bytes = std::fs::read(&a.file)
-        .map_err(|e| CliError(format!("{name}: cannot read the file: {e}")))?;
+    let bytes = crate::scenario::read(&a.file).map_err(|e| CliError(e.to_string()))?;
     let text = String::from_utf8(bytes.clone())
         .map_err(|_| CliError(format!("{name}: not UTF-8 text")))?;
     let file = crate::scenario::parse(&name, &text).map_err(|e| CliError(e.to_string()))?;
@@ -111,7 +110,8 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     } else {
         ProgressBar::hidden()
     };
-    let out = sweep::sweep(&plan, &|| bar.inc(1)).map_err(|e| CliError(format!("{name}: {e}")))?;
+    let out = sweep::sweep(&plan, a.json, &|| bar.inc(1))
+        .map_err(|e| CliError(format!("{name}: {e}")))?;
     bar.finish_and_clear();
     report(&out, a.json, plot)
 }
@@ -191,7 +191,7 @@ fn report(out: &Output, json: bool, plot: Option<Staged>) -> Result<ExitCode, Cl
         }
         stage.commit()?;
     }
-    let done = out.records.len() as u64;
+    let done = out.summary.first().map_or(0, |s| s.runs);
     let ok = out.all_passed == done;
     if json {
         outln!(
