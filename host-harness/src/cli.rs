@@ -3,7 +3,7 @@
 //! Exit codes: 0 success; 1 a checked property failed (simulation commands); 2 bad or
 //! unreachable input, reported as one line on stderr naming the parameter and the problem,
 //! with nothing on stdout. A command's stdout is written once it has finished (see
-//! [`crate::out`]): when the reader has gone (a closed pipe) the rest is dropped quietly and the
+//! `out.rs`): when the reader has gone (a closed pipe) the rest is dropped quietly and the
 //! exit code stays the command's; any other write error is exit 2 with a message.
 
 use std::fmt;

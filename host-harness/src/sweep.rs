@@ -9,9 +9,9 @@
 //!
 //! `--shard K/N` runs the contiguous slice `[(K−1)·R/N, K·R/N)` of the `R` runs. Every output
 //! carries its run records; [`merge`] checks that the shards belong to one sweep (same file
-//! contents, whatever the path's spelling, seed, run count and shard count, each shard exactly once), puts the records back
-//! in order and summarises them with the same code as an unsharded run, so the merged JSON is
-//! byte-for-byte the unsharded one.
+//! contents, whatever the path's spelling; seed, run count and shard count; each shard exactly
+//! once), puts the records back in order and summarises them with the same code as an
+//! unsharded run, so the merged JSON is byte-for-byte the unsharded one.
 //!
 //! # Summary
 //!
@@ -182,7 +182,7 @@ pub struct Output {
     pub all_passed: u64,
     /// Per property.
     pub summary: Vec<PropertySummary>,
-    /// The runs (of this shard), in index order.
+    /// The runs (of this shard), in index order (empty from [`sweep_summary`]).
     pub records: Vec<RunRecord>,
     /// The properties, in the order of the record values.
     pub keys: Vec<Key>,
@@ -255,18 +255,31 @@ fn keys_of(file: &File, results: &[RunResult]) -> Vec<Key> {
 /// time, so the summary does not depend on the thread count and memory on the batch only.
 const BATCH: u64 = 1024;
 
-/// Runs the sweep; `tick` is called after every run (for a progress bar).
+/// Runs the sweep and keeps every run's record in the output (as `--json` prints them);
+/// `tick` is called after every run (for a progress bar).
 ///
-/// Memory: each run is reduced to one value and one pass flag per property on the worker
-/// thread (its waveforms, events and switch-offs are freed as soon as it ends) and folded into
-/// the running summary ([`Summary`]) in index order. What still grows with the number of runs
-/// is 4 bytes per property and run for the histogram, and, with `keep_records` (`--json`,
-/// whose output lists every run), the run records.
+/// Memory: each run is reduced to its record (part values, one value and one pass flag per
+/// property) on the worker thread, so its waveforms, events and switch-offs are freed as soon
+/// as it ends, and folded into the running summary ([`Summary`]) in index order.
 ///
 /// # Errors
 ///
 /// A value the plans or the plant reject, or the thread pool cannot start.
-pub fn sweep(
+pub fn sweep(plan: &Plan<'_>, tick: &(dyn Fn() + Sync)) -> Result<Output, RunSetupError> {
+    sweep_with(plan, true, tick)
+}
+
+/// [`sweep`] without the run records (`records` is empty): what grows with the number of runs
+/// is then 4 bytes per property and run, for the histogram.
+///
+/// # Errors
+///
+/// As [`sweep`].
+pub fn sweep_summary(plan: &Plan<'_>, tick: &(dyn Fn() + Sync)) -> Result<Output, RunSetupError> {
+    sweep_with(plan, false, tick)
+}
+
+fn sweep_with(
     plan: &Plan<'_>,
     keep_records: bool,
     tick: &(dyn Fn() + Sync),

@@ -110,8 +110,13 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     } else {
         ProgressBar::hidden()
     };
-    let out = sweep::sweep(&plan, a.json, &|| bar.inc(1))
-        .map_err(|e| CliError(format!("{name}: {e}")))?;
+    // The run records are printed only with --json; without, memory does not keep them.
+    let run = if a.json {
+        sweep::sweep
+    } else {
+        sweep::sweep_summary
+    };
+    let out = run(&plan, &|| bar.inc(1)).map_err(|e| CliError(format!("{name}: {e}")))?;
     bar.finish_and_clear();
     report(&out, a.json, plot)
 }

@@ -1,8 +1,8 @@
 //! JUnit XML: one `<testsuite>` per scenario file, one `<testcase>` per scenario and property
 //! (`classname` = `FILE: SCENARIO`, so scenarios of one name in two files stay apart,
-//! `name` = the property, `file` = the scenario file as given). A property that does not hold gets a
-//! `<failure>` with the measured value and the limit. Written by hand: the format needs five
-//! elements and attribute escaping.
+//! `name` = the property, `file` = the scenario file as given). A property that does not hold
+//! gets a `<failure>` with the measured value and the limit. Written by hand: the format needs
+//! five elements and attribute escaping.
 
 use std::fmt::Write as _;
 

@@ -1,12 +1,12 @@
 //! Size limits of a scenario file, so that reading, planning and running it take bounded
 //! memory and time. Each is a clear error, never a silent cut.
 //!
-//! | What | Limit | Why |
-//! |---|---|---|
-//! | file size | 1 MiB | the TOML reader holds about 40 bytes per byte of text while parsing |
-//! | scenarios per file | 1 000 | every scenario's result (properties, events) is kept for the report |
-//! | events per scenario | 10 000 | each event is kept with its result |
-//! | simulated time per scenario | 60 s, 2 000 000 ticks, 20 000 000 PWM periods | checked with the scenario |
+//! - file size: 1 MiB (the TOML reader holds about 45 bytes per byte of text while parsing);
+//! - scenarios per file: 1 000 (every scenario's result, properties and events, is kept for
+//!   the report);
+//! - events per scenario: 10 000 (each is kept with its result);
+//! - simulated time per scenario: 60 s, 2 000 000 ticks and 20 000 000 PWM periods (checked
+//!   with the scenario).
 //!
 //! A waveform (`lenz sim --csv`, `--plot`) is kept for one scenario at a time: 56 bytes per
 //! tick, at most 112 MB at the tick limit.
