@@ -253,3 +253,34 @@ fn scenarios_whose_names_map_alike_get_their_own_files() {
         }
     }
 }
+
+#[test]
+fn a_run_that_fails_half_way_leaves_no_files() {
+    let dir = tmp("out-half-way");
+    let text = std::fs::read_to_string(valve()).expect("valve");
+    // Read fine, refused when the second file's plant is built: the first file's scenarios
+    // have been run and their waveforms staged by then.
+    let coil = text.find("[system.coil]").expect("coil table");
+    let eol = coil + text[coil..].find('\n').expect("line end") + 1;
+    let bad = format!("{}knee_current = \"1A\"\n{}", &text[..eol], &text[eol..]);
+    let second = dir.join("second.toml");
+    std::fs::write(&second, bad).expect("write");
+    let out_dir = dir.join("out");
+    let v = valve();
+    let out = lenz(&[
+        "sim",
+        s(&v),
+        s(&second),
+        "--csv",
+        s(&out_dir),
+        "--plot",
+        s(&out_dir),
+        "--junit",
+        s(&out_dir.join("junit.xml")),
+    ]);
+    let err = stderr(&out);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("second.toml"), "{err}");
+    assert!(out.stdout.is_empty());
+    assert_eq!(tree(&dir), vec!["second.toml".to_string()]);
+}

@@ -264,6 +264,16 @@ impl Sink {
     }
 }
 
+impl Drop for Sink {
+    fn drop(&mut self) {
+        // Last prepared first: a folder an earlier flag created is empty only once the later
+        // flags' staging folders in it are gone.
+        while let Some(s) = self.stages.pop() {
+            drop(s);
+        }
+    }
+}
+
 /// A value in engineering notation, or "never" for an infinite time.
 pub fn value(v: f64, unit: &str) -> String {
     if v.is_infinite() && unit == "s" {
