@@ -308,7 +308,9 @@ fn sensors(file: &File, p: &Params, actual: bool) -> Sensors {
     }
 }
 
-fn ns(t_s: f64) -> u64 {
+/// Seconds to whole nanoseconds, as the loop configuration is given its tick, PWM period and
+/// duration.
+pub(crate) fn ns(t_s: f64) -> u64 {
     (t_s * 1e9).round() as u64
 }
 

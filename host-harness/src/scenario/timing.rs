@@ -41,9 +41,14 @@ pub struct Ineffective {
 const EVENT: &str = "[[scenario.event]]";
 const CHECK: &str = "[[scenario.check]]";
 
-/// Seconds to whole nanoseconds, rounded as the closed loop rounds them.
+/// An event's time in whole nanoseconds, rounded as the closed loop rounds it.
 fn ns(t_s: f64) -> u64 {
     crate::closed_loop::ns(t_s)
+}
+
+/// The tick or duration in whole nanoseconds, rounded as the loop configuration is given them.
+fn config_ns(t_s: f64) -> u64 {
+    super::run::ns(t_s)
 }
 
 fn at_s(t_ns: u64) -> String {
@@ -63,7 +68,7 @@ fn demand(c: Command) -> &'static str {
 ///
 /// The first event or duration that would have no effect.
 pub fn check(file: &File) -> Result<(), Ineffective> {
-    let tick_ns = ns(file.system.tick.get()).max(1);
+    let tick_ns = config_ns(file.system.tick.get()).max(1);
     for (k, sc) in file.scenarios.iter().enumerate() {
         check_scenario(k, sc, tick_ns)?;
     }
@@ -71,7 +76,7 @@ pub fn check(file: &File) -> Result<(), Ineffective> {
 }
 
 fn check_scenario(k: usize, sc: &Scenario, tick_ns: u64) -> Result<(), Ineffective> {
-    let duration_ns = ns(sc.duration.get());
+    let duration_ns = config_ns(sc.duration.get());
     let err = |table: Option<(&'static str, usize)>, key: String, problem: String| Ineffective {
         scenario: k,
         table,
