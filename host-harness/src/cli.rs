@@ -183,7 +183,7 @@ where
     let text = crate::out::take();
     match result {
         // Printed only on success: a failed command leaves stdout empty.
-        Ok(code) => match crate::out::write_to(&mut std::io::stdout().lock(), text.as_bytes()) {
+        Ok(code) => match crate::out::write_to(&mut std::io::stdout().lock(), &text) {
             Ok(_) => code,
             Err(e) => {
                 complain(&format!("cannot write to standard output: {e}"));

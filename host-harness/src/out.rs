@@ -14,27 +14,49 @@
 //! waveforms: those go to files.
 
 use std::cell::RefCell;
-use std::fmt::Write as _;
 use std::io::{self, Write};
 
 thread_local! {
-    static BUFFER: RefCell<String> = const { RefCell::new(String::new()) };
+    static BUFFER: RefCell<Vec<u8>> = const { RefCell::new(Vec::new()) };
+}
+
+/// Appends `value` as pretty JSON and a line end to this thread's output buffer, serialized
+/// straight into it (a large output, such as a sweep's run records, is not held twice).
+///
+/// # Errors
+///
+/// The value cannot be serialized (the buffer keeps what was written before).
+pub fn json<T: serde::Serialize>(value: &T) -> Result<(), serde_json::Error> {
+    BUFFER.with(|b| {
+        let mut b = b.borrow_mut();
+        let keep = b.len();
+        match serde_json::to_writer_pretty(&mut *b, value) {
+            Ok(()) => {
+                b.push(b'\n');
+                Ok(())
+            }
+            Err(e) => {
+                b.truncate(keep);
+                Err(e)
+            }
+        }
+    })
 }
 
 /// Appends one line to this thread's output buffer (use [`outln!`]).
 pub fn line(args: std::fmt::Arguments<'_>) {
     BUFFER.with(|b| {
         let mut b = b.borrow_mut();
-        // Writing into a `String` fails only when a `Display` impl reports an error; the text
+        // Writing into a `Vec` fails only when a `Display` impl reports an error; the text
         // written so far stays.
         let _ = b.write_fmt(args);
-        b.push('\n');
+        b.push(b'\n');
     });
 }
 
-/// Takes (and clears) this thread's output buffer.
+/// Takes (and clears) this thread's output buffer (UTF-8 text).
 #[must_use]
-pub fn take() -> String {
+pub fn take() -> Vec<u8> {
     BUFFER.with(|b| std::mem::take(&mut *b.borrow_mut()))
 }
 
@@ -90,8 +112,16 @@ mod tests {
         let _ = take();
         outln!("a {}", 1);
         outln!();
-        assert_eq!(take(), "a 1\n\n");
-        assert_eq!(take(), "");
+        assert_eq!(take(), b"a 1\n\n");
+        assert_eq!(take(), b"");
+    }
+
+    #[test]
+    fn json_goes_straight_into_the_buffer() {
+        let _ = take();
+        outln!("head");
+        json(&serde_json::json!({ "a": [1, 2] })).expect("serializable");
+        assert_eq!(take(), b"head\n{\n  \"a\": [\n    1,\n    2\n  ]\n}\n");
     }
 
     #[test]

@@ -354,10 +354,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
                 })
                 .collect(),
         };
-        outln!(
-            "{}",
-            serde_json::to_string_pretty(&rep).map_err(|e| CliError(e.to_string()))?
-        );
+        crate::out::json(&rep).map_err(|e| CliError(e.to_string()))?;
     } else {
         if let Some((seed, index)) = a.replay {
             for (name, f) in &files {

@@ -199,10 +199,7 @@ fn report(out: &Output, json: bool, plot: Option<Staged>) -> Result<ExitCode, Cl
     let done = out.summary.first().map_or(0, |s| s.runs);
     let ok = out.all_passed == done;
     if json {
-        outln!(
-            "{}",
-            serde_json::to_string_pretty(out).map_err(|e| CliError(e.to_string()))?
-        );
+        crate::out::json(out).map_err(|e| CliError(e.to_string()))?;
     } else {
         let slice = out
             .shard
