@@ -252,6 +252,14 @@ fn scenarios_whose_names_map_alike_get_their_own_files() {
             assert_eq!(xml.matches(&case).count(), 2, "{case}");
         }
     }
+    // The sweep's histograms: one file per scenario and property.
+    let hist = dir.join("hist");
+    let out = lenz(&["sweep", s(&a), "--runs", "2", "--plot", s(&hist), "--json"]);
+    assert!(matches!(out.status.code(), Some(0 | 1)), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("json");
+    let summaries = v["summary"].as_array().map_or(0, Vec::len);
+    assert_eq!(summaries, 8, "peak current and no trip, four scenarios");
+    assert_eq!(tree(&hist).len(), summaries);
 }
 
 #[test]
