@@ -34,6 +34,9 @@ fn err(flag: &str, what: &str, p: &Path, e: &std::io::Error) -> CliError {
 
 /// Creates `dir` and its missing parents; returns those it created, outermost first.
 fn create_dirs(flag: &str, dir: &Path) -> Result<Vec<PathBuf>, CliError> {
+    if dir.as_os_str().is_empty() {
+        return Err(CliError(format!("{flag}: the path is empty")));
+    }
     if dir.exists() && !dir.is_dir() {
         return Err(CliError(format!(
             "{flag} {}: exists and is not a folder",
@@ -221,6 +224,8 @@ mod tests {
         let e = Staged::prepare("--out", &d.join("afile")).expect_err("a file");
         assert!(e.0.starts_with("--out "), "{e}");
         assert!(e.0.contains("not a folder"), "{e}");
+        let e = Staged::prepare("--csv", Path::new("")).expect_err("empty");
+        assert_eq!(e.0, "--csv: the path is empty");
         let _ = fs::remove_dir_all(&d);
     }
 }
