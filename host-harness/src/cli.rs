@@ -153,10 +153,14 @@ where
         Ok(cli) => cli,
         Err(e) => {
             return match e.kind() {
-                ErrorKind::DisplayHelp | ErrorKind::DisplayVersion => {
-                    let _ = e.print();
-                    ExitCode::SUCCESS
-                }
+                ErrorKind::DisplayHelp | ErrorKind::DisplayVersion => match e.print() {
+                    Ok(()) => ExitCode::SUCCESS,
+                    Err(w) if w.kind() == std::io::ErrorKind::BrokenPipe => ExitCode::SUCCESS,
+                    Err(w) => {
+                        complain(&format!("cannot write to standard output: {w}"));
+                        ExitCode::from(2)
+                    }
+                },
                 _ => {
                     complain(&one_line(&e.render().to_string()));
                     ExitCode::from(2)

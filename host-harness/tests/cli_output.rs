@@ -72,6 +72,8 @@ fn commands() -> Vec<Vec<String>> {
             "24",
         ],
         vec!["demo", "--json"],
+        vec!["--help"],
+        vec!["sim", "--help"],
         vec![
             "trip-time",
             "--curve",
