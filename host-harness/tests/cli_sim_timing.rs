@@ -164,6 +164,17 @@ fn a_command_that_changes_nothing_is_rejected() {
 
 #[test]
 fn a_check_that_would_measure_nothing_is_rejected() {
+    let sag_at_start = "[[scenario]]\nname = \"timing\"\nduration = \"20ms\"\n\
+        [[scenario.event]]\nat = \"0s\"\nsupply = \"18V\"\n\
+        [[scenario.event]]\nat = \"2ms\"\ncommand = \"on\"\n\
+        [[scenario.check]]\nproperty = \"estimator-error\"\nmax = \"50mA\"\n";
+    rejected(
+        "estimator-after-fault",
+        sag_at_start,
+        |t| line_of(t, "[[scenario.check]]", 0),
+        "scenario[0].check[0].property",
+        "nothing would be measured",
+    );
     rejected(
         "release-without-off",
         &scenario("20ms", &[("2ms", "on")], RELEASE),

@@ -192,16 +192,5 @@ fn check_scenario(k: usize, sc: &Scenario, tick_ns: u64) -> Result<(), Ineffecti
                 .into(),
         ));
     }
-    if let Some(c) = check_of(Property::ReleaseTime)
-        && !commands.iter().any(|x| x.1 == Command::Off)
-    {
-        return Err(err(
-            Some((CHECK, c)),
-            format!("scenario[{k}].check[{c}].property"),
-            "release-time is measured after a `command = \"off\"`, and the scenario has none: \
-             nothing would be measured"
-                .into(),
-        ));
-    }
     Ok(())
 }
