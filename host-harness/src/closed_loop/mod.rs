@@ -168,6 +168,12 @@ pub trait Plant {
     fn switch_offs(&self) -> &[SwitchOff] {
         &[]
     }
+    /// Largest clamp energy and largest switch energy of a single switch-off so far, J.
+    fn worst_switch_off_j(&self) -> (f64, f64) {
+        self.switch_offs().iter().fold((0.0, 0.0), |(c, s), o| {
+            (c.max(o.clamp_j), s.max(o.switch_j))
+        })
+    }
 }
 
 impl Plant for CoilDrive {
@@ -225,6 +231,9 @@ impl Plant for CoilDrive {
     }
     fn switch_offs(&self) -> &[SwitchOff] {
         CoilDrive::switch_offs(self)
+    }
+    fn worst_switch_off_j(&self) -> (f64, f64) {
+        CoilDrive::worst_switch_off_j(self)
     }
 }
 
@@ -422,7 +431,7 @@ pub struct RunResult {
     pub waveform: Waveform,
     /// Demand changes, faults, trips.
     pub events: Vec<RunEvent>,
-    /// Every switch-off of the plant.
+    /// The switch-offs the plant kept (every one by default; a scenario run keeps the latest).
     pub switch_offs: Vec<SwitchOff>,
     /// Ticks run.
     pub ticks: u64,
@@ -459,7 +468,8 @@ enum Edge {
 
 const NS: f64 = 1e-9;
 
-fn ns(t_s: f64) -> u64 {
+/// Seconds to whole nanoseconds, as the loop rounds every time it is given.
+pub(crate) fn ns(t_s: f64) -> u64 {
     (t_s / NS).round().max(0.0) as u64
 }
 
@@ -726,13 +736,12 @@ pub fn run<P: Plant, C: Controller>(
     if let Some(r) = l.switch_voltage_rating_v {
         add("peak_switch_voltage", plant.peak_switch_v(), r, "V");
     }
+    let (worst_clamp_j, worst_switch_j) = plant.worst_switch_off_j();
     if let Some(r) = l.clamp_energy_rating_j {
-        let v = offs.iter().map(|o| o.clamp_j).fold(0.0, f64::max);
-        add("clamp_energy_per_switch_off", v, r, "J");
+        add("clamp_energy_per_switch_off", worst_clamp_j, r, "J");
     }
     if let Some(r) = l.switch_energy_rating_j {
-        let v = offs.iter().map(|o| o.switch_j).fold(0.0, f64::max);
-        add("switch_energy_per_switch_off", v, r, "J");
+        add("switch_energy_per_switch_off", worst_switch_j, r, "J");
     }
     if let Some(r) = l.switch_current_limit_a {
         add("peak_current", plant.peak_current_a(), r, "A");

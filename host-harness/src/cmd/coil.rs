@@ -93,7 +93,7 @@ fn compute(a: &Args) -> Result<Report, lenz::Error> {
 pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let r = compute(a).map_err(|e| CliError::from_lenz(e, FLAGS))?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -125,7 +125,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             si(ts.into(), "s"),
         ]);
     }
-    println!("{t}");
-    println!("{CAUTION}");
+    outln!("{t}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

@@ -348,6 +348,11 @@ pub struct CoilDrive {
     peak_current_a: f64,
     offs: Vec<SwitchOff>,
     open_off: Option<(usize, Energies)>,
+    /// Keep every switch-off in `offs` (else only the latest; the others' energies are in
+    /// `worst_off_j`).
+    keep_offs: bool,
+    /// Largest clamp and switch energy of the switch-offs no longer in `offs`, J.
+    worst_off_j: (f64, f64),
     events: Vec<PlantEvent>,
     record_events: bool,
     rk1: Rk<3>,
@@ -409,6 +414,8 @@ impl CoilDrive {
             peak_current_a: 0.0,
             offs: Vec::new(),
             open_off: None,
+            keep_offs: true,
+            worst_off_j: (0.0, 0.0),
             events: Vec::with_capacity(256),
             record_events: true,
             rk1: Rk::new(1e-12, [1e-15, 1e-18, 1e-18], 1e-7),
@@ -437,6 +444,21 @@ impl CoilDrive {
     /// Stops recording plant events (long runs, benches).
     pub fn set_record_events(&mut self, on: bool) {
         self.record_events = on;
+    }
+
+    /// Keeps only the latest switch-off in [`CoilDrive::switch_offs`] (`false`), so memory
+    /// does not grow with the number of PWM periods; the largest energies of all of them stay
+    /// in [`CoilDrive::worst_switch_off_j`]. Default: keep every one.
+    pub fn set_keep_switch_offs(&mut self, keep: bool) {
+        self.keep_offs = keep;
+    }
+
+    /// Largest clamp energy and largest switch energy of any single switch-off so far, J.
+    #[must_use]
+    pub fn worst_switch_off_j(&self) -> (f64, f64) {
+        self.offs.iter().fold(self.worst_off_j, |(c, s), o| {
+            (c.max(o.clamp_j), s.max(o.switch_j))
+        })
     }
 
     fn event(&mut self, kind: PlantEventKind) {
@@ -614,6 +636,11 @@ impl CoilDrive {
             let i = self.current_a();
             self.event(PlantEventKind::SwitchOff);
             if i > 0.0 {
+                if !self.keep_offs {
+                    // The previous record is closed (at the switch-on): fold it into the worst.
+                    self.worst_off_j = self.worst_switch_off_j();
+                    self.offs.clear();
+                }
                 let idx = self.offs.len();
                 self.offs.push(SwitchOff {
                     t_s: self.t,
