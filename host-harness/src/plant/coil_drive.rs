@@ -55,7 +55,7 @@
 
 use super::inductance::{InductanceCurve, Magnetisation};
 use super::linalg::{Mat, expm, mul_vec};
-use super::rk::{MAX_EVENTS, Rk, Stop};
+use super::rk::{MAX_EVENTS, Rk, StepUnderflow, Stop};
 use super::thermal::Thermal;
 use super::{in_range, non_negative, positive};
 use lenz::Error;
@@ -355,6 +355,51 @@ pub struct CoilDrive {
     thermal_t: f64,
     thermal_e: f64,
     cache: Option<(f64, f64, f64, Mat<3>)>,
+    decay: DecayCache,
+    failure: Option<StepUnderflow>,
+}
+
+/// The last few linear one-state segments' constants: `I_∞ = a/b`, `τ = L/b` and
+/// `1 − e^(−t/τ)`, keyed on the exact `(a, b, L, t)`. A PWM hold repeats the same on and off
+/// segments every period, so most segments need neither a division nor an exponential. A hit
+/// returns exactly what the computation would (same inputs, same operations).
+#[derive(Debug, Clone, Copy)]
+struct DecayCache {
+    /// `[a, b, L, t, I_∞, τ, 1 − e^(−t/τ)]`; NaN keys (never equal) mark an empty entry.
+    entries: [[f64; 7]; DECAY_CACHE],
+    /// The entry the next miss replaces (round robin).
+    next: usize,
+}
+
+/// Entries of [`DecayCache`]: an on and an off segment of a PWM period, each whole or split
+/// by a sampling instant.
+const DECAY_CACHE: usize = 4;
+
+impl Default for DecayCache {
+    fn default() -> Self {
+        Self {
+            entries: [[f64::NAN; 7]; DECAY_CACHE],
+            next: 0,
+        }
+    }
+}
+
+impl DecayCache {
+    #[inline]
+    fn get(&mut self, a: f64, b: f64, l: f64, t: f64) -> (f64, f64, f64) {
+        for e in &self.entries {
+            if e[0] == a && e[1] == b && e[2] == l && e[3] == t {
+                return (e[4], e[5], e[6]);
+            }
+        }
+        let i_inf = a / b;
+        let tau = l / b;
+        let em1 = -(-t / tau).exp_m1();
+        let k = self.next % DECAY_CACHE;
+        self.entries[k] = [a, b, l, t, i_inf, tau, em1];
+        self.next = (k + 1) % DECAY_CACHE;
+        (i_inf, tau, em1)
+    }
 }
 
 impl CoilDrive {
@@ -416,6 +461,8 @@ impl CoilDrive {
             thermal_t: 0.0,
             thermal_e: 0.0,
             cache: None,
+            decay: DecayCache::default(),
+            failure: None,
             spec,
         };
         p.update_resistance();
@@ -535,6 +582,13 @@ impl CoilDrive {
     #[must_use]
     pub fn peak_current_a(&self) -> f64 {
         self.peak_current_a
+    }
+
+    /// The integrator's step underflow, if one stopped the plant (the state after it is not
+    /// a solution; a closed-loop run reports it as an error).
+    #[must_use]
+    pub fn failure(&self) -> Option<StepUnderflow> {
+        self.failure
     }
 
     /// Every switch-off so far.
@@ -806,32 +860,31 @@ impl CoilDrive {
         let s = self.seg1();
         let i0 = self.current_a();
         if let Some(l) = self.mag.linear_h() {
-            let i_inf = s.a / s.b;
-            let tau = l / s.b;
+            let (i_inf, tau, mut em1) = self.decay.get(s.a, s.b, l, span);
+            let d = i0 - i_inf;
             let mut dt = span;
             let mut fired = false;
             if let Some((ix, dir)) = s.event {
                 let heading = (i_inf - ix) * dir < 0.0 && (i0 - ix) * dir > 0.0;
-                if heading {
+                // The event falls inside the span when the current at its end has reached
+                // `ix`; only then is its time needed (a logarithm).
+                if heading && (i_inf + d * (1.0 - em1) - ix) * dir <= 0.0 {
                     let t_ev = tau * ((i0 - ix) / (ix - i_inf)).ln_1p();
-                    if t_ev <= span {
-                        dt = t_ev;
-                        fired = true;
-                    }
+                    dt = t_ev.min(span);
+                    em1 = -(-dt / tau).exp_m1();
+                    fired = true;
                 }
             }
-            let x = dt / tau;
-            let em1 = -(-x).exp_m1();
-            let d = i0 - i_inf;
             let i1 = if fired {
                 s.event.map_or(0.0, |e| e.0)
             } else {
                 i_inf + d * (1.0 - em1)
             };
             let q = i_inf * dt + d * tau * em1;
+            // 1 − e^(−2x) = (1 − e^(−x))(1 + e^(−x)), without a second exponential.
             let sq = i_inf * i_inf * dt
                 + 2.0 * i_inf * d * tau * em1
-                + d * d * 0.5 * tau * -(-2.0 * x).exp_m1();
+                + d * d * 0.5 * tau * (em1 * (2.0 - em1));
             self.lam = l * i1;
             self.book1(&s, dt, q, sq);
             (dt, fired)
@@ -856,6 +909,13 @@ impl CoilDrive {
             let (dt, fired) = match stop {
                 Stop::End => (span, false),
                 Stop::Event { dt, .. } => (dt, true),
+                Stop::Stalled { dt, h } => {
+                    self.failure.get_or_insert(StepUnderflow {
+                        t_s: self.t + dt,
+                        step_s: h,
+                    });
+                    (span, false)
+                }
             };
             self.lam = if fired { mag.flux(ix) } else { y[0] };
             self.book1(&s, dt, y[1], y[2]);
@@ -920,6 +980,13 @@ impl CoilDrive {
             let (dt, ev) = match stop {
                 Stop::End => (span, None),
                 Stop::Event { index, dt } => (dt, Some(index)),
+                Stop::Stalled { dt, h } => {
+                    self.failure.get_or_insert(StepUnderflow {
+                        t_s: self.t + dt,
+                        step_s: h,
+                    });
+                    (span, None)
+                }
             };
             (dt, ev, mag.current(y[0]), y[1], y[2], y[3])
         };
@@ -990,13 +1057,17 @@ impl CoilDrive {
     }
 
     /// Advances the plant to `t_s` with the switch as commanded. A time not after the present
-    /// one, or not finite, leaves the plant unchanged.
+    /// one, or not finite, leaves the plant unchanged. After a [`StepUnderflow`] the plant
+    /// stops (its time moves on, its state does not): see [`CoilDrive::failure`].
     pub fn advance_to(&mut self, t_s: f64) {
         if !t_s.is_finite() {
             return;
         }
         let mut guard = 0u32;
         while self.t < t_s {
+            if self.failure.is_some() {
+                break;
+            }
             guard += 1;
             let mut span = t_s - self.t;
             if self.spec.coil.thermal.is_some() {
