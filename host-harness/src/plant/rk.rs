@@ -197,7 +197,8 @@ impl<const N: usize> Rk<N> {
             }
             let last = h >= remaining;
             let h_try = if last { remaining } else { h };
-            if !(h_try > MIN_STEP_REL * span) {
+            // Also catches a NaN step (no comparison holds).
+            if h_try.partial_cmp(&(MIN_STEP_REL * span)) != Some(std::cmp::Ordering::Greater) {
                 return Stop::Stalled { dt: done, h: h_try };
             }
             let (y1, err) = Self::step(f, y, h_try);
