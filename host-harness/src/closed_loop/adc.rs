@@ -50,8 +50,13 @@ impl AdcChannel {
         let v =
             (x * self.volts_per_unit + self.bias_v) * (1.0 + self.gain_error) + self.offset_error_v;
         let scale = (1u32 << self.bits.clamp(1, 16)) as f64 / self.vref_v;
-        let sigma =
-            (self.noise_rms_lsb * self.noise_rms_lsb + extra_noise_lsb * extra_noise_lsb).sqrt();
+        // Without extra noise √(σ²) is |σ| exactly (a correctly rounded square root), so the
+        // root is taken only when two noises add.
+        let sigma = if extra_noise_lsb == 0.0 {
+            self.noise_rms_lsb.abs()
+        } else {
+            (self.noise_rms_lsb * self.noise_rms_lsb + extra_noise_lsb * extra_noise_lsb).sqrt()
+        };
         let noise = if sigma > 0.0 {
             sigma * gaussian(rng)
         } else {
