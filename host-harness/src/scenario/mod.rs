@@ -225,6 +225,21 @@ impl Place {
 
 type Inconsistency = (String, Option<Place>, String);
 
+/// A supply a scenario or an event sets must lie within half the system's minimum and twice
+/// its maximum (the same check for both).
+fn supply_out_of_range(f: &File, v: f64) -> Option<String> {
+    let sup = &f.system.supply;
+    let (lo, hi) = (sup.min.get() * 0.5, sup.max.get() * 2.0);
+    (v < lo || v > hi).then(|| {
+        format!(
+            "{} is far outside the system's supply range (allowed {} to {})",
+            crate::cmd::table::si(v, "V"),
+            crate::cmd::table::si(lo, "V"),
+            crate::cmd::table::si(hi, "V"),
+        )
+    })
+}
+
 /// Checks across tables: controller and system kinds, scenario names, event times, checks
 /// that apply to the kind of system.
 fn check_consistency(f: &File) -> Result<(), Inconsistency> {
@@ -293,15 +308,10 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 "more than 2 000 000 control ticks".into(),
             ));
         }
-        if let Some(v) = s.supply {
-            let sup = &f.system.supply;
-            if v.get() < sup.min.get() * 0.5 || v.get() > sup.max.get() * 2.0 {
-                return Err((
-                    format!("scenario[{k}].supply"),
-                    needle,
-                    format!("{} V is far outside the system's supply range", v.get()),
-                ));
-            }
+        if let Some(v) = s.supply
+            && let Some(problem) = supply_out_of_range(f, v.get())
+        {
+            return Err((format!("scenario[{k}].supply"), needle, problem));
         }
         for (j, e) in s.events.iter().enumerate() {
             let key = format!("scenario[{k}].event[{j}]");
@@ -314,6 +324,15 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                         e.at.get(),
                         s.duration.get()
                     ),
+                ));
+            }
+            if let Action::Supply(v, _) = e.action
+                && let Some(problem) = supply_out_of_range(f, v)
+            {
+                return Err((
+                    format!("{key}.supply"),
+                    place(Some(("[[scenario.event]]", j))),
+                    problem,
                 ));
             }
             let bad = match e.action {

@@ -47,6 +47,14 @@ units! {
     Plain => Unit::None, "";
 }
 
+/// Largest magnitude a file value may have: the plan routines compute in `f32`, whose largest
+/// finite value is 3.4028235e38; a round limit below it.
+pub const F32_LIMIT: f64 = 1e38;
+const F32_LIMIT_TEXT: &str = "1e38 ";
+/// Smallest non-zero magnitude: the smallest normal `f32` is 1.1754944e-38; a round limit above.
+pub const F32_SMALLEST: f64 = 1e-37;
+const F32_SMALLEST_TEXT: &str = "1e-37 ";
+
 /// Which values a wrapper admits.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Sign {
@@ -61,6 +69,21 @@ fn read<'de, D: Deserializer<'de>, U: UnitTag>(d: D, sign: Sign) -> Result<f64, 
         fn check<E: de::Error>(&self, v: f64, text: &str) -> Result<f64, E> {
             if !v.is_finite() {
                 return Err(E::custom(format!("'{text}' is not finite")));
+            }
+            // The plan routines compute in f32: a value beyond its range would become
+            // infinite or zero there and give wrong physics without an error.
+            if v.abs() > F32_LIMIT {
+                return Err(E::custom(format!(
+                    "'{text}' is too large: the limit is {F32_LIMIT_TEXT}{} in magnitude",
+                    U::SYMBOL
+                )));
+            }
+            if v != 0.0 && v.abs() < F32_SMALLEST {
+                return Err(E::custom(format!(
+                    "'{text}' is too small: a value other than 0 must be at least \
+                     {F32_SMALLEST_TEXT}{} in magnitude",
+                    U::SYMBOL
+                )));
             }
             match self.0 {
                 Sign::Positive if v <= 0.0 => Err(E::custom(format!("'{text}' must be positive"))),
@@ -96,7 +119,13 @@ fn read<'de, D: Deserializer<'de>, U: UnitTag>(d: D, sign: Sign) -> Result<f64, 
             self.check(v, s)
         }
         fn visit_f64<E: de::Error>(self, v: f64) -> Result<f64, E> {
-            self.check(v, &v.to_string())
+            // As the user would have typed it: no 300-digit decimals.
+            let text = if v != 0.0 && !(1e-3..1e6).contains(&v.abs()) {
+                format!("{v:e}")
+            } else {
+                v.to_string()
+            };
+            self.check(v, &text)
         }
         fn visit_i64<E: de::Error>(self, v: i64) -> Result<f64, E> {
             self.check(v as f64, &v.to_string())
@@ -180,6 +209,19 @@ mod tests {
         assert!((t.l.get() - 0.12).abs() < 1e-15);
         assert!((t.t.get() + 40.0).abs() < 1e-15);
         assert!((t.r.get() - 0.5).abs() < 1e-15);
+    }
+
+    #[test]
+    fn rejects_values_beyond_the_f32_core() {
+        let e = toml::from_str::<T>("l = 2e307\nt = 0\nr = 0").unwrap_err();
+        assert!(e.message().contains("'2e307' is too large"), "{e}");
+        assert!(e.message().contains("1e38 H"), "{e}");
+        let e = toml::from_str::<T>("l = 1\nt = 0\nr = \"1e-40\"").unwrap_err();
+        assert!(e.message().contains("too small"), "{e}");
+        let e = toml::from_str::<T>("l = 1\nt = -1e39\nr = 0").unwrap_err();
+        assert!(e.message().contains("too large"), "{e}");
+        let t: T = toml::from_str("l = 1e37\nt = 0\nr = 0").unwrap();
+        assert_eq!(t.l.get(), 1e37);
     }
 
     #[test]
