@@ -193,3 +193,13 @@ fn an_events_supply_gets_the_scenarios_range_check() {
     assert!(e.problem.contains("200.0 V is far outside"), "{e}");
     assert!(!e.problem.contains("inf"), "{e}");
 }
+
+#[test]
+fn counts_beyond_16_bits_are_errors_not_clamped() {
+    // Before: 70000 became 65535 without a word.
+    let text = edit("persistence = 3", "persistence = 70000");
+    let e = err(&text);
+    assert_eq!(e.key, "controller.coil.monitor.persistence");
+    assert!(e.problem.contains("70000 is out of range"), "{e}");
+    assert_eq!((e.line, e.column), pos(&text, "70000"));
+}

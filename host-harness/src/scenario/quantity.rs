@@ -192,6 +192,33 @@ wrapper!(
     Sign::Positive
 );
 
+/// A count that the kernels hold in 16 bits (`persistence`, `stuck_samples`): a TOML integer
+/// from 0 to 65 535. Anything else is an error at the value, never clamped.
+///
+/// # Errors
+///
+/// Not an integer, or outside `0 ..= 65535`.
+pub fn count_u16<'de, D: Deserializer<'de>>(d: D) -> Result<u16, D::Error> {
+    struct V;
+    impl Visitor<'_> for V {
+        type Value = u16;
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            f.write_str("a whole number from 0 to 65535")
+        }
+        fn visit_i64<E: de::Error>(self, v: i64) -> Result<u16, E> {
+            u16::try_from(v).map_err(|_| {
+                E::custom(format!(
+                    "{v} is out of range: a count from 0 to 65535 (the kernel holds it in 16 bits)"
+                ))
+            })
+        }
+        fn visit_u64<E: de::Error>(self, v: u64) -> Result<u16, E> {
+            self.visit_i64(i64::try_from(v).unwrap_or(i64::MAX))
+        }
+    }
+    d.deserialize_any(V)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -209,6 +236,23 @@ mod tests {
         assert!((t.l.get() - 0.12).abs() < 1e-15);
         assert!((t.t.get() + 40.0).abs() < 1e-15);
         assert!((t.r.get() - 0.5).abs() < 1e-15);
+    }
+
+    #[derive(Debug, serde::Deserialize)]
+    struct C {
+        #[serde(deserialize_with = "count_u16")]
+        n: u16,
+    }
+
+    #[test]
+    fn counts_are_not_clamped() {
+        assert_eq!(toml::from_str::<C>("n = 65535").unwrap().n, 65535);
+        let e = toml::from_str::<C>("n = 70000").unwrap_err();
+        assert!(e.message().contains("70000 is out of range"), "{e}");
+        let e = toml::from_str::<C>("n = -1").unwrap_err();
+        assert!(e.message().contains("-1 is out of range"), "{e}");
+        let e = toml::from_str::<C>("n = 1.5").unwrap_err();
+        assert!(e.message().contains("a whole number"), "{e}");
     }
 
     #[test]
