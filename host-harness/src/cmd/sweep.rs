@@ -104,7 +104,8 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     } else {
         ProgressBar::hidden()
     };
-    let out = sweep::sweep(&plan, &|| bar.inc(1)).map_err(|e| CliError(format!("{name}: {e}")))?;
+    let out = sweep::sweep(&plan, &|| bar.inc(1))
+        .map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
     bar.finish_and_clear();
     report(&out, a.json, a.plot.as_deref())
 }

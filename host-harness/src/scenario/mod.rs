@@ -35,8 +35,12 @@
 //! dotted key of the value (`system.coil.inductance`, `scenario[1].event[0].at`) and the
 //! position is the value's own (or its table's, for checks across a table's values). Unknown
 //! keys, missing keys, values that are not numbers in the right unit and values out of range
-//! are all errors; nothing is silently ignored or clamped.
+//! are all errors; nothing is silently ignored or clamped. Problems found later, when a plan or
+//! the plant rejects a value (`lenz plan`, `lenz sim`, `lenz sweep`), take the same form: the
+//! rejected parameter is mapped to the key it comes from ([`run`]) and placed at that key's
+//! value ([`position`]), so a message never names an internal parameter.
 
+pub mod position;
 pub mod quantity;
 pub mod run;
 pub mod schema;
@@ -87,6 +91,31 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
     let line = head.matches('\n').count() + 1;
     let col = head.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
     (line, col)
+}
+
+/// A problem found after parsing (a plan or the plant rejects a value), given as `key `K`:
+/// problem` (the form of [`run::RunSetupError`]), placed at the key's position in the file
+/// `file`, which is read again; without a key or a position, the file name alone.
+#[must_use]
+pub fn locate_problem(file: &str, message: &str) -> ScenarioError {
+    let (key, problem) = message
+        .strip_prefix("key `")
+        .and_then(|rest| rest.split_once("`: "))
+        .map_or((String::new(), message.to_string()), |(k, p)| {
+            (k.to_string(), p.to_string())
+        });
+    let (line, column) = std::fs::read_to_string(file)
+        .ok()
+        .filter(|_| !key.is_empty())
+        .and_then(|text| position::key_offset(&text, &key).map(|o| line_col(&text, o)))
+        .unwrap_or((0, 0));
+    ScenarioError {
+        file: file.to_string(),
+        line,
+        column,
+        key,
+        problem,
+    }
 }
 
 /// Reads and checks a scenario file.
