@@ -34,9 +34,12 @@ pub fn key_offset(text: &str, key: &str) -> Option<usize> {
         };
     }
     match value {
-        // A table's own span can be empty (a `[header]` table); its first value is a place
-        // the reader can see.
-        Some(DeValue::Table(t)) if span.is_empty() => t.iter().map(|(k, _)| k.span().start).min(),
+        // A table is shown at its first key (a `[header]` table has no span of its own).
+        Some(DeValue::Table(t)) => t
+            .iter()
+            .map(|(k, _)| k.span().start)
+            .min()
+            .or(Some(span.start)),
         _ => Some(span.start),
     }
 }
