@@ -247,7 +247,16 @@ fn lenz_err<'a>(
                     .unwrap_or(&text);
                 RunSetupError(format!("key `{key}`: {problem}"))
             }
-            None => RunSetupError(format!("key `{table}`: {text}")),
+            None => {
+                // Derived from several values of the table (a loop resistance, a ratio).
+                let problem = text
+                    .strip_prefix(param)
+                    .and_then(|t| t.strip_prefix(": "))
+                    .unwrap_or(&text);
+                RunSetupError(format!(
+                    "key `{table}`: a value derived from this table: {problem}"
+                ))
+            }
         }
     }
 }
@@ -299,6 +308,11 @@ pub(crate) fn file_key(file: &File, scenario: Option<usize>, param: &str) -> Opt
         "breakdown_v" => "system.switch.breakdown",
         "source_resistance_ohm" => "system.supply.source_resistance",
         "shunt_ohm" | "shunt_resistance_ohm" => "system.sense.shunt",
+        "gain" => "system.sense.gain",
+        "gain_tol" => "system.sense.gain_error",
+        "offset_v" => "system.sense.offset",
+        "vref_v" => "system.sense.adc_reference",
+        "bits" => "system.sense.adc_bits",
         "dcr_ohm" | "inductor_resistance_ohm" => "system.boost.dcr",
         "diode_drop_v" | "vf_v" | "forward_v" => "system.boost.diode_drop",
         "esr_ohm" => "system.boost.esr",
