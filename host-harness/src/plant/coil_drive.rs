@@ -362,6 +362,19 @@ pub struct CoilDrive {
     cache: Option<(f64, f64, f64, Mat<3>)>,
     decay: DecayCache,
     failure: Option<StepUnderflow>,
+    /// While [`CoilDrive::advance_until_below`] runs: the current level it watches for, A.
+    watch: Option<f64>,
+}
+
+/// What ended a one-state step.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Ended {
+    /// The span.
+    Span,
+    /// The topology's own event.
+    Topology,
+    /// The watched current level.
+    Watch,
 }
 
 /// The last few linear one-state segments' constants: `I_∞ = a/b`, `τ = L/b` and
@@ -480,6 +493,7 @@ impl CoilDrive {
             cache: None,
             decay: DecayCache::default(),
             failure: None,
+            watch: None,
             spec,
         };
         p.update_resistance();
@@ -891,32 +905,50 @@ impl CoilDrive {
         }
     }
 
-    /// Advances a one-state segment by at most `span`; returns the time used and whether the
-    /// segment's event fired.
-    fn advance1(&mut self, span: f64) -> (f64, bool) {
+    /// Advances a one-state segment by at most `span`; returns the time used and what ended
+    /// the step.
+    fn advance1(&mut self, span: f64) -> (f64, Ended) {
         let s = self.seg1();
         let i0 = self.current_a();
         if let Some(l) = self.mag.linear_h() {
             let (i_inf, tau, mut em1) = self.decay.get(s.a, s.b, l, span);
             let d = i0 - i_inf;
             let mut dt = span;
-            let mut fired = false;
-            if let Some((ix, dir)) = s.event {
-                let heading = (i_inf - ix) * dir < 0.0 && (i0 - ix) * dir > 0.0;
-                // The event falls inside the span when the current at its end has reached
-                // `ix`; only then is its time needed (a logarithm).
-                if heading && (i_inf + d * (1.0 - em1) - ix) * dir <= 0.0 {
-                    let t_ev = tau * ((i0 - ix) / (ix - i_inf)).ln_1p();
-                    dt = t_ev.min(span);
-                    em1 = -(-dt / tau).exp_m1();
-                    fired = true;
-                }
-            }
-            let i1 = if fired {
-                s.event.map_or(0.0, |e| e.0)
-            } else {
-                i_inf + d * (1.0 - em1)
+            let mut ended = Ended::Span;
+            // Where the current would be at the span's end; an event inside the span needs its
+            // time (a logarithm) only when that end value has reached the event's level.
+            let i_end = i_inf + d * (1.0 - em1);
+            // Time to reach `ix` from `i0` heading in direction `dir` (closed form of the
+            // first-order step response), if the current heads there and reaches it within the
+            // span (`from_at`: also when it starts exactly at `ix`).
+            let reach = |ix: f64, dir: f64, from_at: bool| {
+                let ahead = (i0 - ix) * dir;
+                let heading =
+                    (i_inf - ix) * dir < 0.0 && (ahead > 0.0 || (from_at && ahead == 0.0));
+                (heading && (i_end - ix) * dir <= 0.0)
+                    .then(|| (tau * ((i0 - ix) / (ix - i_inf)).ln_1p()).min(span))
             };
+            let mut i1 = None;
+            if let Some((ix, dir)) = s.event
+                && let Some(t_ev) = reach(ix, dir, false)
+                && t_ev <= dt
+            {
+                dt = t_ev;
+                ended = Ended::Topology;
+                i1 = Some(ix);
+            }
+            if let Some(w) = self.watch
+                && let Some(t_w) = reach(w, 1.0, true)
+                && t_w < dt
+            {
+                dt = t_w;
+                ended = Ended::Watch;
+                i1 = Some(w);
+            }
+            if ended != Ended::Span {
+                em1 = -(-dt / tau).exp_m1();
+            }
+            let i1 = i1.unwrap_or(i_end);
             let q = i_inf * dt + d * tau * em1;
             // 1 − e^(−2x) = (1 − e^(−x))(1 + e^(−x)), without a second exponential.
             let sq = i_inf * i_inf * dt
@@ -924,7 +956,7 @@ impl CoilDrive {
                 + d * d * 0.5 * tau * (em1 * (2.0 - em1));
             self.lam = l * i1;
             self.book1(&s, dt, q, sq);
-            (dt, fired)
+            (dt, ended)
         } else {
             let mag = &self.mag;
             let f = |y: &[f64; 3]| {
@@ -932,36 +964,36 @@ impl CoilDrive {
                 [s.a - s.b * i, i, i * i]
             };
             let (ix, dir) = s.event.unwrap_or((0.0, 0.0));
+            let watch = self.watch;
             let g = |y: &[f64; 3]| {
-                let e = if dir == 0.0 {
-                    1.0
-                } else {
-                    dir * (mag.current(y[0]) - ix)
-                };
-                [e, 1.0, 1.0]
+                let i = mag.current(y[0]);
+                let e = if dir == 0.0 { 1.0 } else { dir * (i - ix) };
+                [e, watch.map_or(1.0, |w| i - w)]
             };
             let mut y = [self.lam, 0.0, 0.0];
-            let tol = [1e-12 * self.peak_current_a.max(1e-3), 0.0, 0.0];
+            let tol = [1e-12 * self.peak_current_a.max(1e-3); 2];
             let stop = self.rk1.integrate(&f, &g, &tol, &mut y, span);
-            let (dt, fired) = match stop {
-                Stop::End => (span, false),
-                Stop::Event { dt, .. } => (dt, true),
+            let (dt, ended, i1) = match stop {
+                Stop::End => (span, Ended::Span, None),
+                Stop::Event { index: 1, dt } => (dt, Ended::Watch, watch),
+                Stop::Event { dt, .. } => (dt, Ended::Topology, Some(ix)),
                 Stop::Stalled { dt, h } => {
                     self.failure.get_or_insert(StepUnderflow {
                         t_s: self.t + dt,
                         step_s: h,
                     });
-                    (span, false)
+                    (span, Ended::Span, None)
                 }
             };
-            self.lam = if fired { mag.flux(ix) } else { y[0] };
+            self.lam = i1.map_or(y[0], |i| mag.flux(i));
             self.book1(&s, dt, y[1], y[2]);
-            (dt, fired)
+            (dt, ended)
         }
     }
 
     /// Advances the unclamped ringing segment by at most `span`; returns the time used and the
-    /// event that fired (0: switch limit, 1: body diode, 2: current zero).
+    /// event that fired (0: switch limit, 1: body diode, 2: current zero, 3: the watched
+    /// current level).
     fn advance_ring(&mut self, span: f64) -> (f64, Option<usize>) {
         let Clamp::Unclamped { c_f } = self.spec.clamp else {
             return (span, None);
@@ -972,6 +1004,7 @@ impl CoilDrive {
         let (v_lim, _) = self.v_lim();
         let i0 = self.current_a();
         let v0 = self.v_c;
+        let watch = self.watch;
         // Sign of the current (or of its first change when zero) for the zero-crossing event.
         let sgn = if i0 != 0.0 {
             i0.signum()
@@ -985,11 +1018,12 @@ impl CoilDrive {
                 [1.0 / c_f, 0.0, 0.0],
                 [0.0, 0.0, 0.0],
             ];
-            let events = |x: &[f64; 3]| -> [f64; 3] {
+            let events = |x: &[f64; 3]| -> [f64; 4] {
                 [
                     v_lim - x[1],
                     if x[0] < 0.0 { x[1] } else { 1.0 },
                     sgn * x[0],
+                    watch.map_or(1.0, |w| x[0] - w),
                 ]
             };
             let period = 2.0 * std::f64::consts::PI * (l * c_f).sqrt();
@@ -1009,10 +1043,16 @@ impl CoilDrive {
             };
             let g = |y: &[f64; 4]| {
                 let i = mag.current(y[0]);
-                [v_lim - y[1], if i < 0.0 { y[1] } else { 1.0 }, sgn * i]
+                [
+                    v_lim - y[1],
+                    if i < 0.0 { y[1] } else { 1.0 },
+                    sgn * i,
+                    watch.map_or(1.0, |w| i - w),
+                ]
             };
             let mut y = [self.lam, v0, 0.0, 0.0];
-            let tol = [1e-9, 1e-12 * v_lim, 1e-12 * self.peak_current_a.max(1e-3)];
+            let i_tol = 1e-12 * self.peak_current_a.max(1e-3);
+            let tol = [1e-9, 1e-12 * v_lim, i_tol, i_tol];
             let stop = self.rk2.integrate(&f, &g, &tol, &mut y, span);
             let (dt, ev) = match stop {
                 Stop::End => (span, None),
@@ -1027,8 +1067,9 @@ impl CoilDrive {
             };
             (dt, ev, mag.current(y[0]), y[1], y[2], y[3])
         };
-        self.lam = match ev {
-            Some(2) => 0.0,
+        self.lam = match (ev, watch) {
+            (Some(2), _) => 0.0,
+            (Some(3), Some(w)) => self.mag.flux(w),
             _ => self.mag.flux(i1),
         };
         self.v_c = match ev {
@@ -1048,7 +1089,7 @@ impl CoilDrive {
     /// Exact propagation of `ẋ = A x` (augmented) for at most `span`, sampling every `h` for
     /// sign changes of the event functions and refining the first one by Newton's method on the
     /// exact solution.
-    fn lin_events<E: Fn(&[f64; 3]) -> [f64; 3]>(
+    fn lin_events<const M: usize, E: Fn(&[f64; 3]) -> [f64; M]>(
         &mut self,
         a: &Mat<3>,
         x0: [f64; 3],
@@ -1075,7 +1116,7 @@ impl CoilDrive {
                 mul_vec(&expm(a, step), &x)
             };
             let g1 = events(&x1);
-            let fired = (0..MAX_EVENTS)
+            let fired = (0..M)
                 .filter(|&j| g_start[j] >= 0.0 && g1[j] < 0.0)
                 .min_by(|&p, &q| {
                     let tp = root_time(a, &x, step, p, events);
@@ -1097,8 +1138,33 @@ impl CoilDrive {
     /// one, or not finite, leaves the plant unchanged. After a [`StepUnderflow`] the plant
     /// stops (its time moves on, its state does not): see [`CoilDrive::failure`].
     pub fn advance_to(&mut self, t_s: f64) {
+        self.watch = None;
+        self.advance(t_s);
+    }
+
+    /// Advances the plant towards `t_s` like [`CoilDrive::advance_to`], but stops at the first
+    /// instant the coil current is below `level_a` and returns that instant: the present time
+    /// when the current is already below, else the exact crossing, located inside the segment
+    /// (closed form of the first-order response on a linear coil, the integrators' event
+    /// location otherwise). `None`: the current stayed at or above `level_a` up to `t_s` (the
+    /// plant is then at `t_s`). A `level_a` that is not finite never stops the plant.
+    pub fn advance_until_below(&mut self, t_s: f64, level_a: f64) -> Option<f64> {
+        self.watch = level_a.is_finite().then_some(level_a);
+        let hit = self.advance(t_s);
+        self.watch = None;
+        hit
+    }
+
+    /// The stepping loop of [`CoilDrive::advance_to`]; stops early (returning the time) when
+    /// the watched level is crossed.
+    fn advance(&mut self, t_s: f64) -> Option<f64> {
+        if let Some(w) = self.watch
+            && self.current_a() < w
+        {
+            return Some(self.t);
+        }
         if !t_s.is_finite() {
-            return;
+            return None;
         }
         let mut guard = 0u32;
         while self.t < t_s {
@@ -1115,8 +1181,11 @@ impl CoilDrive {
                     span = next - self.t;
                 }
             }
-            let used = match self.state {
-                CoilState::Idle | CoilState::Open => span,
+            let mut watched = false;
+            match self.state {
+                CoilState::Idle | CoilState::Open => {
+                    self.t += span;
+                }
                 CoilState::Ringing => {
                     let (dt, ev) = self.advance_ring(span);
                     self.t += dt;
@@ -1129,7 +1198,7 @@ impl CoilDrive {
                             self.state = CoilState::BodyDiode;
                             self.after_transition();
                         }
-                        Some(_) => {
+                        Some(2) => {
                             self.event(PlantEventKind::RingPeak);
                             let v = self.v_c;
                             self.note_peaks(v);
@@ -1137,34 +1206,39 @@ impl CoilDrive {
                                 self.update_off_record(v);
                             }
                         }
+                        Some(_) => watched = true,
                         None => {}
                     }
                     self.note_peaks(self.v_c);
-                    self.maybe_thermal();
-                    if guard > 10_000_000 {
-                        break;
-                    }
-                    continue;
                 }
                 _ => {
-                    let (dt, fired) = self.advance1(span);
+                    let (dt, ended) = self.advance1(span);
                     self.t += dt;
-                    if fired {
-                        self.on_event1();
+                    match ended {
+                        Ended::Topology => self.on_event1(),
+                        Ended::Watch => watched = true,
+                        Ended::Span => {}
                     }
                     let v = self.switch_voltage_v();
                     self.note_peaks(v);
-                    self.maybe_thermal();
-                    if guard > 10_000_000 {
-                        break;
-                    }
-                    continue;
                 }
-            };
-            self.t += used;
+            }
             self.maybe_thermal();
+            if watched {
+                return Some(self.t);
+            }
+            if let Some(w) = self.watch
+                && self.current_a() < w
+            {
+                // A jump below the level at a topology change (the current set to zero).
+                return Some(self.t);
+            }
+            if guard > 10_000_000 {
+                break;
+            }
         }
         self.t = self.t.max(t_s);
+        None
     }
 
     fn on_event1(&mut self) {
@@ -1279,7 +1353,7 @@ impl CoilDrive {
 
 /// Time within `(0, step]` where event `j` crosses zero, by Newton's method with bisection
 /// safeguard on the exact solution `x(t) = exp(A t) x`.
-fn root_time<E: Fn(&[f64; 3]) -> [f64; 3]>(
+fn root_time<const M: usize, E: Fn(&[f64; 3]) -> [f64; M]>(
     a: &Mat<3>,
     x: &[f64; 3],
     step: f64,

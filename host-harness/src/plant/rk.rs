@@ -12,7 +12,8 @@
 //!
 //! # Events
 //!
-//! Every segment carries up to [`MAX_EVENTS`] event functions `g_j(y)`, positive while the
+//! Every segment carries `M` event functions `g_j(y)` (the plants use [`MAX_EVENTS`], the coil
+//! drive one more while it watches for a current level), positive while the
 //! segment's topology holds. When an accepted step starts with `g_j ≥ 0` and ends with `g_j < 0`, the step length is
 //! refined by the Illinois variant of regula falsi on `h ↦ g_j(step(y, h))`, each trial being a
 //! fresh fifth-order step from the start of the step (so the located state is as accurate as any
@@ -175,17 +176,17 @@ impl<const N: usize> Rk<N> {
 
     /// Integrates the autonomous system `ẏ = f(y)` for at most `span` seconds, stopping at the
     /// first event `g_j(y) ≤ 0` (module docs). `y` holds the final state.
-    pub(crate) fn integrate<F, G>(
+    pub(crate) fn integrate<const M: usize, F, G>(
         &mut self,
         f: &F,
         g: &G,
-        g_tol: &[f64; MAX_EVENTS],
+        g_tol: &[f64; M],
         y: &mut [f64; N],
         span: f64,
     ) -> Stop
     where
         F: Fn(&[f64; N]) -> [f64; N],
-        G: Fn(&[f64; N]) -> [f64; MAX_EVENTS],
+        G: Fn(&[f64; N]) -> [f64; M],
     {
         let mut done = 0.0;
         let mut h = self.h.min(span).max(span * 1e-12);
@@ -214,7 +215,7 @@ impl<const N: usize> Rk<N> {
             }
             // Accepted: check the events at the end of the step.
             let g1 = g(&y1);
-            let fired = (0..MAX_EVENTS)
+            let fired = (0..M)
                 .filter(|&j| g0[j] >= 0.0 && g1[j] < 0.0)
                 .min_by(|&a, &b| g1[a].total_cmp(&g1[b]));
             if let Some(j) = fired {
@@ -223,7 +224,7 @@ impl<const N: usize> Rk<N> {
                 self.steps += 1;
                 // Another event may fire earlier inside the located step; check them too.
                 let gj = g(y);
-                let earliest = (0..MAX_EVENTS)
+                let earliest = (0..M)
                     .filter(|&k| g0[k] >= 0.0 && gj[k] <= 0.0)
                     .min_by(|&a, &b| gj[a].total_cmp(&gj[b]))
                     .unwrap_or(j);
@@ -253,7 +254,7 @@ impl<const N: usize> Rk<N> {
 
     /// Illinois regula falsi on the step length for event `j` (module docs).
     #[allow(clippy::too_many_arguments)] // the bracket's two ends and their values belong together
-    fn locate<F, G>(
+    fn locate<const M: usize, F, G>(
         &self,
         f: &F,
         g: &G,
@@ -267,7 +268,7 @@ impl<const N: usize> Rk<N> {
     ) -> (f64, [f64; N])
     where
         F: Fn(&[f64; N]) -> [f64; N],
-        G: Fn(&[f64; N]) -> [f64; MAX_EVENTS],
+        G: Fn(&[f64; N]) -> [f64; M],
     {
         let (mut a, mut fa) = (0.0, g_lo);
         let (mut b, mut fb) = (h, g_hi);
