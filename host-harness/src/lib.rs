@@ -15,3 +15,6 @@ pub mod report;
 pub mod scenario;
 pub mod si;
 pub mod sweep;
+pub mod system;
+
+pub use system::{FirmwareInputs, RunReport, SweepOptions, SweepReport, System};

@@ -136,7 +136,7 @@ fn scenarios_and_report(out: &std::path::Path) -> Result<bool, CliError> {
     for (name, f) in &loaded {
         println!();
         all_ok &= super::plan::print_tables(name, f)?;
-        let rep = super::plan::plan(f)?;
+        let rep = crate::system::plan::plan(f).map_err(|e| CliError(e.0))?;
         plans.push(rep);
         let runs = super::sim::run_all(
             std::slice::from_ref(&(name.clone(), f.clone())),

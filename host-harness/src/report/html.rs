@@ -6,8 +6,9 @@ use std::fmt::Write as _;
 
 use super::junit::escape;
 use super::{Outcome, stem};
-use crate::cmd::plan::{Report, num};
+use crate::cmd::plan::num;
 use crate::cmd::sim::value;
+use crate::system::PlanReport as Report;
 
 /// One scenario file's part of the report.
 pub struct Section<'a> {

@@ -26,15 +26,12 @@ use super::schema::{
     Action, BoostStage, ClampSpec, Command, Dist, FaultSpec, File, Property, RangeTolerance,
     RelTolerance, Scenario,
 };
-use crate::closed_loop::{self, AdcChannel, Band, Limits, LoopConfig, Release, RunResult, Sensors};
+use crate::closed_loop::{Band, Limits, LoopConfig, Release, RunResult};
 use crate::controllers::{
     BoostPlan, BoostRegulator, BoostRegulatorConfig, ValveDriver, ValveDriverConfig, ValvePlan,
 };
 use crate::faults::{Channel, Fault, FaultAt};
-use crate::plant::{
-    Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec,
-    Thermal,
-};
+use crate::plant::Boost;
 
 /// The part values of one run: multipliers of the nominal values, and the operating point.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -232,12 +229,15 @@ fn lenz_err(what: &str) -> impl Fn(lenz::Error) -> RunSetupError + '_ {
 }
 
 /// The operating point of a run.
-struct Point {
-    supply_v: f64,
-    temp_c: f64,
+pub(crate) struct Point {
+    /// Supply, V.
+    pub(crate) supply_v: f64,
+    /// Coil temperature, °C.
+    pub(crate) temp_c: f64,
 }
 
-fn point(file: &File, sc: &Scenario, p: &Params) -> Point {
+/// The operating point of scenario `sc` with part values `p`.
+pub(crate) fn point(file: &File, sc: &Scenario, p: &Params) -> Point {
     let s = &file.system;
     Point {
         supply_v: sc
@@ -253,67 +253,18 @@ fn point(file: &File, sc: &Scenario, p: &Params) -> Point {
     }
 }
 
-fn clamp_of(c: &ClampSpec, k: f64) -> Clamp {
-    match *c {
-        ClampSpec::Freewheel { diode_drop } => Clamp::Freewheel {
-            vf_v: diode_drop.get() * k,
-        },
-        ClampSpec::DiodeZener { diode_drop, zener } => Clamp::DiodeZener {
-            vf_v: diode_drop.get(),
-            vz_v: zener.get() * k,
-        },
-        ClampSpec::AcrossSwitch { voltage } => Clamp::AcrossSwitch {
-            vcl_v: voltage.get() * k,
-        },
-        ClampSpec::ResistorDiode {
-            resistor,
-            diode_drop,
-        } => Clamp::ResistorDiode {
-            r_ohm: resistor.get() * k,
-            vf_v: diode_drop.get(),
-        },
-        ClampSpec::Unclamped { capacitance } => Clamp::Unclamped {
-            c_f: capacitance.get() * k,
-        },
-    }
-}
-
-/// The sense channels: `actual` with the chain's errors and the run's gain spread, else the
-/// nominal chain the firmware assumes.
-fn sensors(file: &File, p: &Params, actual: bool) -> Sensors {
-    let s = &file.system.sense;
-    let (gain_error, offset, noise, k) = if actual {
-        (
-            s.gain_error.get(),
-            s.offset.get(),
-            s.noise.get(),
-            p.sense_gain,
-        )
-    } else {
-        (0.0, 0.0, 0.0, 1.0)
-    };
-    let ch = |volts_per_unit: f64, bias_v: f64| AdcChannel {
-        bits: s.adc_bits as u8,
-        vref_v: s.adc_reference.get(),
-        volts_per_unit,
-        bias_v,
-        gain_error,
-        offset_error_v: offset,
-        noise_rms_lsb: noise,
-    };
-    Sensors {
-        current: ch(s.shunt.get() * s.gain.get() * k, s.bias.get()),
-        supply: ch(s.supply_divider.get(), 0.0),
-        output: ch(s.output_divider.get(), 0.0),
-    }
-}
-
 fn ns(t_s: f64) -> u64 {
     (t_s * 1e9).round() as u64
 }
 
 /// The closed-loop configuration of scenario `sc`.
-fn loop_config(file: &File, sc: &Scenario, p: &Params, pt: &Point, record: Record) -> LoopConfig {
+pub(crate) fn loop_config(
+    file: &File,
+    sc: &Scenario,
+    p: &Params,
+    pt: &Point,
+    record: Record,
+) -> LoopConfig {
     let s = &file.system;
     let mut demand = Vec::new();
     let mut faults = Vec::new();
@@ -409,7 +360,7 @@ fn loop_config(file: &File, sc: &Scenario, p: &Params, pt: &Point, record: Recor
         pwm_period_ns: ns(1.0 / s.pwm_frequency.get()),
         duration_ns: ns(sc.duration.get()),
         sample_offset_ns: ns(s.sample_offset.get()),
-        sensors: sensors(file, p, true),
+        sensors: crate::system::sense::actual(file, p),
         seed: p.noise_seed.unwrap_or(sc.noise_seed),
         demand,
         faults,
@@ -433,129 +384,47 @@ fn channel(c: super::schema::Channel) -> Channel {
 /// figures).
 #[must_use]
 pub fn turnoff_clamp(c: &ClampSpec) -> lenz::turnoff::Clamp {
-    use lenz::turnoff::Clamp as T;
-    match *c {
-        ClampSpec::Freewheel { diode_drop } => T::Diode {
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::DiodeZener { diode_drop, zener } => T::Zener {
-            zener_v: zener.get() as f32,
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::AcrossSwitch { voltage } => T::Switch {
-            clamp_v: voltage.get() as f32,
-        },
-        ClampSpec::ResistorDiode {
-            resistor,
-            diode_drop,
-        } => T::Resistor {
-            resistance_ohm: resistor.get() as f32,
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::Unclamped { capacitance } => T::Unclamped {
-            capacitance_f: capacitance.get() as f32,
-        },
-    }
+    crate::system::clamp::core_clamp(c)
 }
 
-/// The coil driver's plan from the file's nominal values at coil temperature `temp_c`.
+/// The example valve driver's plan from the firmware inputs of `file` at coil temperature
+/// `temp_c` (needs `[controller.coil]`).
 ///
 /// # Errors
 ///
 /// The plan rejects a value (named).
 pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSetupError> {
-    let s = &file.system;
-    let (Some(coil), Some(clamp), super::Controller::Coil(c)) = (s.coil, s.clamp, &file.controller)
-    else {
-        return Err(RunSetupError(
-            "system: a coil controller needs [system.coil] and a clamp".into(),
-        ));
-    };
-    let clamp = turnoff_clamp(&clamp);
-    let model = lenz::CoilParams::new(coil.inductance.get() as f32, coil.resistance.get() as f32)
-        .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
-        .with_shunt_resistance_ohm(s.sense.shunt.get() as f32)
-        .validate()
-        .map_err(lenz_err("system.coil"))?;
-    let nominal = sensors(file, &Params::NOMINAL, false);
-    let m = &c.monitor;
-    ValveDriverConfig::new(&ValvePlan {
-        coil: model,
-        temp_c: temp_c as f32,
-        tick_s: s.tick.get() as f32,
-        clamp,
-        release_a: coil.release_current.get() as f32,
-        pull_in_a: c.pull_in_current.get() as f32,
-        pull_in_min_s: c.pull_in_min_time.get() as f32,
-        hold_duty: c.hold_duty.get() as f32,
-        current_adc: nominal.current,
-        supply_adc: nominal.supply,
-        monitor: lenz::kernel::MonitorParams {
-            abs_tol_a: m.abs_tol.get() as f32,
-            rel_tol: m.rel_tol.get() as f32,
-            open_min_estimate_a: m.open_min_estimate.get() as f32,
-            open_max_a: m.open_max.get() as f32,
-            persistence: m.persistence.min(u16::MAX as u32) as u16,
-            stuck_samples: m.stuck_samples.min(u16::MAX as u32) as u16,
-            stuck_min_change_a: m.stuck_min_change.get() as f32,
-        },
-        trip_threshold_a: c.trip_current.get() as f32,
-    })
-    .map_err(lenz_err("controller.coil"))
+    let inputs = crate::system::firmware::inputs(file, temp_c)?;
+    valve_driver(file, &inputs)
 }
 
-fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetupError> {
-    let s = &file.system;
-    let (Some(coil), Some(clamp)) = (s.coil, s.clamp) else {
+/// The example valve driver planned from `inputs` (the firmware inputs of `file`).
+fn valve_driver(
+    file: &File,
+    inputs: &crate::system::FirmwareInputs,
+) -> Result<ValveDriverConfig, RunSetupError> {
+    let super::Controller::Coil(_) = &file.controller else {
         return Err(RunSetupError(
-            "system: missing [system.coil] or [system.clamp]".into(),
+            "controller: the example valve driver needs [controller.coil]".into(),
         ));
     };
-    let l = coil.inductance.get() * p.inductance;
-    let curve = match (coil.knee_current, coil.residual_inductance) {
-        (Some(knee), Some(res)) => InductanceCurve::Knee {
-            l0_h: l,
-            knee_a: knee.get(),
-            l_res_h: res.get() * p.inductance,
-        },
-        (None, None) => InductanceCurve::Linear { l_h: l },
-        _ => {
-            return Err(RunSetupError(
-                "system.coil: `knee_current` and `residual_inductance` go together".into(),
-            ));
-        }
-    };
-    let thermal = match (coil.thermal_resistance, coil.thermal_capacitance) {
-        (Some(r), Some(c)) => Some(Thermal {
-            r_th_k_per_w: r.get(),
-            c_th_j_per_k: c.get(),
-            ambient_c: pt.temp_c,
-        }),
-        (None, None) => None,
-        _ => {
-            return Err(RunSetupError(
-                "system.coil: `thermal_resistance` and `thermal_capacitance` go together".into(),
-            ));
-        }
-    };
-    CoilDrive::new(CoilDriveSpec {
-        coil: CoilSpec {
-            curve,
-            r20_ohm: coil.resistance.get() * p.resistance,
-            alpha20_per_k: 0.00393,
-            temp_c: pt.temp_c,
-            thermal,
-        },
-        clamp: clamp_of(&clamp, p.clamp),
-        switch: SwitchSpec {
-            on_resistance_ohm: s.switch.on_resistance.get(),
-            breakdown_v: s.switch.breakdown.get(),
-        },
-        supply_v: pt.supply_v,
-        source_resistance_ohm: s.supply.source_resistance.get(),
-        shunt_ohm: s.sense.shunt.get(),
+    let c = inputs.coil()?;
+    let nominal = crate::system::sense::nominal(file);
+    ValveDriverConfig::new(&ValvePlan {
+        coil: c.coil,
+        temp_c: inputs.temp_c,
+        tick_s: inputs.tick_s,
+        clamp: c.clamp,
+        release_a: c.release_a,
+        pull_in_a: c.settings.pull_in_a,
+        pull_in_min_s: c.settings.pull_in_min_s,
+        hold_duty: c.settings.hold_duty,
+        current_adc: nominal.current,
+        supply_adc: nominal.supply,
+        monitor: c.settings.monitor,
+        trip_threshold_a: c.settings.trip_a,
     })
-    .map_err(lenz_err("system"))
+    .map_err(lenz_err("controller.coil"))
 }
 
 /// The plan-side boost stage of the file (nominal values).
@@ -564,16 +433,7 @@ fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetup
 ///
 /// The plan rejects a value (named).
 pub fn boost_stage(file: &File, b: &BoostStage) -> Result<lenz::boost::BoostStage, RunSetupError> {
-    let s = &file.system;
-    lenz::boost::BoostStageParams::new(b.inductance.get() as f32, s.pwm_frequency.get() as f32)
-        .with_inductor_resistance_ohm(b.dcr.get() as f32)
-        .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
-        .with_diode_drop_v(b.diode_drop.get() as f32)
-        .with_saturation_current_a(b.saturation_current.get() as f32)
-        .with_min_off_time_s(b.min_off_time.get() as f32)
-        .with_min_on_time_s(b.min_on_time.get() as f32)
-        .validate()
-        .map_err(lenz_err("system.boost"))
+    crate::system::plan::boost_stage(file, b)
 }
 
 /// The boost regulator's plan from the file's nominal values and the nominal sense chain.
@@ -586,38 +446,10 @@ pub fn boost_regulator(
     b: &BoostStage,
     c: &super::BoostController,
 ) -> Result<BoostRegulatorConfig, RunSetupError> {
-    let s = &file.system;
-    let nominal = sensors(file, &Params::NOMINAL, false);
-    let adc_max = ((1u32 << s.sense.adc_bits) - 1).min(u32::from(u16::MAX)) as u16;
+    let inputs = crate::system::firmware::inputs(file, file.system.temperature.nominal.get())?;
     BoostRegulatorConfig::new(&BoostPlan {
-        stage: boost_stage(file, b)?,
-        limiter: lenz::kernel::DutyLimiterParams {
-            input_v: lenz::Range::new(
-                "input_v",
-                c.input_min.get() as f32,
-                c.input_max.get() as f32,
-            )
-            .map_err(lenz_err("controller.boost"))?,
-            output_v: b.output.get() as f32,
-            max_load_current_a: c.max_load_current.get() as f32,
-            light_load: match (c.light_load_current, c.light_load_max_output) {
-                (Some(i), Some(v)) => Some(lenz::boost::LightLoad {
-                    min_load_current_a: i.get() as f32,
-                    max_output_v: v.get() as f32,
-                }),
-                _ => None,
-            },
-            input_v_per_count: nominal.supply.units_per_count() as f32,
-            output_v_per_count: nominal.output.units_per_count() as f32,
-            adc_max_counts: adc_max,
-            duty_full_scale: c.duty_full_scale,
-            soft_start_s: c.soft_start.get() as f32,
-            tick_s: s.tick.get() as f32,
-            overvoltage_v: c.overvoltage.get() as f32,
-            resume_v: c.resume.get() as f32,
-            inductance_tol: b.inductance_tolerance.get() as f32,
-            resistance_tol: b.resistance_tolerance.get() as f32,
-        },
+        stage: crate::system::plan::boost_stage(file, b)?,
+        limiter: crate::system::plan::duty_limiter_params(file, b, c, &inputs.sense)?,
         kp_per_v: c.kp.get() as f32,
         ki_per_v_tick: c.ki.get() as f32,
         bypass_limiter: false,
@@ -636,61 +468,41 @@ pub fn boost_plant(
     p: &Params,
     supply_v: f64,
 ) -> Result<Boost, RunSetupError> {
-    let s = &file.system;
-    Boost::new(BoostSpec {
-        inductor: InductanceCurve::Linear {
-            l_h: b.inductance.get() * p.inductance,
-        },
-        dcr_ohm: b.dcr.get() * p.resistance,
-        switch_on_resistance_ohm: s.switch.on_resistance.get(),
-        diode_drop_v: b.diode_drop.get(),
-        output_c_f: b.output_capacitance.get(),
-        esr_ohm: b.esr.get(),
-        load_ohm: b.load.get() * p.load,
-        input_v: supply_v,
-        source_resistance_ohm: s.supply.source_resistance.get(),
-    })
-    .map_err(lenz_err("system.boost"))
+    crate::system::plant::boost_plant(file, b, p, supply_v)
 }
 
-/// Runs scenario `index` of `file` with part values `p`.
+/// Runs scenario `index` of `file` with part values `p` and the file's example controller
+/// (`[controller]`).
 ///
 /// # Errors
 ///
-/// A value the plans or the plant reject, or a timing the closed loop rejects.
+/// The file has no `[controller]`, a value the plans or the plant reject, or a timing the
+/// closed loop rejects.
 pub fn run(
     file: &File,
     index: usize,
     p: &Params,
     record: Record,
 ) -> Result<RunResult, RunSetupError> {
-    let sc = file
-        .scenarios
-        .get(index)
-        .ok_or_else(|| RunSetupError(format!("no scenario number {index}")))?;
-    let pt = point(file, sc, p);
-    let cfg = loop_config(file, sc, p, &pt, record);
-    let loop_err = |e: closed_loop::RunError| RunSetupError(format!("scenario '{}': {e}", sc.name));
     match &file.controller {
-        super::Controller::Coil(_) => {
-            let mut plant = coil_plant(file, p, &pt)?;
-            plant.set_record_events(false);
-            let mut ctrl = ValveDriver::new(coil_driver(file, pt.temp_c)?);
-            closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
-        }
+        super::Controller::Coil(_) => crate::system::run_fallible(file, index, p, record, |fw| {
+            valve_driver(file, fw).map(ValveDriver::new)
+        }),
         super::Controller::Boost(c) => {
             let Some(b) = &file.system.boost else {
                 return Err(RunSetupError(
                     "system: a boost controller needs [system.boost]".into(),
                 ));
             };
-            let mut plant = boost_plant(file, b, p, pt.supply_v)?;
-            // The input was up before the rail is enabled: the output starts precharged
-            // through the diode.
-            plant.settle_off();
-            let mut ctrl = BoostRegulator::new(boost_regulator(file, b, c)?);
-            closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
+            let reg = boost_regulator(file, b, c)?;
+            crate::system::run_fallible(file, index, p, record, |_| Ok(BoostRegulator::new(reg)))
         }
+        super::Controller::Own => Err(RunSetupError(
+            "controller: the file has no [controller]; the command line runs only the built-in \
+             example controllers ([controller.coil] or [controller.boost]); run your own \
+             controller from your tests with lenz_harness::System"
+                .into(),
+        )),
     }
 }
 

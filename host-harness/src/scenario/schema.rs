@@ -17,7 +17,10 @@ use super::quantity::{
 pub struct File {
     /// The drive system.
     pub system: System,
-    /// The firmware controller under test and its parameters.
+    /// The example controller the command line runs, and its settings (absent: the file is
+    /// for the user's own controller, run from their tests through
+    /// [`System`](crate::system::System)).
+    #[serde(default)]
     pub controller: Controller,
     /// Spreads for `lenz sweep`; parameters not listed stay at their nominal value.
     #[serde(default)]
@@ -241,6 +244,9 @@ pub struct Coil {
     pub pull_in_current: Pos<Ampere>,
     /// Current below which the armature is taken as released, A.
     pub release_current: Pos<Ampere>,
+    /// Must-hold current: below it a pulled-in armature drops out, A (optional; the lower
+    /// limit of `hold-current` and of the plan's hold verdict).
+    pub hold_current: Option<Pos<Ampere>>,
 }
 
 /// The clamp network across the coil or the switch (one kind per file).
@@ -438,10 +444,15 @@ impl TryFrom<RawSense> for Sense {
     }
 }
 
-/// The controller under test: one of the example controllers with its parameters.
-#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+/// The controller under test: one of the example controllers with its parameters, or the
+/// user's own (no `[controller]` table).
+#[derive(Debug, Clone, Copy, Default, Deserialize, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Controller {
+    /// No `[controller]`: the user's own controller, given in code.
+    #[default]
+    #[serde(skip_deserializing)]
+    Own,
     /// Valve or relay driver: pull-in at full voltage, PWM hold, estimator, monitor, trip
     /// detector, off-timer.
     Coil(CoilController),

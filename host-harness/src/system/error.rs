@@ -1,0 +1,16 @@
+//! Why a system could not be planned or run.
+
+pub use crate::scenario::run::RunSetupError as SetupError;
+
+impl SetupError {
+    /// An error with this text.
+    #[must_use]
+    pub fn new(text: impl Into<String>) -> SetupError {
+        SetupError(text.into())
+    }
+
+    /// A core error, prefixed with the table it came from.
+    pub(crate) fn lenz(what: &str) -> impl Fn(lenz::Error) -> SetupError + '_ {
+        move |e| SetupError(format!("{what}: {e}"))
+    }
+}
