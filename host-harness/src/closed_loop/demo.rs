@@ -219,6 +219,7 @@ pub fn valve_limits() -> Limits {
         }),
         output_band: None,
         estimator_error_max_a: Some(0.030),
+        ..Limits::default()
     }
 }
 

@@ -202,8 +202,14 @@ pub fn table(outcomes: &[Outcome], show_file: bool) -> comfy_table::Table {
                 o.scenario.clone(),
                 p.name.replace('_', " "),
                 value(p.value, p.unit),
-                value(p.limit, p.unit),
-                if p.pass { "pass" } else { "FAIL" }.to_string(),
+                match p.bound {
+                    crate::closed_loop::Bound::Max => value(p.limit, p.unit),
+                    crate::closed_loop::Bound::Min => format!("≥ {}", value(p.limit, p.unit)),
+                },
+                match &p.detail {
+                    Some(d) => format!("{}\n{d}", if p.pass { "pass" } else { "FAIL" }),
+                    None => if p.pass { "pass" } else { "FAIL" }.to_string(),
+                },
             ];
             if show_file {
                 row.insert(0, o.file.clone());

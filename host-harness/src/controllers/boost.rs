@@ -149,6 +149,7 @@ impl Controller for BoostRegulator {
         Telemetry {
             estimate_a: None,
             tripped: false,
+            trip_cause: None,
         }
     }
 }

@@ -20,7 +20,7 @@
 //!
 //! All per-tick arithmetic is integer; the plan ([`ValvePlan`]) is f32 at start-up.
 
-use crate::closed_loop::{Actuation, AdcChannel, Controller, Sensed, Telemetry};
+use crate::closed_loop::{Actuation, AdcChannel, Controller, Sensed, Telemetry, TripCause};
 use lenz::kernel::{
     EstimatorConfig, EstimatorState, MonitorConfig, MonitorParams, MonitorState, OffStatus,
     OffTimerState, SenseScale, TrackingOffTimerConfig, TripConfig, TripParams, TripState,
@@ -296,6 +296,11 @@ impl Controller for ValveDriver {
         Telemetry {
             estimate_a: Some(self.est.current_ua() as f64 * 1e-6),
             tripped: self.tripped,
+            trip_cause: self.tripped.then(|| {
+                self.mon
+                    .fault()
+                    .map_or(TripCause::Instantaneous, TripCause::Plausibility)
+            }),
         }
     }
 }

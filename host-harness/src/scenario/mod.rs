@@ -329,14 +329,37 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 return Err((key, place(Some(("[[scenario.event]]", j))), b.into()));
             }
         }
+        let commands_on = s
+            .events
+            .iter()
+            .any(|e| matches!(e.action, Action::Command(Command::On)));
         for (j, c) in s.checks.iter().enumerate() {
             let key = format!("scenario[{k}].check[{j}].property");
             let bad = match c.property {
                 Property::OutputBand if !is_boost => Some("output-band applies to a boost stage"),
-                Property::ReleaseTime | Property::ClampEnergy | Property::EstimatorError
+                Property::ReleaseTime
+                | Property::ClampEnergy
+                | Property::EstimatorError
+                | Property::PullInTime
+                | Property::HoldCurrent
+                | Property::CoilTemperature
+                | Property::CoilPower
                     if is_boost =>
                 {
                     Some("applies to a coil drive")
+                }
+                Property::PullInTime | Property::HoldCurrent | Property::CoilPower
+                    if !commands_on =>
+                {
+                    Some("needs an event with `command = \"on\"`: without one it checks nothing")
+                }
+                Property::HoldCurrent
+                    if c.min.is_none()
+                        && f.system.coil.is_none_or(|k| k.hold_current.is_none()) =>
+                {
+                    Some(
+                        "missing key `min`: the must-hold current (or give `hold_current` in [system.coil])",
+                    )
                 }
                 _ => None,
             };

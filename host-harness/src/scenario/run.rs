@@ -26,7 +26,7 @@ use super::schema::{
     Action, BoostStage, ClampSpec, Command, Dist, FaultSpec, File, Property, RangeTolerance,
     RelTolerance, Scenario,
 };
-use crate::closed_loop::{Band, Limits, LoopConfig, Release, RunResult};
+use crate::closed_loop::{self, Band, Limits, LoopConfig, Release, RunResult};
 use crate::controllers::{
     BoostPlan, BoostRegulator, BoostRegulatorConfig, ValveDriver, ValveDriverConfig, ValvePlan,
 };
@@ -326,6 +326,7 @@ pub(crate) fn loop_config(
         });
     }
     let mut limits = Limits::default();
+    let mut pull_in_max = None;
     for c in &sc.checks {
         let m = Some(c.max);
         match c.property {
@@ -353,8 +354,20 @@ pub(crate) fn loop_config(
                 });
             }
             Property::EstimatorError => limits.estimator_error_max_a = m,
+            Property::PullInTime => pull_in_max = m,
+            Property::HoldCurrent => {
+                limits.hold_current_min_a = c
+                    .min
+                    .or(s.coil.and_then(|k| k.hold_current.map(|h| h.get())));
+            }
+            Property::CoilTemperature => limits.coil_temperature_max_c = m,
+            Property::CoilPower => limits.coil_power_max_w = m,
         }
     }
+    limits.pull_in = s.coil.map(|k| closed_loop::PullIn {
+        current_a: k.pull_in_current.get(),
+        max_s: pull_in_max,
+    });
     LoopConfig {
         tick_ns: ns(s.tick.get()),
         pwm_period_ns: ns(1.0 / s.pwm_frequency.get()),
