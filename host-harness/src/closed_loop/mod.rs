@@ -150,6 +150,17 @@ pub enum TripCause {
     Other,
 }
 
+impl From<lenz::kernel::Cause> for TripCause {
+    fn from(c: lenz::kernel::Cause) -> TripCause {
+        match c {
+            lenz::kernel::Cause::Instantaneous => TripCause::Instantaneous,
+            lenz::kernel::Cause::InverseTime => TripCause::InverseTime,
+            lenz::kernel::Cause::Thermal => TripCause::Thermal,
+            lenz::kernel::Cause::SensorFault => TripCause::StuckSensor,
+        }
+    }
+}
+
 impl std::fmt::Display for TripCause {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {

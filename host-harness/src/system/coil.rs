@@ -9,15 +9,22 @@ use crate::scenario::{self, File};
 
 /// The nominal coil model of `[system.coil]` with everything in its loop that the
 /// description names: the winding, the switch's on-resistance, the shunt and the supply's
-/// source resistance (the plant has all four in the loop, so the firmware's model must too).
-/// Copper's temperature coefficient is the core's [`lenz::coil::COPPER_ALPHA20_PER_K`].
+/// source resistance (the plant has all four in the loop, so the firmware's model must too),
+/// and a freewheel clamp's diode drop (the off path of the PWM steady state). Copper's
+/// temperature coefficient is the core's [`lenz::coil::COPPER_ALPHA20_PER_K`].
 #[must_use]
 pub fn coil_params(file: &File, coil: &scenario::Coil) -> CoilParams {
     let s = &file.system;
-    CoilParams::new(coil.inductance.get() as f32, coil.resistance.get() as f32)
+    let params = CoilParams::new(coil.inductance.get() as f32, coil.resistance.get() as f32)
         .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
         .with_source_resistance_ohm(s.supply.source_resistance.get() as f32)
-        .with_shunt_resistance_ohm(s.sense.shunt.get() as f32)
+        .with_shunt_resistance_ohm(s.sense.shunt.get() as f32);
+    match s.clamp {
+        Some(scenario::ClampSpec::Freewheel { diode_drop }) => {
+            params.with_diode_drop_v(diode_drop.get() as f32)
+        }
+        _ => params,
+    }
 }
 
 /// [`coil_params`], validated.

@@ -210,6 +210,9 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, SetupEr
             },
         ));
     }
+    if let crate::scenario::Controller::Coil(c) = &f.controller {
+        settings_verdicts(f, coil, clamp, c, &spread, &mut figures, &mut verdicts)?;
+    }
     let find = |name: &str| figures.iter().find(|f| f.figure == name);
     let r = &s.ratings;
     if let Some(v) = r.switch_voltage {
@@ -491,4 +494,70 @@ pub fn duty_limiter_params(
         inductance_tol: b.inductance_tolerance.get() as f32,
         resistance_tol: b.resistance_tolerance.get() as f32,
     })
+}
+
+/// The coil controller's settings against the worst-case coil:
+///
+/// - the pull-in current setting must lie below the lowest steady current (the hot,
+///   low-supply corner), or the driver never sees it and never leaves full drive;
+/// - with a must-hold current (`hold_current` in `[system.coil]`), the lowest current of the
+///   PWM hold (the valley of the periodic steady state, [`lenz::Coil::pwm_steady_state`]) at
+///   the worst corner must stay at or above it. The steady state is the closed form for a
+///   freewheel diode; a hold through another clamp kind is a failed verdict that says so.
+fn settings_verdicts(
+    f: &File,
+    coil: &Coil,
+    clamp: &ClampSpec,
+    c: &crate::scenario::CoilController,
+    spread: &CoilSpread,
+    figures: &mut Vec<Figure>,
+    verdicts: &mut Vec<Verdict>,
+) -> Result<(), SetupError> {
+    let steady = spread.steady_current_a().map_err(err("steady current"))?;
+    let setting = c.pull_in_current.get() as f32;
+    verdicts.push(Verdict {
+        check: "pull-in current setting < lowest steady current (the driver reaches it)".into(),
+        value: Some(setting),
+        limit: steady.min,
+        unit: "A",
+        pass: setting < steady.min,
+        note: Some(format!(
+            "lowest steady current at {}",
+            coil_corner(&steady.min_at)
+        )),
+    });
+    let Some(must_hold) = coil.hold_current else {
+        return Ok(());
+    };
+    let duty = c.hold_duty.get() as f32;
+    let check = "lowest hold current ≥ must-hold current".to_string();
+    if clamp::ClampKind::of_spec(clamp) != clamp::ClampKind::Freewheel {
+        verdicts.push(Verdict {
+            check,
+            value: None,
+            limit: must_hold.get() as f32,
+            unit: "A",
+            pass: false,
+            note: Some(format!(
+                "a PWM hold through a {} is not planned here; hold with a freewheel diode",
+                clamp::ClampKind::of_spec(clamp)
+            )),
+        });
+        return Ok(());
+    }
+    let freq = f.system.pwm_frequency.get() as f32;
+    let hold = spread
+        .figure(|k, v, t| k.pwm_steady_state(v, t, duty, freq).map(|s| s.min_a))
+        .map_err(err("controller.coil.hold_duty"))?;
+    let fig = figure("hold current (PWM valley)", "A", &hold, coil_corner);
+    verdicts.push(Verdict {
+        check,
+        value: Some(hold.min),
+        limit: must_hold.get() as f32,
+        unit: "A",
+        pass: hold.min >= must_hold.get() as f32,
+        note: Some(format!("lowest at {}", fig.min_text)),
+    });
+    figures.push(fig);
+    Ok(())
 }
