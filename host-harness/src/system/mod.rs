@@ -6,7 +6,8 @@
 //! boost stage, tick and PWM, ratings, requirements, tolerances and scenarios. From it:
 //!
 //! - [`System::plan`]: the worst-case plan with its verdicts ([`plan`]);
-//! - [`System::plant`]: the plant for one draw of the tolerances ([`plant`]);
+//! - [`System::coil_plant`], [`System::boost_plant`]: the plant for one draw of the tolerances
+//!   ([`plant`]);
 //! - [`System::firmware_inputs`]: the kernel configurations that firmware computes at init from
 //!   the nominal description, and the sense scaling ([`FirmwareInputs`]);
 //! - [`System::run_all`], [`System::sweep`], [`System::replay`]: the scenarios in the closed
@@ -145,6 +146,40 @@ impl System {
     /// A kernel's constructor rejects a value (named).
     pub fn firmware_inputs_at(&self, temp_c: f64) -> Result<FirmwareInputs, SetupError> {
         firmware::inputs(&self.file, temp_c)
+    }
+
+    /// The coil drive's plant for part values `p` (a draw, or [`Params::NOMINAL`]) at
+    /// `supply_v` and coil temperature `temp_c`.
+    ///
+    /// # Errors
+    ///
+    /// Not a coil drive, or the plant rejects a value (named).
+    pub fn coil_plant(
+        &self,
+        p: &Params,
+        supply_v: f64,
+        temp_c: f64,
+    ) -> Result<crate::plant::CoilDrive, SetupError> {
+        plant::coil_plant(&self.file, p, supply_v, temp_c)
+    }
+
+    /// The boost stage's plant for part values `p` at `supply_v`.
+    ///
+    /// # Errors
+    ///
+    /// Not a boost stage, or the plant rejects a value (named).
+    pub fn boost_plant(
+        &self,
+        p: &Params,
+        supply_v: f64,
+    ) -> Result<crate::plant::Boost, SetupError> {
+        let b = self
+            .file
+            .system
+            .boost
+            .as_ref()
+            .ok_or_else(|| SetupError::new("system: no [system.boost]"))?;
+        plant::boost_plant(&self.file, b, p, supply_v)
     }
 
     /// The part values of run `index` of a sweep with `seed`.
