@@ -23,7 +23,7 @@
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
-use crate::closed_loop::RunResult;
+use crate::closed_loop::{Bound, RunResult};
 use crate::scenario::File;
 use crate::scenario::run::{self, Params, Record, RunSetupError};
 
@@ -41,6 +41,13 @@ pub struct Key {
     pub unit: String,
     /// Limit.
     pub limit: f64,
+    /// The limit's side (a maximum unless said otherwise).
+    #[serde(default = "max_bound")]
+    pub bound: Bound,
+}
+
+fn max_bound() -> Bound {
+    Bound::Max
 }
 
 /// One run: its index, part values and the value of every property (in [`Key`] order).
@@ -258,6 +265,7 @@ pub fn sweep(plan: &Plan<'_>, tick: &(dyn Fn() + Sync)) -> Result<Output, RunSet
                     property: p.name.to_string(),
                     unit: p.unit.to_string(),
                     limit: p.limit,
+                    bound: p.bound,
                 });
             }
         }
@@ -320,8 +328,13 @@ pub fn summarise(
                 .collect();
             let n = vals.len() as u64;
             let passed = vals.iter().filter(|v| v.2).count() as u64;
-            // Worst: a non-finite value first, then the largest; ties to the lowest index.
-            let rank = |v: Option<f64>| v.unwrap_or(f64::INFINITY);
+            // Worst: a non-finite value first, then the largest (the smallest for a lower
+            // limit); ties to the lowest index.
+            let rank = |v: Option<f64>| match (v, key.bound) {
+                (None, _) => f64::INFINITY,
+                (Some(x), Bound::Max) => x,
+                (Some(x), Bound::Min) => -x,
+            };
             let worst = vals
                 .iter()
                 .fold(None::<&(u64, Option<f64>, bool, &Params)>, |w, v| match w {

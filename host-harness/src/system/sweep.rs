@@ -80,6 +80,7 @@ fn one_run<C: Controller>(
                 property: p.name.to_string(),
                 unit: p.unit.to_string(),
                 limit: p.limit,
+                bound: p.bound,
             });
             values.push(Some(p.value).filter(|v| v.is_finite()));
             pass.push(p.pass);
