@@ -16,8 +16,8 @@ use std::process::ExitCode;
 use lenz::{Bound, bounds::CoilCorner};
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError};
 use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError};
 use crate::demo::{self, DemoCoil};
 
 /// Arguments of `lenz demo`.

@@ -6,8 +6,8 @@
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError};
+use super::common::{CAUTION, CliError};
+use super::table::new_table;
 use crate::scenario::{self, File};
 use crate::system::plan::plan;
 
@@ -22,15 +22,7 @@ pub struct Args {
     json: bool,
 }
 
-/// A figure's value for people: engineering notation, or four decimals for a ratio.
-#[must_use]
-pub fn num(v: f32, unit: &str) -> String {
-    if unit.is_empty() {
-        format!("{v:.4}")
-    } else {
-        si(v.into(), unit)
-    }
-}
+pub use crate::report::text::num;
 
 /// Prints the plan tables of `f` (human form); returns whether every verdict passes.
 ///

@@ -6,8 +6,8 @@ use std::process::ExitCode;
 
 use serde::Serialize;
 
-use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError};
+use super::common::{CAUTION, CliError};
+use super::table::new_table;
 use crate::closed_loop::Property;
 use crate::report::{self, Outcome};
 use crate::scenario::{
@@ -177,16 +177,7 @@ pub fn write_outputs(
     Ok(written)
 }
 
-/// A value in engineering notation, or "never" for an infinite time.
-pub fn value(v: f64, unit: &str) -> String {
-    if v.is_infinite() && unit == "s" {
-        "never".into()
-    } else if unit == "trips" {
-        format!("{v:.0}")
-    } else {
-        si(v, unit)
-    }
-}
+pub use crate::report::text::value;
 
 /// The human table of `outcomes`.
 #[must_use]

@@ -9,9 +9,9 @@ use std::process::ExitCode;
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
+use super::common::{CAUTION, CliError};
 use super::sim::{describe, value};
 use super::table::new_table;
-use crate::cli::{CAUTION, CliError};
 use crate::report::slug;
 use crate::sweep::{self, Output, Plan, Shard};
 

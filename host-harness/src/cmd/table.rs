@@ -1,18 +1,7 @@
-//! Readable tables and engineering-notation numbers for the human output.
+//! Readable tables and engineering-notation numbers for the human output (defined in
+//! [`crate::report::text`], so the reports need not import the commands).
 
-use comfy_table::{ContentArrangement, Table, presets::UTF8_FULL_CONDENSED};
-
-/// A table in the house style, with `header` as its first row.
-#[must_use]
-pub fn new_table(header: &[&str]) -> Table {
-    let mut t = Table::new();
-    t.load_preset(UTF8_FULL_CONDENSED)
-        .set_content_arrangement(ContentArrangement::Dynamic)
-        .set_header(header.iter().copied());
-    t
-}
-
-pub use crate::si::format as si;
+pub use crate::report::text::{new_table, si};
 
 #[cfg(test)]
 mod tests {

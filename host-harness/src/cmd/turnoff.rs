@@ -8,8 +8,8 @@ use lenz::turnoff::{
 };
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError, ampere, henry, ohm, volt};
 use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError, ampere, henry, ohm, volt};
 use crate::si::{self, Unit};
 use crate::system::ClampKind;
 

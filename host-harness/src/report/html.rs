@@ -6,8 +6,7 @@ use std::fmt::Write as _;
 
 use super::junit::escape;
 use super::{Outcome, stem};
-use crate::cmd::plan::num;
-use crate::cmd::sim::value;
+use crate::report::text::{num, value};
 use crate::system::PlanReport as Report;
 
 /// One scenario file's part of the report.
