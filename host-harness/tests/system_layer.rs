@@ -97,8 +97,8 @@ fn the_plan_fails_a_pull_in_setting_above_the_lowest_steady_current() {
         .find(|v| v.check.starts_with("pull-in current setting"))
         .expect("the verdict");
     assert!(!v.pass);
-    // Lowest steady current: 21.6 V over 32 Ω · 1.05 · (1 + 0.00393 · 65) + 0.31 Ω (IEC 60028
-    // copper; computed: closed form) at the hot, low-supply corner, named in the note.
+    // Lowest steady current: 21.6 V over 32 Ω · 1.05 · (1 + 0.00393 · 65) + 0.31 Ω (copper,
+    // published: IEC28; computed: closed form) at the hot, low-supply corner, named in the note.
     let r = 32.0 * 1.05 * (1.0 + 0.00393 * 65.0) + 0.31;
     assert!(
         (f64::from(v.limit) - 21.6 / r).abs() < 1e-4 * 21.6 / r,
@@ -131,7 +131,7 @@ fn the_plan_fails_a_hold_below_the_must_hold_current() {
     };
     // Mean hold current (D·V − (1 − D)·V_f)/R at the hot, low-supply corner, R = 42.70 Ω:
     // duty 0.45 gives 0.219 A, below 0.3 A; duty 0.7 gives 0.347 A (the valley lies a few mA
-    // below the mean at 20 kHz; computed: closed form).
+    // below the mean at 20 kHz; copper per published: IEC28; computed: closed form).
     let low = verdict("0.45");
     assert!(!low.pass, "{low:?}");
     let r = 32.0 * 1.05 * (1.0 + 0.00393 * 65.0) + 0.31;
@@ -227,4 +227,24 @@ fn a_file_without_a_controller_runs_only_from_code() {
     )
     .expect_err("no built-in controller");
     assert!(e.to_string().contains("no [controller]"), "{e}");
+}
+
+#[test]
+fn the_inputs_plan_a_drive_coil_driver() {
+    use lenz::drive::{CoilDriverConfig, Hold, PullInSource};
+    let fw = valve().firmware_inputs().unwrap_or_else(|e| panic!("{e}"));
+    let params = fw
+        .coil_driver_params(Hold::Duty { duty: 0.45 }, PullInSource::Estimate, 0.1)
+        .unwrap();
+    let cfg = CoilDriverConfig::new(&params).unwrap_or_else(|e| panic!("{e}"));
+    // The driver's kernels are the inputs' kernels.
+    let c = fw.coil.expect("a coil drive");
+    assert_eq!(cfg.raw().monitor, c.monitor.raw());
+    assert_eq!(cfg.raw().trip, c.trip.raw());
+    assert_eq!(
+        cfg.raw().off_timer,
+        c.off_timer.map(|o| o.raw()).expect("tracked")
+    );
+    // 0.48 A of [controller.coil], in µA.
+    assert_eq!(cfg.raw().pull_in_ua, 480_000);
 }

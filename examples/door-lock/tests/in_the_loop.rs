@@ -26,7 +26,8 @@ fn the_lock_is_safe_in_every_scenario() {
     assert!(report.all_hold(), "{report}");
     // The properties are really measured: the hold lies between the must-hold current and
     // the full-drive current of the hot, low-supply corner (10.8 V over 12 Ω · (1 + 0.00393 ·
-    // 65) plus 0.2 Ω of switch, shunt and source: 0.71 A; IEC 60028 copper).
+    // 65) plus 0.2 Ω of switch, shunt and source: 0.71 A; copper per published: IEC28;
+    // computed: closed form).
     let hold = report
         .property("hot coil, low supply", "hold_current")
         .expect("hold-current checked");

@@ -144,6 +144,42 @@ impl FirmwareInputs {
             .ok_or_else(|| SetupError::new("system: a coil firmware needs [system.coil]"))
     }
 
+    /// The plan of a [`lenz::drive::CoilDriver`] for this system: the coil, clamp, supply range,
+    /// sense scaling, monitor and trip detector of these inputs, the pull-in setting and its
+    /// shortest time from [`CoilSettings`], with the driver's own choices given here: the
+    /// hold, what must reach the pull-in current, and the longest pull-in.
+    ///
+    /// # Errors
+    ///
+    /// The system is not a coil drive.
+    pub fn coil_driver_params(
+        &self,
+        hold: lenz::drive::Hold,
+        pull_in_source: lenz::drive::PullInSource,
+        pull_in_max_s: f32,
+    ) -> Result<lenz::drive::CoilDriverParams, SetupError> {
+        let c = self.coil()?;
+        Ok(lenz::drive::CoilDriverParams {
+            coil: c.coil,
+            temp_c: self.temp_c,
+            tick_s: self.tick_s,
+            clamp: c.clamp,
+            supply_v: self.supply_v,
+            release_a: c.release_a,
+            pull_in_a: c.settings.pull_in_a,
+            pull_in_source,
+            pull_in_min_s: c.settings.pull_in_min_s,
+            pull_in_max_s,
+            hold,
+            pwm_frequency_hz: self.pwm_frequency_hz,
+            current_sense: self.sense.current,
+            supply_v_per_count: self.sense.supply_v_per_count,
+            supply_zero_counts: self.sense.supply_zero_counts,
+            monitor: c.settings.monitor,
+            trip: c.trip_params,
+        })
+    }
+
     /// Current reading → µA, as the firmware computes it.
     #[must_use]
     pub fn current_ua(&self, counts: u16) -> i32 {
