@@ -248,3 +248,105 @@ fn the_inputs_plan_a_drive_coil_driver() {
     // 0.48 A of [controller.coil], in µA.
     assert_eq!(cfg.raw().pull_in_ua, 480_000);
 }
+
+/// A controller that switches fully on while the demand is on.
+struct FullOn;
+
+impl lenz_harness::closed_loop::Controller for FullOn {
+    fn tick(
+        &mut self,
+        s: &lenz_harness::closed_loop::Sensed,
+    ) -> lenz_harness::closed_loop::Actuation {
+        if s.demand {
+            lenz_harness::closed_loop::Actuation::ON
+        } else {
+            lenz_harness::closed_loop::Actuation::OFF
+        }
+    }
+}
+
+#[test]
+fn coil_properties_against_the_step_response() {
+    // A linear coil without a thermal model, switched fully on at 10 ms and off at 40 ms
+    // (invented values).
+    let text = r#"
+[system]
+name = "step"
+tick = "100us"
+pwm_frequency = "20kHz"
+sample_offset = "20us"
+[system.supply]
+min = "12V"
+nominal = "12V"
+max = "12V"
+source_resistance = "0.1ohm"
+[system.temperature]
+min = 20
+nominal = 20
+max = 20
+[system.coil]
+inductance = "40mH"
+resistance = "12ohm"
+pull_in_current = "0.6A"
+release_current = "0.1A"
+hold_current = "0.25A"
+[system.clamp.freewheel]
+diode_drop = "0.7V"
+[system.switch]
+on_resistance = "50mohm"
+breakdown = "40V"
+[system.sense]
+adc_bits = 12
+adc_reference = "3.3V"
+shunt = "50mohm"
+gain = 20
+bias = "80.57mV"
+supply_divider = 0.175
+output_divider = 0.05
+[[scenario]]
+name = "step"
+duration = "50ms"
+[[scenario.event]]
+at = "10ms"
+command = "on"
+[[scenario.event]]
+at = "40ms"
+command = "off"
+[[scenario.check]]
+property = "pull-in-time"
+max = "10ms"
+[[scenario.check]]
+property = "hold-current"
+[[scenario.check]]
+property = "coil-temperature"
+max = 21
+[[scenario.check]]
+property = "coil-power"
+max = "20W"
+"#;
+    let sys = System::from_toml("step.toml", text).unwrap_or_else(|e| panic!("{e}"));
+    let r = sys.run_all(|_| FullOn).unwrap_or_else(|e| panic!("{e}"));
+    assert!(r.all_hold(), "{r}");
+    let value = |name: &str| r.property("step", name).expect(name).value;
+    // i(t) = I∞ (1 − e^(−t/τ)), I∞ = 12 V / 12.2 Ω, τ = 40 mH / 12.2 Ω (computed: closed form
+    // of the RL step, published: IEC28 for the copper that stays at 20 °C here).
+    let r_loop: f64 = 12.0 + 0.05 + 0.05 + 0.1;
+    let (i_inf, tau) = (12.0 / r_loop, 0.040 / r_loop);
+    let t_pull = -tau * (1.0 - 0.6 / i_inf).ln();
+    // The loop observes the current at every switch edge, sampling instant and tick end: at
+    // most 80 µs apart here.
+    let t = value("pull_in_time");
+    assert!(t >= t_pull && t <= t_pull + 80e-6, "{t} against {t_pull}");
+    // Lowest current while held: the first observation at or above 0.6 A.
+    let slope = (i_inf - 0.6) / tau;
+    let hold = value("hold_current");
+    assert!(hold >= 0.6 && hold <= 0.6 + slope * 80e-6, "{hold}");
+    assert_eq!(value("coil_temperature"), 20.0);
+    // Mean winding power from the observed pull-in to the off command: 12 Ω · ∫ i² dt / T,
+    // with ∫ (1 − e^(−t/τ))² dt = t + 2τ e^(−t/τ) − τ/2 e^(−2t/τ).
+    let prim = |t: f64| t + 2.0 * tau * (-t / tau).exp() - 0.5 * tau * (-2.0 * t / tau).exp();
+    let t_off = 0.030;
+    let p = 12.0 * i_inf * i_inf * (prim(t_off) - prim(t)) / (t_off - t);
+    let got = value("coil_power");
+    assert!((got - p).abs() < 1e-4 * p, "{got} against {p}");
+}

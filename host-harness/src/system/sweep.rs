@@ -121,16 +121,26 @@ pub(super) fn sweep<C: Controller>(
     })?;
     let keys = runs.first().map(|r| r.1.clone()).unwrap_or_default();
     let records = runs.into_iter().map(|r| r.0).collect();
-    Ok(SweepReport {
-        output: summarise(
-            sys.name(),
-            &sys.text_hash,
-            &sys.description().system.name,
-            opts.seed,
-            opts.runs,
-            opts.shard,
-            keys,
-            records,
-        ),
-    })
+    let mut output = summarise(
+        sys.name(),
+        &sys.text_hash,
+        &sys.description().system.name,
+        opts.seed,
+        opts.runs,
+        opts.shard,
+        keys,
+        records,
+    );
+    // The built-in command cannot rebuild a user's controller: name the library call.
+    for s in &mut output.summary {
+        if let Some(w) = &mut s.worst {
+            w.replay = format!(
+                "System::replay(\"{}:{}\", …) of {}",
+                opts.seed,
+                w.index,
+                sys.name()
+            );
+        }
+    }
+    Ok(SweepReport { output })
 }
