@@ -306,22 +306,19 @@ fn coil_inputs(
     let model = coil::coil_model(file, c)?;
     let clamp = clamp::core_clamp(k);
     let release_a = c.release_current.get() as f32;
-    let estimator = match clamp {
-        lenz::turnoff::Clamp::Unclamped { .. } => {
-            // No tracked off path: the estimator decays through the winding alone.
+    // A tracked switch-off: the off-timer's estimator has the clamp's off path. Unclamped, the
+    // ring is not tracked: the estimator decays through the winding alone.
+    let (estimator, off_timer) = match clamp {
+        lenz::turnoff::Clamp::Unclamped { .. } => (
             EstimatorConfig::with_clamp(&model, temp_c, tick_s, 0.0, 0.0, false)
-                .map_err(SetupError::lenz("system.coil"))?
-        }
-        _ => *TrackingOffTimerConfig::new(&model, temp_c, tick_s, &clamp, release_a)
-            .map_err(SetupError::lenz("system.clamp"))?
-            .estimator(),
-    };
-    let off_timer = match clamp {
-        lenz::turnoff::Clamp::Unclamped { .. } => None,
-        _ => Some(
-            TrackingOffTimerConfig::new(&model, temp_c, tick_s, &clamp, release_a)
-                .map_err(SetupError::lenz("system.clamp"))?,
+                .map_err(SetupError::lenz("system.coil"))?,
+            None,
         ),
+        _ => {
+            let t = TrackingOffTimerConfig::new(&model, temp_c, tick_s, &clamp, release_a)
+                .map_err(SetupError::lenz("system.clamp"))?;
+            (*t.estimator(), Some(t))
+        }
     };
     let st = settings(file, c, sense, tick_s);
     let table = match file.controller {
