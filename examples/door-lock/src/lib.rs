@@ -26,6 +26,17 @@
 //! supply; keep the diode fitted when you try this on hardware.
 
 #![cfg_attr(not(test), no_std)]
+// What the tick may not do, checked by clippy in CI: no float, no division, no panic, no
+// arithmetic that could overflow.
+#![deny(
+    clippy::float_arithmetic,
+    clippy::integer_division,
+    clippy::arithmetic_side_effects,
+    clippy::panic,
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::indexing_slicing
+)]
 
 use lenz::kernel::{
     EstimatorState, Fault, MonitorConfig, MonitorState, OffStatus, OffTimerState,
@@ -169,13 +180,14 @@ impl Lock {
             Drive::Off => est_cfg.update(&mut self.est, false, supply_mv),
             Drive::On => est_cfg.update(&mut self.est, true, supply_mv),
             Drive::Pwm { duty_q16 } => {
-                // Average coil voltage of the tick: D·V_s − (1 − D)·V_f, 32-bit products.
+                // Average coil voltage of the tick: D·V_s − (1 − D)·V_f, 32-bit products of
+                // 16-bit factors (they cannot saturate; the saturating forms say so).
                 let d = duty_q16.min(DUTY_ONE_Q16);
                 let vs = (supply_mv.clamp(0, 65_535)) as u32;
                 let vf = (est_cfg.off_path().clamp_mv.clamp(0, 65_535)) as u32;
-                let on = (vs * d.min(65_535)) >> 16;
-                let off = (vf * (DUTY_ONE_Q16 - d).min(65_535)) >> 16;
-                est_cfg.update(&mut self.est, true, on as i32 - off as i32)
+                let on = vs.saturating_mul(d.min(65_535)) >> 16;
+                let off = vf.saturating_mul(DUTY_ONE_Q16.saturating_sub(d).min(65_535)) >> 16;
+                est_cfg.update(&mut self.est, true, (on as i32).saturating_sub(off as i32))
             }
         };
         let reading = current_counts.saturating_sub(c.current_zero_counts);
