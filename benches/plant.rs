@@ -118,7 +118,8 @@ fn scenario() -> lenz_harness::closed_loop::LoopConfig {
 fn with_plant() -> bool {
     let mut plant = valve_plant(20.0, 24.0, DIODE);
     plant.set_record_events(false);
-    let mut ctrl = ValveDriver::new(valve_driver(20.0).expect("demo plan is valid"));
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).expect("demo plan is valid"))
+        .expect("demo plan is valid");
     run(&mut plant, &mut ctrl, &scenario())
         .expect("demo run")
         .passed()
@@ -126,7 +127,8 @@ fn with_plant() -> bool {
 
 fn with_reference() -> bool {
     let mut plant = reference_plant();
-    let mut ctrl = ValveDriver::new(valve_driver(20.0).expect("demo plan is valid"));
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).expect("demo plan is valid"))
+        .expect("demo plan is valid");
     run(&mut plant, &mut ctrl, &scenario())
         .expect("demo run")
         .passed()

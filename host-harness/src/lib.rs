@@ -129,7 +129,8 @@
 //! The `lenz` binary's commands (quick calculations, plans, the demo) live in [`cli`]; values
 //! with SI prefixes are read by [`si`]. The system layer is [`system`], the plant simulator
 //! [`plant`], the closed loop that runs firmware against it [`closed_loop`] (faults in
-//! [`faults`]), and example firmware built from the kernels is in [`controllers`].
+//! [`faults`]), and example firmware built from the kernels is in [`controllers`]: the
+//! `lenz::drive` drivers on the simulated embedded-hal outputs of [`sim_pins`].
 
 pub mod cli;
 pub mod closed_loop;
@@ -142,6 +143,7 @@ pub mod plant;
 pub mod report;
 pub mod scenario;
 pub mod si;
+pub mod sim_pins;
 pub mod sweep;
 pub mod system;
 

@@ -26,7 +26,7 @@ fn show(r: &RunResult) -> String {
 
 fn rail_run(faults: Vec<FaultAt>, duration: f64, bypass: bool) -> RunResult {
     let mut plant = heater_rail(5.0, 24.0);
-    let mut ctrl = BoostRegulator::new(boost_regulator(bypass).unwrap());
+    let mut ctrl = BoostRegulator::new(boost_regulator(bypass).unwrap()).unwrap();
     run(&mut plant, &mut ctrl, &boost_loop(duration, faults)).unwrap()
 }
 

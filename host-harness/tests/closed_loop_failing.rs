@@ -13,7 +13,7 @@ fn a_valve_without_a_clamp_fails_on_switch_voltage_and_energy() {
     // (at 25 ms, 0.74 A): the switch avalanches at its 66 V breakdown, above its 60 V rating,
     // and takes the coil's energy, above its 10 mJ rating (C2.3 form: about 38 mJ).
     let mut plant = valve_plant(20.0, 24.0, Clamp::Unclamped { c_f: 100e-12 });
-    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
     let cfg = valve_loop(0.06, vec![(0.005, true), (0.025, false)], vec![]);
     let r = run(&mut plant, &mut ctrl, &cfg).unwrap();
     let failed: Vec<&str> = r.violations().iter().map(|p| p.name).collect();
@@ -30,7 +30,7 @@ fn a_valve_without_a_clamp_fails_on_switch_voltage_and_energy() {
     );
     // The same run with the diode fitted passes.
     let mut plant = valve_plant(20.0, 24.0, Clamp::Freewheel { vf_v: 0.7 });
-    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
     let r = run(&mut plant, &mut ctrl, &cfg).unwrap();
     assert!(r.passed(), "{:?}", r.violations());
 }
@@ -52,12 +52,12 @@ fn a_trip_threshold_set_too_high_fails_on_peak_current() {
     }];
     let cfg = valve_loop(0.08, vec![(0.005, true)], short);
     let mut ok_plant = valve_plant(20.0, 24.0, DIODE);
-    let mut good = ValveDriver::new(valve_driver(20.0).unwrap());
+    let mut good = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
     let r = run(&mut ok_plant, &mut good, &cfg).unwrap();
     assert!(r.passed(), "{:?}", r.violations());
     let mut plant = valve_plant(20.0, 24.0, DIODE);
     let mut bad =
-        ValveDriver::new(driver_plan(0.120, 32.0, 20.0, 0.54, 0.45, 12.0, 0.075).unwrap());
+        ValveDriver::new(driver_plan(0.120, 32.0, 20.0, 0.54, 0.45, 12.0, 0.075).unwrap()).unwrap();
     let r = run(&mut plant, &mut bad, &cfg).unwrap();
     let failed: Vec<&str> = r.violations().iter().map(|p| p.name).collect();
     assert_eq!(failed, ["peak_current"], "{:?}", r.violations());

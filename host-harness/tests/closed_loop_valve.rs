@@ -36,7 +36,7 @@ fn cycles() -> Vec<(f64, bool)> {
 
 fn valve_run(temp: f64, supply: f64, faults: Vec<FaultAt>) -> RunResult {
     let mut plant = valve_plant(temp, supply, DIODE);
-    let mut ctrl = ValveDriver::new(valve_driver(temp as f32).unwrap());
+    let mut ctrl = ValveDriver::new(valve_driver(temp as f32).unwrap()).unwrap();
     let cfg = valve_loop(0.22, cycles(), faults);
     run(&mut plant, &mut ctrl, &cfg).unwrap()
 }
@@ -72,7 +72,7 @@ fn corner_temperatures_and_supplies() {
 fn relay_cycles_at_corners() {
     for (temp, supply) in [(-20.0, 13.2), (20.0, 12.0), (70.0, 11.4)] {
         let mut plant = relay_plant(temp, supply);
-        let mut ctrl = ValveDriver::new(relay_driver(temp as f32).unwrap());
+        let mut ctrl = ValveDriver::new(relay_driver(temp as f32).unwrap()).unwrap();
         let mut cfg = valve_loop(0.25, vec![(0.005, true), (0.150, false)], vec![]);
         // Relay: release to 10 mA (10 % of 100 mA, CHECKS C2.7 fraction) within 8 ms.
         cfg.limits.release = Some(Release {
@@ -124,7 +124,7 @@ fn faults_that_must_trip() {
     ];
     for (name, t, fault) in cases {
         let mut plant = valve_plant(20.0, 24.0, DIODE);
-        let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+        let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
         let mut cfg = valve_loop(0.22, cycles(), fault_at(t, fault, true));
         if matches!(fault, Fault::SwitchStuckOn) {
             // A stuck switch cannot release the valve; the firmware's job is to detect it.
@@ -172,7 +172,7 @@ fn faults_that_must_not_trip() {
     ];
     for (name, fault) in cases {
         let mut plant = valve_plant(20.0, 24.0, DIODE);
-        let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+        let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
         let cfg = valve_loop(0.22, cycles(), fault_at(0.050, fault, false));
         let r = run(&mut plant, &mut ctrl, &cfg).unwrap();
         println!("{name}:\n{}", show(&r));
@@ -191,7 +191,7 @@ fn re_energizes_only_after_the_off_timer_confirms_release() {
     // tau ln((I0 + Vf/R)/(Ix + Vf/R)) (CHECKS F2.1, computed). The driver must wait for its
     // off-timer, so the first switch-on after the drop finds the current below 75 mA.
     let mut plant = valve_plant(20.0, 24.0, DIODE);
-    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
     let demand = vec![(0.005, true), (0.085, false), (0.087, true), (0.150, false)];
     let r = run(&mut plant, &mut ctrl, &valve_loop(0.2, demand, vec![])).unwrap();
     assert_all_hold(&r);
@@ -258,7 +258,7 @@ fn saturating_valve_core_in_the_loop() {
     // low. The plant integrates it adaptively; the driver's linear estimator still tracks
     // within the limits and nothing trips.
     let mut plant = saturating_valve(1.5);
-    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
     let r = run(&mut plant, &mut ctrl, &valve_loop(0.22, cycles(), vec![])).unwrap();
     assert_all_hold(&r);
     // The saturation is visible: the estimate lags the true current during pull-in.
@@ -272,7 +272,7 @@ fn a_strongly_saturating_core_breaks_the_linear_estimator() {
     // rises faster than the linear estimator predicts, and its error exceeds the 30 mA limit;
     // everything else still holds (the monitor's band absorbs the difference).
     let mut plant = saturating_valve(0.6);
-    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap());
+    let mut ctrl = ValveDriver::new(valve_driver(20.0).unwrap()).unwrap();
     let r = run(&mut plant, &mut ctrl, &valve_loop(0.22, cycles(), vec![])).unwrap();
     let failed: Vec<&str> = r.violations().iter().map(|p| p.name).collect();
     assert_eq!(failed, ["estimator_error"], "{}", show(&r));

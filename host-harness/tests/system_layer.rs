@@ -194,7 +194,7 @@ fn the_built_in_controller_goes_through_the_open_slot_like_any_other() {
         .run_all(|fw| {
             let plan = lenz_harness::scenario::run::coil_driver(file, f64::from(fw.temp_c))
                 .unwrap_or_else(|e| panic!("{e}"));
-            lenz_harness::controllers::ValveDriver::new(plan)
+            lenz_harness::controllers::ValveDriver::new(plan).expect("the driver starts")
         })
         .unwrap_or_else(|e| panic!("{e}"));
     for (k, o) in a.outcomes.iter().enumerate() {

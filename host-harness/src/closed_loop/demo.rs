@@ -13,7 +13,9 @@
 //! - Heater rail: the boost stage of CHECKS section 3 at 500 kHz with its PI regulator.
 
 use super::{AdcChannel, Limits, LoopConfig, Release, Sensors};
-use crate::controllers::{BoostPlan, BoostRegulatorConfig, ValveDriverConfig, ValvePlan};
+use crate::controllers::{
+    BoostPlan, BoostRegulatorConfig, PULL_IN_GRACE_S, PWM_MAX_DUTY, ValveDriverConfig, ValvePlan,
+};
 use crate::demo::{
     DIODE_DROP_V, RELAY_INDUCTANCE_H, RELAY_RESISTANCE_OHM, VALVE_INDUCTANCE_H,
     VALVE_RESISTANCE_OHM,
@@ -30,6 +32,12 @@ use lenz::kernel::{DutyLimiterParams, MonitorParams};
 pub const VALVE_SUPPLY_V: f64 = 24.0;
 /// Relay supply, V.
 pub const RELAY_SUPPLY_V: f64 = 12.0;
+/// Valve supply range, V (24 V ± 10 %).
+pub const VALVE_SUPPLY_RANGE_V: (f32, f32) = (21.6, 26.4);
+/// Relay supply range, V (12 V −5 % … +10 %).
+pub const RELAY_SUPPLY_RANGE_V: (f32, f32) = (11.4, 13.2);
+/// Minimum pull-in time of the demo drivers (armature travel), s.
+pub const PULL_IN_MIN_S: f32 = 0.030;
 /// Control tick, ns (10 kHz).
 pub const TICK_NS: u64 = 100_000;
 /// PWM period, ns (20 kHz).
@@ -135,21 +143,59 @@ pub fn driver_plan(
     trip_threshold_a: f32,
     release_a: f32,
 ) -> Result<ValveDriverConfig, Error> {
+    driver_plan_with_clamp(
+        l_h,
+        r20_ohm,
+        temp_c,
+        pull_in_a,
+        hold_duty,
+        trip_threshold_a,
+        release_a,
+        VALVE_SUPPLY_RANGE_V,
+        lenz::turnoff::Clamp::Diode {
+            forward_v: DIODE_DROP_V as f32,
+        },
+    )
+}
+
+/// [`driver_plan`] over another supply range (min, max, V) and with another clamp (the
+/// firmware's view of the plant's clamp).
+///
+/// # Errors
+///
+/// The plan errors of [`ValveDriverConfig::new`].
+#[allow(clippy::too_many_arguments)] // the demo's plan knobs, each named at the call site
+pub fn driver_plan_with_clamp(
+    l_h: f32,
+    r20_ohm: f32,
+    temp_c: f32,
+    pull_in_a: f32,
+    hold_duty: f32,
+    trip_threshold_a: f32,
+    release_a: f32,
+    supply_v: (f32, f32),
+    clamp: lenz::turnoff::Clamp,
+) -> Result<ValveDriverConfig, Error> {
     let coil = lenz::CoilParams::new(l_h, r20_ohm)
         .with_switch_resistance_ohm(0.1)
         .with_shunt_resistance_ohm(0.010)
         .with_diode_drop_v(DIODE_DROP_V as f32)
         .validate()?;
     let s = sensors();
+    let supply = lenz::Range::new("supply_v", supply_v.0, supply_v.1)?;
     ValveDriverConfig::new(&ValvePlan {
         coil,
         temp_c,
         tick_s: TICK_NS as f32 * 1e-9,
-        clamp: lenz::turnoff::Clamp::Diode { forward_v: 0.7 },
+        clamp,
+        supply_v: supply,
         release_a,
         pull_in_a,
-        pull_in_min_s: 0.030,
+        pull_in_min_s: PULL_IN_MIN_S,
+        pull_in_max_s: PULL_IN_MIN_S + PULL_IN_GRACE_S,
         hold_duty,
+        pwm_frequency_hz: 1e9 / PWM_NS as f32,
+        pwm_max_duty: PWM_MAX_DUTY,
         current_adc: nominal(&s.current),
         supply_adc: nominal(&s.supply),
         monitor: MonitorParams {
@@ -191,7 +237,7 @@ pub fn valve_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
 ///
 /// The plan errors of [`ValveDriverConfig::new`].
 pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
-    driver_plan(
+    driver_plan_with_clamp(
         RELAY_INDUCTANCE_H as f32,
         RELAY_RESISTANCE_OHM as f32,
         temp_c,
@@ -199,6 +245,10 @@ pub fn relay_driver(temp_c: f32) -> Result<ValveDriverConfig, Error> {
         0.55,
         0.5,
         0.010,
+        RELAY_SUPPLY_RANGE_V,
+        lenz::turnoff::Clamp::Diode {
+            forward_v: DIODE_DROP_V as f32,
+        },
     )
 }
 

@@ -146,6 +146,8 @@ pub enum TripCause {
     Plausibility(lenz::kernel::Fault),
     /// A stuck current reading (the trip detector's check).
     StuckSensor,
+    /// The switch output reported an error (the driver switched off as far as it could).
+    OutputError,
     /// Another cause of the controller's own.
     Other,
 }
@@ -169,6 +171,7 @@ impl std::fmt::Display for TripCause {
             TripCause::Thermal => f.write_str("thermal (I²t)"),
             TripCause::Plausibility(k) => write!(f, "plausibility fault ({k:?})"),
             TripCause::StuckSensor => f.write_str("stuck current sensor"),
+            TripCause::OutputError => f.write_str("output error"),
             TripCause::Other => f.write_str("controller's own cause"),
         }
     }

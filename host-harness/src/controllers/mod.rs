@@ -1,14 +1,16 @@
-//! Example controllers, built only from the `lenz` kernels, written as a firmware engineer
-//! would write them: integer state, coefficients planned once at start-up, one `tick` per
-//! control interrupt. Copy them as a starting point for your own firmware; the
-//! [`Controller`](crate::closed_loop::Controller) impls are the only harness-specific part.
+//! Example controllers: the `lenz::drive` drivers, planned as a firmware engineer would plan
+//! them, on the harness's simulated outputs ([`crate::sim_pins`]). What runs in a tick is the
+//! driver firmware links, unchanged (integer only); these files hold only the plans and the
+//! choice of output.
 //!
-//! - [`valve`]: valve/relay driver: pull-in at full voltage, PWM hold, current estimator,
-//!   plausibility monitor, trip detector, off-timer before re-energizing.
-//! - [`boost`]: boost regulator: PI voltage loop behind the duty limiter.
+//! - [`valve`]: valve/relay driver ([`lenz::drive::CoilDriver`]): pull-in at full voltage,
+//!   PWM hold, current estimator, plausibility monitor, trip detector, off-timer before
+//!   re-energizing.
+//! - [`boost`]: boost regulator ([`lenz::drive::BoostLoop`]): PI voltage loop behind the duty
+//!   limiter.
 
 pub mod boost;
 pub mod valve;
 
 pub use boost::{BoostPlan, BoostRegulator, BoostRegulatorConfig};
-pub use valve::{ValveDriver, ValveDriverConfig, ValvePlan};
+pub use valve::{PULL_IN_GRACE_S, PWM_MAX_DUTY, ValveDriver, ValveDriverConfig, ValvePlan};

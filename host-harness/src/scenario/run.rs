@@ -28,7 +28,8 @@ use super::schema::{
 };
 use crate::closed_loop::{self, Band, Limits, LoopConfig, Release, RunResult};
 use crate::controllers::{
-    BoostPlan, BoostRegulator, BoostRegulatorConfig, ValveDriver, ValveDriverConfig, ValvePlan,
+    BoostPlan, BoostRegulator, BoostRegulatorConfig, PULL_IN_GRACE_S, PWM_MAX_DUTY, ValveDriver,
+    ValveDriverConfig, ValvePlan,
 };
 use crate::faults::{Channel, Fault, FaultAt};
 use crate::plant::Boost;
@@ -411,12 +412,48 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
     valve_driver(file, &inputs)
 }
 
+/// The coil driver's plan errors that name a derived quantity, in the file's keys; the others
+/// as the plan words them.
+fn coil_plan_err(c: &super::CoilController, e: lenz::Error) -> RunSetupError {
+    use crate::si::format as si;
+    match e {
+        // The hold estimator's continuous-conduction check: `value` is the smallest mean
+        // current over the supply range, `min` the PWM ripple it must exceed.
+        lenz::Error::OutOfRange {
+            param: "hold_duty",
+            value,
+            min,
+            max,
+        } if max > 1.0 => RunSetupError(format!(
+            "controller.coil.hold_duty: {} does not keep the current flowing through every PWM \
+             period with this clamp over the supply range (mean current {}, the PWM ripple \
+             needs more than {}): raise the duty",
+            c.hold_duty.get(),
+            si(f64::from(value), "A"),
+            si(f64::from(min), "A")
+        )),
+        lenz::Error::OutOfRange {
+            param: "abs_tol_a",
+            value,
+            min,
+            ..
+        } => RunSetupError(format!(
+            "controller.coil.monitor.abs_tol: {} is below what the PWM hold estimate's error \
+             bound needs with rel_tol {}: at least {}",
+            si(f64::from(value), "A"),
+            c.monitor.rel_tol.get(),
+            si(f64::from(min), "A")
+        )),
+        other => lenz_err("controller.coil")(other),
+    }
+}
+
 /// The example valve driver planned from `inputs` (the firmware inputs of `file`).
 fn valve_driver(
     file: &File,
     inputs: &crate::system::FirmwareInputs,
 ) -> Result<ValveDriverConfig, RunSetupError> {
-    let super::Controller::Coil(_) = &file.controller else {
+    let super::Controller::Coil(k) = &file.controller else {
         return Err(RunSetupError(
             "controller: the example valve driver needs [controller.coil]".into(),
         ));
@@ -428,16 +465,20 @@ fn valve_driver(
         temp_c: inputs.temp_c,
         tick_s: inputs.tick_s,
         clamp: c.clamp,
+        supply_v: inputs.supply_v,
         release_a: c.release_a,
         pull_in_a: c.settings.pull_in_a,
         pull_in_min_s: c.settings.pull_in_min_s,
+        pull_in_max_s: c.settings.pull_in_min_s + PULL_IN_GRACE_S,
         hold_duty: c.settings.hold_duty,
+        pwm_frequency_hz: inputs.pwm_frequency_hz,
+        pwm_max_duty: PWM_MAX_DUTY,
         current_adc: nominal.current,
         supply_adc: nominal.supply,
         monitor: c.settings.monitor,
         trip_threshold_a: c.settings.trip_a,
     })
-    .map_err(lenz_err("controller.coil"))
+    .map_err(|e| coil_plan_err(k, e))
 }
 
 /// The plan-side boost stage of the file (nominal values).
@@ -499,7 +540,9 @@ pub fn run(
 ) -> Result<RunResult, RunSetupError> {
     match &file.controller {
         super::Controller::Coil(_) => crate::system::run_fallible(file, index, p, record, |fw| {
-            valve_driver(file, fw).map(ValveDriver::new)
+            valve_driver(file, fw).and_then(|c| {
+                ValveDriver::new(c).map_err(|e| RunSetupError(format!("controller.coil: {e}")))
+            })
         }),
         super::Controller::Boost(c) => {
             let Some(b) = &file.system.boost else {
@@ -508,7 +551,10 @@ pub fn run(
                 ));
             };
             let reg = boost_regulator(file, b, c)?;
-            crate::system::run_fallible(file, index, p, record, |_| Ok(BoostRegulator::new(reg)))
+            crate::system::run_fallible(file, index, p, record, |_| {
+                BoostRegulator::new(reg)
+                    .map_err(|e| RunSetupError(format!("controller.boost: {e}")))
+            })
         }
         super::Controller::Own => Err(RunSetupError(
             "controller: the file has no [controller]; the command line runs only the built-in \
