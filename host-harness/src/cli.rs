@@ -6,25 +6,15 @@
 //! `out.rs`): when the reader has gone (a closed pipe) the rest is dropped quietly and the
 //! exit code stays the command's; any other write error is exit 2 with a message.
 
-use std::fmt;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand, error::ErrorKind};
 
 use crate::cmd;
-use crate::si::{self, Unit};
-
-/// Caution printed with results that involve switching inductive loads.
-pub const CAUTION: &str = "CAUTION: switching an inductive load off can produce hundreds of \
-volts and dumps its stored energy into the switch and clamp. These figures are design aids, not \
-a safety approval: mains-powered coils are lethal; follow local electrical codes and licensed \
-practice.";
-
-/// Caution printed with motor results, beside [`CAUTION`].
-pub const MOTOR_CAUTION: &str = "CAUTION: a motor draws up to its stall current at every start, \
-nearly twice that when reversed at speed, and returns its current to the supply when it coasts \
-or brakes, which can lift a bus that cannot sink current above its rating. Keep hands clear of \
-the driven mechanism while testing.";
+pub use crate::cmd::common::{
+    CAUTION, CliError, MOTOR_CAUTION, ampere, celsius, farad, henry, hertz, kilogram_square_metre,
+    newton_metre, newton_metre_per_ampere, newton_metre_second, ohm, plain, second, volt,
+};
 
 /// `lenz`: coil current, safe switch-off, boost duty limits and overcurrent trips.
 #[derive(Debug, Parser)]
@@ -62,62 +52,6 @@ enum Command {
     Boost(cmd::boost::Args),
     /// Cost per kernel call on Cortex-M0/M3/M4F under emulation, beside the f32/libm version.
     Cost(cmd::cost::Args),
-}
-
-/// An error that ends a command with exit code 2.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct CliError(pub String);
-
-impl fmt::Display for CliError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(&self.0)
-    }
-}
-
-impl CliError {
-    /// A plan error, with lenz parameter names replaced by the command-line flags in `flags`
-    /// (pairs of parameter name and flag).
-    #[must_use]
-    pub fn from_lenz(e: lenz::Error, flags: &[(&str, &str)]) -> Self {
-        let text = e.to_string();
-        let param = e.param();
-        let shown = flags
-            .iter()
-            .find(|(p, _)| *p == param)
-            .map_or(param, |(_, f)| *f);
-        CliError(text.replacen(param, shown, 1))
-    }
-}
-
-macro_rules! unit_parsers {
-    ($($name:ident => $unit:expr),* $(,)?) => {
-        $(
-            /// Clap value parser for this unit (SI prefixes accepted).
-            ///
-            /// # Errors
-            ///
-            /// The text is not a value in this unit.
-            pub fn $name(s: &str) -> Result<f64, String> {
-                si::parse(s, $unit).map_err(|e| e.to_string())
-            }
-        )*
-    };
-}
-
-unit_parsers! {
-    henry => Unit::Henry,
-    ohm => Unit::Ohm,
-    volt => Unit::Volt,
-    ampere => Unit::Ampere,
-    second => Unit::Second,
-    hertz => Unit::Hertz,
-    farad => Unit::Farad,
-    celsius => Unit::Celsius,
-    newton_metre => Unit::NewtonMetre,
-    newton_metre_per_ampere => Unit::NewtonMetrePerAmpere,
-    kilogram_square_metre => Unit::KilogramSquareMetre,
-    newton_metre_second => Unit::NewtonMetreSecondPerRadian,
-    plain => Unit::None,
 }
 
 /// Folds clap's multi-line message into one line: the text up to the usage section.

@@ -30,7 +30,7 @@
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
-use crate::closed_loop::RunResult;
+use crate::closed_loop::{Bound, RunResult};
 use crate::scenario::File;
 use crate::scenario::run::{self, Params, Record, RunSetupError};
 
@@ -48,6 +48,13 @@ pub struct Key {
     pub unit: String,
     /// Limit.
     pub limit: f64,
+    /// The limit's side (a maximum unless said otherwise).
+    #[serde(default = "max_bound")]
+    pub bound: Bound,
+}
+
+fn max_bound() -> Bound {
+    Bound::Max
 }
 
 /// One run: its index, part values and the value of every property (in [`Key`] order).
@@ -245,6 +252,7 @@ fn keys_of(file: &File, results: &[RunResult]) -> Vec<Key> {
                 property: p.name.to_string(),
                 unit: p.unit.to_string(),
                 limit: p.limit,
+                bound: p.bound,
             });
         }
     }
@@ -361,8 +369,11 @@ pub struct Summary {
 struct Acc {
     runs: u64,
     passed: u64,
-    /// Worst so far: index and value (`None`: not finite, which ranks first).
+    /// Worst so far against an upper limit (the largest): index and value (`None`: not
+    /// finite, which ranks first).
     worst: Option<(u64, Option<f64>)>,
+    /// Worst so far against a lower limit (the smallest), ranked the same way.
+    worst_low: Option<(u64, Option<f64>)>,
     min: Option<f64>,
     max: Option<f64>,
     sum: f64,
@@ -381,10 +392,16 @@ impl Summary {
             let ok = pass.get(j).copied().unwrap_or(false);
             a.runs += 1;
             a.passed += u64::from(ok);
-            // Worst: a non-finite value first, then the largest; ties to the lowest index.
+            // Worst: a non-finite value first, then the largest (the smallest for a lower
+            // limit); ties to the lowest index. The key's side is known only at the end, so
+            // both are kept.
             let rank = |v: Option<f64>| v.unwrap_or(f64::INFINITY);
             if a.worst.is_none_or(|(_, w)| rank(v) > rank(w)) {
                 a.worst = Some((index, v));
+            }
+            let rank_low = |v: Option<f64>| v.map_or(f64::INFINITY, |x| -x);
+            if a.worst_low.is_none_or(|(_, w)| rank_low(v) > rank_low(w)) {
+                a.worst_low = Some((index, v));
             }
             if let Some(v) = v {
                 a.min = Some(a.min.map_or(v, |m| m.min(v)));
@@ -438,7 +455,11 @@ impl Summary {
                     } else {
                         a.passed as f64 / n as f64
                     },
-                    worst: a.worst.map(|(index, value)| Worst {
+                    worst: match key.bound {
+                        Bound::Max => a.worst,
+                        Bound::Min => a.worst_low,
+                    }
+                    .map(|(index, value)| Worst {
                         index,
                         value,
                         params: params_of(index),

@@ -225,6 +225,7 @@ impl Controller for OldFormula {
         Telemetry {
             estimate_a: Some(f64::from(self.est.current_ua()) * 1e-6),
             tripped: self.fault || self.inner.telemetry().tripped,
+            ..Telemetry::default()
         }
     }
 }

@@ -101,7 +101,11 @@ fn a_pwm_that_stops_answering() {
     // The only violation: the trip the output failure caused, in normal operation.
     let failed: Vec<&str> = r.violations().iter().map(|p| p.name).collect();
     assert_eq!(failed, ["no_trip_in_normal_operation"], "{}", show(&r));
-    let trip = r.events.iter().find(|e| e.what == "trip").expect("a trip");
+    let trip = r
+        .events
+        .iter()
+        .find(|e| e.what == "trip: output error")
+        .expect("a trip with its cause");
     assert!((trip.t_s - 0.070).abs() < 1e-9, "tripped at {}", trip.t_s);
     assert_eq!(ctrl.inner.driver().fault(), Some(CoilFault::Output));
     assert_eq!(

@@ -48,7 +48,7 @@ fn coil_drive(l_h: f64, r20: f64, temp_c: f64, supply_v: f64, clamp: Clamp) -> C
         coil: CoilSpec {
             curve: InductanceCurve::Linear { l_h },
             r20_ohm: r20,
-            alpha20_per_k: 0.00393,
+            alpha20_per_k: f64::from(lenz::coil::COPPER_ALPHA20_PER_K),
             temp_c,
             thermal: Some(Thermal {
                 r_th_k_per_w: 25.0,
@@ -269,6 +269,7 @@ pub fn valve_limits() -> Limits {
         }),
         output_band: None,
         estimator_error_max_a: Some(0.030),
+        ..Limits::default()
     }
 }
 

@@ -26,7 +26,12 @@
 //!   requirement;
 //! - boost output within its band after the settling time;
 //! - the firmware estimator's largest error against the plant's true current, at every tick
-//!   before the first fault.
+//!   before the first fault;
+//! - of a coil: pull-in time, the lowest current while held (a lower limit), the winding's
+//!   highest temperature and its mean power while held (`coil_watch`).
+//!
+//! A trip is reported with its cause ([`TripCause`], from the controller's telemetry) and time,
+//! in the run's events and in the `detail` of the trip properties.
 //!
 //! # Time resolution of each property
 //!
@@ -51,6 +56,7 @@
 //! - A supply ramp is applied as a staircase stepped at the harness edges.
 
 pub mod adc;
+mod coil_watch;
 pub mod demo;
 
 pub use adc::AdcChannel;
@@ -140,6 +146,54 @@ pub struct Telemetry {
     pub estimate_a: Option<f64>,
     /// It has tripped (switched off for protection).
     pub tripped: bool,
+    /// Why it tripped, when it says.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub trip_cause: Option<TripCause>,
+}
+
+/// Why a controller tripped.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum TripCause {
+    /// Instantaneous overcurrent.
+    Instantaneous,
+    /// The inverse-time (overload) element.
+    InverseTime,
+    /// The thermal (I²t) element.
+    Thermal,
+    /// The plausibility monitor, with the fault it saw.
+    Plausibility(lenz::kernel::Fault),
+    /// A stuck current reading (the trip detector's check).
+    StuckSensor,
+    /// The switch output reported an error (the driver switched off as far as it could).
+    OutputError,
+    /// Another cause of the controller's own.
+    Other,
+}
+
+impl From<lenz::kernel::Cause> for TripCause {
+    fn from(c: lenz::kernel::Cause) -> TripCause {
+        match c {
+            lenz::kernel::Cause::Instantaneous => TripCause::Instantaneous,
+            lenz::kernel::Cause::InverseTime => TripCause::InverseTime,
+            lenz::kernel::Cause::Thermal => TripCause::Thermal,
+            lenz::kernel::Cause::SensorFault => TripCause::StuckSensor,
+        }
+    }
+}
+
+impl std::fmt::Display for TripCause {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            TripCause::Instantaneous => f.write_str("instantaneous overcurrent"),
+            TripCause::InverseTime => f.write_str("inverse-time overcurrent"),
+            TripCause::Thermal => f.write_str("thermal (I²t)"),
+            TripCause::Plausibility(k) => write!(f, "plausibility fault ({k:?})"),
+            TripCause::StuckSensor => f.write_str("stuck current sensor"),
+            TripCause::OutputError => f.write_str("output error"),
+            TripCause::Other => f.write_str("controller's own cause"),
+        }
+    }
 }
 
 /// The firmware under test.
@@ -205,6 +259,14 @@ pub trait Plant {
     fn advance_until_below(&mut self, t_s: f64, level_a: f64) -> Option<f64> {
         self.advance_to(t_s);
         (self.probe().current_a < level_a).then_some(t_s)
+    }
+    /// Winding temperature now, °C (`None`: the plant has no winding).
+    fn winding_temp_c(&self) -> Option<f64> {
+        None
+    }
+    /// Copper loss of the winding so far, J (`None`: the plant has no winding).
+    fn winding_loss_j(&self) -> Option<f64> {
+        None
     }
 }
 
@@ -272,6 +334,12 @@ impl Plant for CoilDrive {
     }
     fn advance_until_below(&mut self, t_s: f64, level_a: f64) -> Option<f64> {
         CoilDrive::advance_until_below(self, t_s, level_a)
+    }
+    fn winding_temp_c(&self) -> Option<f64> {
+        Some(CoilDrive::winding_temp_c(self))
+    }
+    fn winding_loss_j(&self) -> Option<f64> {
+        Some(self.energies().winding_j)
     }
 }
 
@@ -362,6 +430,24 @@ pub struct Limits {
     pub output_band: Option<Band>,
     /// Largest allowed estimator error, A.
     pub estimator_error_max_a: Option<f64>,
+    /// The coil's pull-in current (the coil properties start from it); `None`: no coil
+    /// properties.
+    pub pull_in: Option<PullIn>,
+    /// Lowest allowed coil current while held (must-hold), A.
+    pub hold_current_min_a: Option<f64>,
+    /// Highest allowed winding temperature, °C.
+    pub coil_temperature_max_c: Option<f64>,
+    /// Highest allowed mean winding power while held, W.
+    pub coil_power_max_w: Option<f64>,
+}
+
+/// Pull-in: the current that pulls the armature in, and the longest allowed time to reach it.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct PullIn {
+    /// Pull-in current, A.
+    pub current_a: f64,
+    /// Longest allowed pull-in time, s (`None`: not checked).
+    pub max_s: Option<f64>,
 }
 
 /// The three sense channels.
@@ -423,8 +509,19 @@ impl std::fmt::Display for RunError {
 
 impl std::error::Error for RunError {}
 
-/// One property: measured value against its limit (`value ≤ limit` passes).
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+/// Which side of its limit a property must stay.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Bound {
+    /// `value ≤ limit`.
+    Max,
+    /// `value ≥ limit`.
+    Min,
+}
+
+/// One property: measured value against its limit (`value ≤ limit` passes, or `value ≥
+/// limit` for a [`Bound::Min`]).
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Property {
     /// Name (stable, for reports and JUnit test names).
     pub name: &'static str,
@@ -436,6 +533,22 @@ pub struct Property {
     pub unit: &'static str,
     /// `value ≤ limit`.
     pub pass: bool,
+    /// The limit's side.
+    pub bound: Bound,
+    /// What else a reader needs (the trips with their causes and times).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub detail: Option<String>,
+}
+
+impl Property {
+    /// The comparison in words: `exceeds the limit` or `is below the limit`.
+    #[must_use]
+    pub fn failure_text(&self) -> &'static str {
+        match self.bound {
+            Bound::Max => "exceeds the limit",
+            Bound::Min => "is below the limit",
+        }
+    }
 }
 
 /// Sampled waveforms (one entry per recorded tick, at the sampling instant).
@@ -572,6 +685,8 @@ pub fn run<P: Plant, C: Controller>(
     let mut readings = sample(plant, &cfg.sensors, &mut sense, &mut rng);
     let mut trip_ns: Option<u64> = None;
     let mut trips = 0u32;
+    let mut trip_list: Vec<(f64, Option<TripCause>)> = Vec::new();
+    let mut watch = coil_watch::CoilWatch::new(cfg.limits.pull_in);
     let mut was_tripped = false;
     let mut est_err = 0.0f64;
     let mut demand = false;
@@ -608,6 +723,7 @@ pub fn run<P: Plant, C: Controller>(
             if !want {
                 release_from = Some(t0_s);
             }
+            watch.demand(plant, t0_s, want);
             demand = want;
         }
         let sensed = Sensed {
@@ -630,9 +746,12 @@ pub fn run<P: Plant, C: Controller>(
         if telemetry.tripped && !was_tripped {
             trips += 1;
             trip_ns.get_or_insert(t0);
+            trip_list.push((t0_s, telemetry.trip_cause));
             events.push(RunEvent {
                 t_s: t0_s,
-                what: "trip".into(),
+                what: telemetry
+                    .trip_cause
+                    .map_or_else(|| "trip".into(), |c| format!("trip: {c}")),
             });
         }
         was_tripped = telemetry.tripped;
@@ -697,6 +816,7 @@ pub fn run<P: Plant, C: Controller>(
                 }
             }
             observe(plant, te_s, &band_from, &mut band_worst);
+            watch.observe(plant, te_s);
             match edge {
                 Edge::Switch(on) => plant.set_switch(on),
                 Edge::Sample => {
@@ -761,7 +881,10 @@ pub fn run<P: Plant, C: Controller>(
             &mut release_worst,
         );
         observe(plant, t1_s, &band_from, &mut band_worst);
+        watch.observe(plant, t1_s);
     }
+    let end_s = (n_ticks * cfg.tick_ns) as f64 * NS;
+    let coil = watch.finish(plant, end_s);
     if let Some(from) = release_from {
         // A release still open at the end counts with the time it has taken so far.
         releases_open_max = (n_ticks * cfg.tick_ns) as f64 * NS - from;
@@ -773,14 +896,26 @@ pub fn run<P: Plant, C: Controller>(
     let offs = plant.switch_offs().to_vec();
     let l = &cfg.limits;
     let mut props = Vec::new();
-    let mut add = |name, value: f64, limit: f64, unit| {
-        props.push(Property {
+    let trips_text = trip_text(&trip_list);
+    let mk = |name, value: f64, limit: f64, unit, bound: Bound| {
+        let detail = matches!(name, "trip_latency" | "no_trip_in_normal_operation")
+            .then(|| trips_text.clone())
+            .flatten();
+        Property {
             name,
             value,
             limit,
             unit,
-            pass: value <= limit,
-        });
+            pass: match bound {
+                Bound::Max => value <= limit,
+                Bound::Min => value >= limit,
+            },
+            bound,
+            detail,
+        }
+    };
+    let mut add = |name, value: f64, limit: f64, unit| {
+        props.push(mk(name, value, limit, unit, Bound::Max));
     };
     if let Some(r) = l.switch_voltage_rating_v {
         add("peak_switch_voltage", plant.peak_switch_v(), r, "V");
@@ -824,6 +959,25 @@ pub fn run<P: Plant, C: Controller>(
     if let Some(r) = l.estimator_error_max_a {
         add("estimator_error", est_err, r, "A");
     }
+    if let Some(r) = l.pull_in.and_then(|p| p.max_s) {
+        add("pull_in_time", coil.pull_in_s, r, "s");
+    }
+    if let Some(r) = l.coil_temperature_max_c {
+        // A plant without a winding has no temperature to check: infinite, so it fails.
+        add(
+            "coil_temperature",
+            coil.temp_max_c.unwrap_or(f64::INFINITY),
+            r,
+            "°C",
+        );
+    }
+    if let Some(r) = l.coil_power_max_w {
+        // Never held: no power to check, which fails rather than passing silently.
+        add("coil_power", coil.power_w.unwrap_or(f64::INFINITY), r, "W");
+    }
+    if let Some(r) = l.hold_current_min_a {
+        props.push(mk("hold_current", coil.hold_min_a, r, "A", Bound::Min));
+    }
     Ok(RunResult {
         properties: props,
         waveform: wave,
@@ -832,6 +986,21 @@ pub fn run<P: Plant, C: Controller>(
         ticks: n_ticks,
         simulated_s: (n_ticks * cfg.tick_ns) as f64 * NS,
     })
+}
+
+/// The trips of a run with cause and time, for the trip properties' detail.
+fn trip_text(trips: &[(f64, Option<TripCause>)]) -> Option<String> {
+    if trips.is_empty() {
+        return None;
+    }
+    let parts: Vec<String> = trips
+        .iter()
+        .map(|(t, c)| {
+            let cause = c.map_or_else(|| "cause not reported".to_string(), |c| c.to_string());
+            format!("trip at {:.3} ms: {cause}", t * 1e3)
+        })
+        .collect();
+    Some(parts.join("; "))
 }
 
 impl LoopConfig {

@@ -9,8 +9,8 @@ use lenz::{
 };
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError, ampere, farad, henry, hertz, ohm, second, volt};
 use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError, ampere, farad, henry, hertz, ohm, second, volt};
 
 /// Arguments of `lenz boost`.
 #[derive(Debug, clap::Args)]

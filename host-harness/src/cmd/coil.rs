@@ -5,8 +5,8 @@ use std::process::ExitCode;
 use lenz::CoilParams;
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError, ampere, celsius, henry, ohm, second, volt};
 use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError, ampere, celsius, henry, ohm, second, volt};
 
 /// Arguments of `lenz coil`.
 #[derive(Debug, clap::Args)]

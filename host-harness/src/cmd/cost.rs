@@ -6,7 +6,7 @@ use std::process::ExitCode;
 
 use serde::Serialize;
 
-use crate::cli::CliError;
+use super::common::CliError;
 use crate::firmware::cost::{self, TargetCost};
 use crate::firmware::{TARGETS, Target, Toolchain, budget};
 

@@ -16,10 +16,10 @@ use std::process::ExitCode;
 use lenz::{Bound, bounds::CoilCorner};
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError};
 use super::outputs::Staged;
 use super::sim::Sink;
 use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError};
 use crate::demo::{self, DemoCoil};
 
 /// Arguments of `lenz demo`.
@@ -156,7 +156,7 @@ fn scenarios_and_report(out: &std::path::Path, mut sink: Sink, k: usize) -> Resu
     for (name, f) in &loaded {
         outln!();
         all_ok &= super::plan::print_tables(name, f)?;
-        let rep = super::plan::plan(f)?;
+        let rep = crate::system::plan::plan(f).map_err(|e| CliError(e.0))?;
         plans.push(rep);
         let runs = super::sim::run_all(
             std::slice::from_ref(&(name.clone(), f.clone())),

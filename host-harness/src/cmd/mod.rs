@@ -2,6 +2,7 @@
 
 pub mod boost;
 pub mod coil;
+pub mod common;
 pub mod cost;
 pub mod demo;
 pub mod motor;

@@ -5,11 +5,11 @@ use std::process::ExitCode;
 use lenz::motor::{Motor, MotorParams};
 use serde::Serialize;
 
-use super::table::{new_table, si};
-use crate::cli::{
+use super::common::{
     CAUTION, CliError, MOTOR_CAUTION, celsius, henry, kilogram_square_metre, newton_metre,
     newton_metre_per_ampere, newton_metre_second, ohm, volt,
 };
+use super::table::{new_table, si};
 
 /// Arguments of `lenz motor`.
 #[derive(Debug, clap::Args)]

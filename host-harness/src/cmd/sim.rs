@@ -6,9 +6,9 @@ use std::process::ExitCode;
 
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError};
 use super::outputs::Staged;
-use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError};
+use super::table::new_table;
 use crate::closed_loop::{Property, Waveform};
 use crate::report::{self, Names, Outcome};
 use crate::scenario::{
@@ -274,16 +274,7 @@ impl Drop for Sink {
     }
 }
 
-/// A value in engineering notation, or "never" for an infinite time.
-pub fn value(v: f64, unit: &str) -> String {
-    if v.is_infinite() && unit == "s" {
-        "never".into()
-    } else if unit == "trips" {
-        format!("{v:.0}")
-    } else {
-        si(v, unit)
-    }
-}
+pub use crate::report::text::value;
 
 /// The human table of `outcomes`.
 #[must_use]
@@ -299,8 +290,14 @@ pub fn table(outcomes: &[Outcome], show_file: bool) -> comfy_table::Table {
                 o.scenario.clone(),
                 p.name.replace('_', " "),
                 value(p.value, p.unit),
-                value(p.limit, p.unit),
-                if p.pass { "pass" } else { "FAIL" }.to_string(),
+                match p.bound {
+                    crate::closed_loop::Bound::Max => value(p.limit, p.unit),
+                    crate::closed_loop::Bound::Min => format!("≥ {}", value(p.limit, p.unit)),
+                },
+                match &p.detail {
+                    Some(d) => format!("{}\n{d}", if p.pass { "pass" } else { "FAIL" }),
+                    None => if p.pass { "pass" } else { "FAIL" }.to_string(),
+                },
             ];
             if show_file {
                 row.insert(0, o.file.clone());

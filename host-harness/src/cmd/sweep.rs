@@ -9,10 +9,10 @@ use std::process::ExitCode;
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
+use super::common::{CAUTION, CliError};
 use super::outputs::Staged;
 use super::sim::{describe, value};
 use super::table::new_table;
-use crate::cli::{CAUTION, CliError};
 use crate::report::{Names, slug};
 use crate::sweep::{self, Output, Plan, Shard};
 
@@ -116,7 +116,8 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     } else {
         sweep::sweep_summary
     };
-    let out = run(&plan, &|| bar.inc(1)).map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
+    let out = run(&plan, &|| bar.inc(1))
+        .map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
     bar.finish_and_clear();
     report(&out, a.json, plot)
 }

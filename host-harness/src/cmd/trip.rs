@@ -5,8 +5,8 @@ use std::process::ExitCode;
 use lenz::trip::{Curve, DetectionDelay, InverseTime, ThresholdParams, ThresholdPlan};
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError, ampere, henry, plain, second, volt};
 use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError, ampere, henry, plain, second, volt};
 
 /// Arguments of `lenz trip-time`.
 #[derive(Debug, clap::Args)]

@@ -8,9 +8,10 @@ use lenz::turnoff::{
 };
 use serde::Serialize;
 
+use super::common::{CAUTION, CliError, ampere, henry, ohm, volt};
 use super::table::{new_table, si};
-use crate::cli::{CAUTION, CliError, ampere, henry, ohm, volt};
 use crate::si::{self, Unit};
+use crate::system::ClampKind;
 
 /// Arguments of `lenz turnoff`.
 #[derive(Debug, clap::Args)]
@@ -67,14 +68,13 @@ const FLAGS: &[(&str, &str)] = &[
     ("capacitance_f", "--clamp CP"),
 ];
 
-const CLAMP_FORMS: &str = "diode:VF, zener:VZ:VF, switch:VCL, resistor:RS:VF or none:CP";
-
 /// Reads `--clamp KIND`.
 fn parse_clamp(text: &str) -> Result<Clamp, CliError> {
     let parts: Vec<&str> = text.split(':').collect();
     let bad_form = || {
         CliError(format!(
-            "--clamp: '{text}' is not a clamp; use {CLAMP_FORMS}"
+            "--clamp: '{text}' is not a clamp; use {}",
+            ClampKind::cli_forms()
         ))
     };
     let value = |k: usize, name: &str, unit: Unit| -> Result<f32, CliError> {
@@ -83,41 +83,43 @@ fn parse_clamp(text: &str) -> Result<Clamp, CliError> {
             .map(|v| v as f32)
             .map_err(|e| CliError(format!("--clamp {name}: {e}")))
     };
-    let kind = parts.first().copied().unwrap_or("");
+    let kind = parts
+        .first()
+        .and_then(|k| ClampKind::from_cli(k))
+        .ok_or_else(bad_form)?;
     let (clamp, n) = match kind {
-        "diode" => (
+        ClampKind::Freewheel => (
             Clamp::Diode {
                 forward_v: value(1, "VF", Unit::Volt)?,
             },
             2,
         ),
-        "zener" => (
+        ClampKind::DiodeZener => (
             Clamp::Zener {
                 zener_v: value(1, "VZ", Unit::Volt)?,
                 forward_v: value(2, "VF", Unit::Volt)?,
             },
             3,
         ),
-        "switch" => (
+        ClampKind::AcrossSwitch => (
             Clamp::Switch {
                 clamp_v: value(1, "VCL", Unit::Volt)?,
             },
             2,
         ),
-        "resistor" => (
+        ClampKind::ResistorDiode => (
             Clamp::Resistor {
                 resistance_ohm: value(1, "RS", Unit::Ohm)?,
                 forward_v: value(2, "VF", Unit::Volt)?,
             },
             3,
         ),
-        "none" => (
+        ClampKind::Unclamped => (
             Clamp::Unclamped {
                 capacitance_f: value(1, "CP", Unit::Farad)?,
             },
             2,
         ),
-        _ => return Err(bad_form()),
     };
     if parts.len() != n {
         return Err(bad_form());

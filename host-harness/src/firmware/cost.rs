@@ -204,7 +204,7 @@ pub fn measure(tc: &Toolchain, target: Target) -> Result<TargetCost, String> {
 /// The human table of `costs`.
 #[must_use]
 pub fn table(costs: &[TargetCost]) -> String {
-    let mut t = crate::cmd::table::new_table(&[
+    let mut t = crate::report::text::new_table(&[
         "Core",
         "Kernel",
         "Instr/call",

@@ -83,7 +83,7 @@ impl CoilSpec {
         Self {
             curve: InductanceCurve::Linear { l_h },
             r20_ohm,
-            alpha20_per_k: 0.00393,
+            alpha20_per_k: f64::from(lenz::coil::COPPER_ALPHA20_PER_K),
             temp_c,
             thermal: None,
         }

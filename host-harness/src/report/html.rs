@@ -6,8 +6,8 @@ use std::fmt::Write as _;
 
 use super::Outcome;
 use super::junit::escape;
-use crate::cmd::plan::{Report, num};
-use crate::cmd::sim::value;
+use crate::report::text::{num, value};
+use crate::system::PlanReport as Report;
 
 /// One scenario file's part of the report.
 pub struct Section<'a> {

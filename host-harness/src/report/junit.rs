@@ -72,10 +72,20 @@ pub fn to_junit(outcomes: &[Outcome]) -> String {
                 if p.pass {
                     x.push_str("/>\n");
                 } else {
-                    let msg = format!(
-                        "{} = {} {} exceeds the limit {} {}",
-                        p.name, p.value, p.unit, p.limit, p.unit
+                    let mut msg = format!(
+                        "{} = {} {} {} {} {}",
+                        p.name,
+                        p.value,
+                        p.unit,
+                        p.failure_text(),
+                        p.limit,
+                        p.unit
                     );
+                    if let Some(d) = &p.detail {
+                        msg.push_str(" (");
+                        msg.push_str(d);
+                        msg.push(')');
+                    }
                     let _ = writeln!(
                         x,
                         ">\n      <failure message=\"{}\" type=\"property\"/>\n    </testcase>",

@@ -8,11 +8,13 @@
 //!   needed: text is written as SVG `<text>` and rendered by the viewer.
 //! - [`junit`]: one `<testcase>` per scenario and property, for CI systems.
 //! - [`html`]: the index page of a report folder.
+//! - [`text`]: numbers in engineering notation and tables for people.
 
 pub mod csv;
 pub mod html;
 pub mod junit;
 pub mod svg;
+pub mod text;
 
 use crate::closed_loop::RunResult;
 

@@ -30,7 +30,7 @@ fn span(values: impl Iterator<Item = f64>) -> (f64, f64) {
 }
 
 fn mark_color(e: &RunEvent) -> RGBColor {
-    if e.what == "trip" {
+    if e.what.starts_with("trip") {
         RED
     } else if e.what.starts_with("fault") {
         RGBColor(230, 120, 0)
@@ -128,9 +128,9 @@ fn panel(
                 c.stroke_width(1),
             )))
             .map_err(err)?;
-        if e.what == "trip" || e.what.starts_with("fault") {
+        if e.what.starts_with("trip") || e.what.starts_with("fault") {
             // Trip labels sit lower than the others, so the two never overlap.
-            let (label, y) = if e.what == "trip" {
+            let (label, y) = if e.what.starts_with("trip") {
                 ("trip", y0 + 0.9 * (y1 - y0))
             } else {
                 (event_label(&e.what), y1)

@@ -19,11 +19,19 @@
 //! [system.ratings]               # switch_voltage, switch_current, switch_energy, clamp_energy
 //! [system.requirements]          # release_time, pull_in_time, output_ripple, saturation_margin
 //! [controller.coil]              # or [controller.boost]: the example controller's parameters
+//!                                # (optional: a file for your own controller has none)
 //! [tolerances]                   # inductance = { dist = "normal", rel = 0.03 }, ...
 //! [[scenario]]                   # name, duration, supply, temperature, noise_seed
 //! [[scenario.event]]             # at = "10ms", then one of command / fault / supply / load
 //! [[scenario.check]]             # property = "peak-switch-voltage", max = "60V"
+//!                                # (hold-current takes `min`, default the coil's hold_current)
 //! ```
+//!
+//! `[system.coil]` takes `pull_in_current`, `release_current` and, optionally, the must-hold
+//! `hold_current` (the lower limit of `hold-current` and of the plan's hold verdict). The
+//! properties: `peak-switch-voltage`, `clamp-energy`, `switch-energy`, `peak-current`,
+//! `trip-latency`, `no-trip`, `release-time`, `output-band`, `estimator-error`,
+//! `pull-in-time`, `hold-current`, `coil-temperature`, `coil-power` ([`Property`]).
 //!
 //! Values take SI prefixes and an optional unit symbol as strings (`"120mH"`, `"4.7u"`), or
 //! plain TOML numbers in the base unit. The shipped files in `host-harness/scenarios/` are
@@ -450,14 +458,37 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 return Err((key, place(Some(("[[scenario.event]]", j))), b.into()));
             }
         }
+        let commands_on = s
+            .events
+            .iter()
+            .any(|e| matches!(e.action, Action::Command(Command::On)));
         for (j, c) in s.checks.iter().enumerate() {
             let key = format!("scenario[{k}].check[{j}].property");
             let bad = match c.property {
                 Property::OutputBand if !is_boost => Some("output-band applies to a boost stage"),
-                Property::ReleaseTime | Property::ClampEnergy | Property::EstimatorError
+                Property::ReleaseTime
+                | Property::ClampEnergy
+                | Property::EstimatorError
+                | Property::PullInTime
+                | Property::HoldCurrent
+                | Property::CoilTemperature
+                | Property::CoilPower
                     if is_boost =>
                 {
                     Some("applies to a coil drive")
+                }
+                Property::PullInTime | Property::HoldCurrent | Property::CoilPower
+                    if !commands_on =>
+                {
+                    Some("needs an event with `command = \"on\"`: without one it checks nothing")
+                }
+                Property::HoldCurrent
+                    if c.min.is_none()
+                        && f.system.coil.is_none_or(|k| k.hold_current.is_none()) =>
+                {
+                    Some(
+                        "missing key `min`: the must-hold current (or give `hold_current` in [system.coil])",
+                    )
                 }
                 _ => None,
             };

@@ -26,16 +26,13 @@ use super::schema::{
     Action, BoostStage, ClampSpec, Command, Dist, FaultSpec, File, Property, RangeTolerance,
     RelTolerance, Scenario,
 };
-use crate::closed_loop::{self, AdcChannel, Band, Limits, LoopConfig, Release, RunResult, Sensors};
+use crate::closed_loop::{self, Band, Limits, LoopConfig, Release, RunResult};
 use crate::controllers::{
     BoostPlan, BoostRegulator, BoostRegulatorConfig, PULL_IN_GRACE_S, PWM_MAX_DUTY, ValveDriver,
     ValveDriverConfig, ValvePlan,
 };
 use crate::faults::{Channel, Fault, FaultAt};
-use crate::plant::{
-    Boost, BoostSpec, Clamp, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec,
-    Thermal,
-};
+use crate::plant::Boost;
 
 /// The part values of one run: multipliers of the nominal values, and the operating point.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -232,7 +229,7 @@ impl std::error::Error for RunSetupError {}
 /// key the rejected parameter comes from (the scenario's own `supply` or `temperature` when
 /// `scenario` sets them), and the problem no longer names the internal parameter. A parameter
 /// with no key of its own (derived from several) is reported at `table`.
-fn lenz_err<'a>(
+pub(crate) fn lenz_err<'a>(
     file: &'a File,
     table: &'a str,
     scenario: Option<usize>,
@@ -341,12 +338,15 @@ pub(crate) fn file_key(file: &File, scenario: Option<usize>, param: &str) -> Opt
 }
 
 /// The operating point of a run.
-struct Point {
-    supply_v: f64,
-    temp_c: f64,
+pub(crate) struct Point {
+    /// Supply, V.
+    pub(crate) supply_v: f64,
+    /// Coil temperature, °C.
+    pub(crate) temp_c: f64,
 }
 
-fn point(file: &File, sc: &Scenario, p: &Params) -> Point {
+/// The operating point of scenario `sc` with part values `p`.
+pub(crate) fn point(file: &File, sc: &Scenario, p: &Params) -> Point {
     let s = &file.system;
     Point {
         supply_v: sc
@@ -362,69 +362,18 @@ fn point(file: &File, sc: &Scenario, p: &Params) -> Point {
     }
 }
 
-fn clamp_of(c: &ClampSpec, k: f64) -> Clamp {
-    match *c {
-        ClampSpec::Freewheel { diode_drop } => Clamp::Freewheel {
-            vf_v: diode_drop.get() * k,
-        },
-        ClampSpec::DiodeZener { diode_drop, zener } => Clamp::DiodeZener {
-            vf_v: diode_drop.get(),
-            vz_v: zener.get() * k,
-        },
-        ClampSpec::AcrossSwitch { voltage } => Clamp::AcrossSwitch {
-            vcl_v: voltage.get() * k,
-        },
-        ClampSpec::ResistorDiode {
-            resistor,
-            diode_drop,
-        } => Clamp::ResistorDiode {
-            r_ohm: resistor.get() * k,
-            vf_v: diode_drop.get(),
-        },
-        ClampSpec::Unclamped { capacitance } => Clamp::Unclamped {
-            c_f: capacitance.get() * k,
-        },
-    }
-}
-
-/// The sense channels: `actual` with the chain's errors and the run's gain spread, else the
-/// nominal chain the firmware assumes.
-fn sensors(file: &File, p: &Params, actual: bool) -> Sensors {
-    let s = &file.system.sense;
-    let (gain_error, offset, noise, k) = if actual {
-        (
-            s.gain_error.get(),
-            s.offset.get(),
-            s.noise.get(),
-            p.sense_gain,
-        )
-    } else {
-        (0.0, 0.0, 0.0, 1.0)
-    };
-    let ch = |volts_per_unit: f64, bias_v: f64| AdcChannel {
-        bits: s.adc_bits as u8,
-        vref_v: s.adc_reference.get(),
-        volts_per_unit,
-        bias_v,
-        gain_error,
-        offset_error_v: offset,
-        noise_rms_lsb: noise,
-    };
-    Sensors {
-        current: ch(s.shunt.get() * s.gain.get() * k, s.bias.get()),
-        supply: ch(s.supply_divider.get(), 0.0),
-        output: ch(s.output_divider.get(), 0.0),
-    }
-}
-
-/// Seconds to whole nanoseconds, as the loop configuration is given its tick, PWM period and
-/// duration.
 pub(crate) fn ns(t_s: f64) -> u64 {
     (t_s * 1e9).round() as u64
 }
 
 /// The closed-loop configuration of scenario `sc`.
-fn loop_config(file: &File, sc: &Scenario, p: &Params, pt: &Point, record: Record) -> LoopConfig {
+pub(crate) fn loop_config(
+    file: &File,
+    sc: &Scenario,
+    p: &Params,
+    pt: &Point,
+    record: Record,
+) -> LoopConfig {
     let s = &file.system;
     let mut demand = Vec::new();
     let mut faults = Vec::new();
@@ -486,6 +435,7 @@ fn loop_config(file: &File, sc: &Scenario, p: &Params, pt: &Point, record: Recor
         });
     }
     let mut limits = Limits::default();
+    let mut pull_in_max = None;
     for c in &sc.checks {
         let m = Some(c.max);
         match c.property {
@@ -513,14 +463,26 @@ fn loop_config(file: &File, sc: &Scenario, p: &Params, pt: &Point, record: Recor
                 });
             }
             Property::EstimatorError => limits.estimator_error_max_a = m,
+            Property::PullInTime => pull_in_max = m,
+            Property::HoldCurrent => {
+                limits.hold_current_min_a = c
+                    .min
+                    .or(s.coil.and_then(|k| k.hold_current.map(|h| h.get())));
+            }
+            Property::CoilTemperature => limits.coil_temperature_max_c = m,
+            Property::CoilPower => limits.coil_power_max_w = m,
         }
     }
+    limits.pull_in = s.coil.map(|k| closed_loop::PullIn {
+        current_a: k.pull_in_current.get(),
+        max_s: pull_in_max,
+    });
     LoopConfig {
         tick_ns: ns(s.tick.get()),
         pwm_period_ns: ns(1.0 / s.pwm_frequency.get()),
         duration_ns: ns(sc.duration.get()),
         sample_offset_ns: ns(s.sample_offset.get()),
-        sensors: sensors(file, p, true),
+        sensors: crate::system::sense::actual(file, p),
         seed: p.noise_seed.unwrap_or(sc.noise_seed),
         demand,
         faults,
@@ -544,92 +506,24 @@ fn channel(c: super::schema::Channel) -> Channel {
 /// figures).
 #[must_use]
 pub fn turnoff_clamp(c: &ClampSpec) -> lenz::turnoff::Clamp {
-    use lenz::turnoff::Clamp as T;
-    match *c {
-        ClampSpec::Freewheel { diode_drop } => T::Diode {
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::DiodeZener { diode_drop, zener } => T::Zener {
-            zener_v: zener.get() as f32,
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::AcrossSwitch { voltage } => T::Switch {
-            clamp_v: voltage.get() as f32,
-        },
-        ClampSpec::ResistorDiode {
-            resistor,
-            diode_drop,
-        } => T::Resistor {
-            resistance_ohm: resistor.get() as f32,
-            forward_v: diode_drop.get() as f32,
-        },
-        ClampSpec::Unclamped { capacitance } => T::Unclamped {
-            capacitance_f: capacitance.get() as f32,
-        },
-    }
+    crate::system::clamp::core_clamp(c)
 }
 
-/// The coil driver's plan from the file's nominal values at coil temperature `temp_c`.
+/// The example valve driver's plan from the firmware inputs of `file` at coil temperature
+/// `temp_c` (needs `[controller.coil]`).
 ///
 /// # Errors
 ///
 /// The plan rejects a value (named).
 pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSetupError> {
-    let s = &file.system;
-    let (Some(coil), Some(clamp), super::Controller::Coil(c)) = (s.coil, s.clamp, &file.controller)
-    else {
-        return Err(RunSetupError(
-            "key `system`: a coil controller needs [system.coil] and a clamp".into(),
-        ));
-    };
-    let clamp = turnoff_clamp(&clamp);
-    let model = lenz::CoilParams::new(coil.inductance.get() as f32, coil.resistance.get() as f32)
-        .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
-        .with_shunt_resistance_ohm(s.sense.shunt.get() as f32)
-        .validate()
-        .map_err(lenz_err(file, "system.coil", None))?;
-    let nominal = sensors(file, &Params::NOMINAL, false);
-    let m = &c.monitor;
-    let supply_v = lenz::Range::new(
-        "supply_v",
-        s.supply.min.get() as f32,
-        s.supply.max.get() as f32,
-    )
-    .map_err(lenz_err(file, "system.supply", None))?;
-    let pull_in_min_s = c.pull_in_min_time.get() as f32;
-    ValveDriverConfig::new(&ValvePlan {
-        coil: model,
-        temp_c: temp_c as f32,
-        tick_s: s.tick.get() as f32,
-        clamp,
-        supply_v,
-        release_a: coil.release_current.get() as f32,
-        pull_in_a: c.pull_in_current.get() as f32,
-        pull_in_min_s,
-        pull_in_max_s: pull_in_min_s + PULL_IN_GRACE_S,
-        hold_duty: c.hold_duty.get() as f32,
-        pwm_frequency_hz: s.pwm_frequency.get() as f32,
-        pwm_max_duty: PWM_MAX_DUTY,
-        current_adc: nominal.current,
-        supply_adc: nominal.supply,
-        monitor: lenz::kernel::MonitorParams {
-            abs_tol_a: m.abs_tol.get() as f32,
-            rel_tol: m.rel_tol.get() as f32,
-            open_min_estimate_a: m.open_min_estimate.get() as f32,
-            open_max_a: m.open_max.get() as f32,
-            persistence: m.persistence,
-            stuck_samples: m.stuck_samples,
-            stuck_min_change_a: m.stuck_min_change.get() as f32,
-        },
-        trip_threshold_a: c.trip_current.get() as f32,
-    })
-    .map_err(|e| coil_plan_err(file, c, e))
+    let inputs = crate::system::firmware::inputs(file, temp_c)?;
+    valve_driver(file, &inputs)
 }
 
 /// The coil driver's plan errors that name a derived quantity, in the file's keys; the others
 /// as the plan words them.
 fn coil_plan_err(file: &File, c: &super::CoilController, e: lenz::Error) -> RunSetupError {
-    use crate::cmd::table::si;
+    use crate::si::format as si;
     match e {
         // The hold estimator's continuous-conduction check: `value` is the smallest mean
         // current over the supply range, `min` the PWM ripple it must exceed.
@@ -662,64 +556,37 @@ fn coil_plan_err(file: &File, c: &super::CoilController, e: lenz::Error) -> RunS
     }
 }
 
-fn coil_plant(
+/// The example valve driver planned from `inputs` (the firmware inputs of `file`).
+fn valve_driver(
     file: &File,
-    p: &Params,
-    pt: &Point,
-    scenario: Option<usize>,
-) -> Result<CoilDrive, RunSetupError> {
-    let s = &file.system;
-    let (Some(coil), Some(clamp)) = (s.coil, s.clamp) else {
+    inputs: &crate::system::FirmwareInputs,
+) -> Result<ValveDriverConfig, RunSetupError> {
+    let super::Controller::Coil(k) = &file.controller else {
         return Err(RunSetupError(
-            "key `system`: missing [system.coil] or [system.clamp]".into(),
+            "controller: the example valve driver needs [controller.coil]".into(),
         ));
     };
-    let l = coil.inductance.get() * p.inductance;
-    let curve = match (coil.knee_current, coil.residual_inductance) {
-        (Some(knee), Some(res)) => InductanceCurve::Knee {
-            l0_h: l,
-            knee_a: knee.get(),
-            l_res_h: res.get() * p.inductance,
-        },
-        (None, None) => InductanceCurve::Linear { l_h: l },
-        _ => {
-            return Err(RunSetupError(
-                "key `system.coil`: `knee_current` and `residual_inductance` go together".into(),
-            ));
-        }
-    };
-    let thermal = match (coil.thermal_resistance, coil.thermal_capacitance) {
-        (Some(r), Some(c)) => Some(Thermal {
-            r_th_k_per_w: r.get(),
-            c_th_j_per_k: c.get(),
-            ambient_c: pt.temp_c,
-        }),
-        (None, None) => None,
-        _ => {
-            return Err(RunSetupError(
-                "key `system.coil`: `thermal_resistance` and `thermal_capacitance` go together"
-                    .into(),
-            ));
-        }
-    };
-    CoilDrive::new(CoilDriveSpec {
-        coil: CoilSpec {
-            curve,
-            r20_ohm: coil.resistance.get() * p.resistance,
-            alpha20_per_k: 0.00393,
-            temp_c: pt.temp_c,
-            thermal,
-        },
-        clamp: clamp_of(&clamp, p.clamp),
-        switch: SwitchSpec {
-            on_resistance_ohm: s.switch.on_resistance.get(),
-            breakdown_v: s.switch.breakdown.get(),
-        },
-        supply_v: pt.supply_v,
-        source_resistance_ohm: s.supply.source_resistance.get(),
-        shunt_ohm: s.sense.shunt.get(),
+    let c = inputs.coil()?;
+    let nominal = crate::system::sense::nominal(file);
+    ValveDriverConfig::new(&ValvePlan {
+        coil: c.coil,
+        temp_c: inputs.temp_c,
+        tick_s: inputs.tick_s,
+        clamp: c.clamp,
+        supply_v: inputs.supply_v,
+        release_a: c.release_a,
+        pull_in_a: c.settings.pull_in_a,
+        pull_in_min_s: c.settings.pull_in_min_s,
+        pull_in_max_s: c.settings.pull_in_min_s + PULL_IN_GRACE_S,
+        hold_duty: c.settings.hold_duty,
+        pwm_frequency_hz: inputs.pwm_frequency_hz,
+        pwm_max_duty: PWM_MAX_DUTY,
+        current_adc: nominal.current,
+        supply_adc: nominal.supply,
+        monitor: c.settings.monitor,
+        trip_threshold_a: c.settings.trip_a,
     })
-    .map_err(lenz_err(file, "system", scenario))
+    .map_err(|e| coil_plan_err(file, k, e))
 }
 
 /// The plan-side boost stage of the file (nominal values).
@@ -728,16 +595,7 @@ fn coil_plant(
 ///
 /// The plan rejects a value (named).
 pub fn boost_stage(file: &File, b: &BoostStage) -> Result<lenz::boost::BoostStage, RunSetupError> {
-    let s = &file.system;
-    lenz::boost::BoostStageParams::new(b.inductance.get() as f32, s.pwm_frequency.get() as f32)
-        .with_inductor_resistance_ohm(b.dcr.get() as f32)
-        .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
-        .with_diode_drop_v(b.diode_drop.get() as f32)
-        .with_saturation_current_a(b.saturation_current.get() as f32)
-        .with_min_off_time_s(b.min_off_time.get() as f32)
-        .with_min_on_time_s(b.min_on_time.get() as f32)
-        .validate()
-        .map_err(lenz_err(file, "system.boost", None))
+    crate::system::plan::boost_stage(file, b)
 }
 
 /// The boost regulator's plan from the file's nominal values and the nominal sense chain.
@@ -750,38 +608,10 @@ pub fn boost_regulator(
     b: &BoostStage,
     c: &super::BoostController,
 ) -> Result<BoostRegulatorConfig, RunSetupError> {
-    let s = &file.system;
-    let nominal = sensors(file, &Params::NOMINAL, false);
-    let adc_max = ((1u32 << s.sense.adc_bits) - 1).min(u32::from(u16::MAX)) as u16;
+    let inputs = crate::system::firmware::inputs(file, file.system.temperature.nominal.get())?;
     BoostRegulatorConfig::new(&BoostPlan {
-        stage: boost_stage(file, b)?,
-        limiter: lenz::kernel::DutyLimiterParams {
-            input_v: lenz::Range::new(
-                "input_v",
-                c.input_min.get() as f32,
-                c.input_max.get() as f32,
-            )
-            .map_err(lenz_err(file, "controller.boost", None))?,
-            output_v: b.output.get() as f32,
-            max_load_current_a: c.max_load_current.get() as f32,
-            light_load: match (c.light_load_current, c.light_load_max_output) {
-                (Some(i), Some(v)) => Some(lenz::boost::LightLoad {
-                    min_load_current_a: i.get() as f32,
-                    max_output_v: v.get() as f32,
-                }),
-                _ => None,
-            },
-            input_v_per_count: nominal.supply.units_per_count() as f32,
-            output_v_per_count: nominal.output.units_per_count() as f32,
-            adc_max_counts: adc_max,
-            duty_full_scale: c.duty_full_scale,
-            soft_start_s: c.soft_start.get() as f32,
-            tick_s: s.tick.get() as f32,
-            overvoltage_v: c.overvoltage.get() as f32,
-            resume_v: c.resume.get() as f32,
-            inductance_tol: b.inductance_tolerance.get() as f32,
-            resistance_tol: b.resistance_tolerance.get() as f32,
-        },
+        stage: crate::system::plan::boost_stage(file, b)?,
+        limiter: crate::system::plan::duty_limiter_params(file, b, c, &inputs.sense)?,
         kp_per_v: c.kp.get() as f32,
         ki_per_v_tick: c.ki.get() as f32,
         bypass_limiter: false,
@@ -800,74 +630,46 @@ pub fn boost_plant(
     p: &Params,
     supply_v: f64,
 ) -> Result<Boost, RunSetupError> {
-    let s = &file.system;
-    Boost::new(BoostSpec {
-        inductor: InductanceCurve::Linear {
-            l_h: b.inductance.get() * p.inductance,
-        },
-        dcr_ohm: b.dcr.get() * p.resistance,
-        switch_on_resistance_ohm: s.switch.on_resistance.get(),
-        diode_drop_v: b.diode_drop.get(),
-        output_c_f: b.output_capacitance.get(),
-        esr_ohm: b.esr.get(),
-        load_ohm: b.load.get() * p.load,
-        input_v: supply_v,
-        source_resistance_ohm: s.supply.source_resistance.get(),
-    })
-    .map_err(lenz_err(file, "system.boost", None))
+    crate::system::plant::boost_plant(file, b, p, supply_v)
 }
 
-/// Runs scenario `index` of `file` with part values `p`.
+/// Runs scenario `index` of `file` with part values `p` and the file's example controller
+/// (`[controller]`).
 ///
 /// # Errors
 ///
-/// A value the plans or the plant reject, or a timing the closed loop rejects.
+/// The file has no `[controller]`, a value the plans or the plant reject, or a timing the
+/// closed loop rejects.
 pub fn run(
     file: &File,
     index: usize,
     p: &Params,
     record: Record,
 ) -> Result<RunResult, RunSetupError> {
-    let sc = file
-        .scenarios
-        .get(index)
-        .ok_or_else(|| RunSetupError(format!("no scenario number {index}")))?;
-    let pt = point(file, sc, p);
-    let cfg = loop_config(file, sc, p, &pt, record);
-    let loop_err = |e: closed_loop::RunError| match e {
-        closed_loop::RunError::Timing(param) => RunSetupError(format!(
-            "key `{}`: the timing of scenario '{}' is not consistent (a zero tick, PWM period \
-             or duration, or a sampling instant outside the tick)",
-            file_key(file, Some(index), param).unwrap_or_else(|| format!("scenario[{index}]")),
-            sc.name
-        )),
-        other => RunSetupError(format!("key `scenario[{index}]`: {other}")),
-    };
     match &file.controller {
-        super::Controller::Coil(_) => {
-            let mut plant = coil_plant(file, p, &pt, Some(index))?;
-            plant.set_record_events(false);
-            // Memory must not grow with the PWM periods of a long run: the properties need
-            // only the worst switch-off.
-            plant.set_keep_switch_offs(false);
-            let mut ctrl = ValveDriver::new(coil_driver(file, pt.temp_c)?)
-                .map_err(|e| RunSetupError(format!("controller.coil: {e}")))?;
-            closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
-        }
+        super::Controller::Coil(_) => crate::system::run_fallible(file, index, p, record, |fw| {
+            valve_driver(file, fw).and_then(|c| {
+                ValveDriver::new(c).map_err(|e| RunSetupError(format!("controller.coil: {e}")))
+            })
+        }),
         super::Controller::Boost(c) => {
             let Some(b) = &file.system.boost else {
                 return Err(RunSetupError(
                     "key `system`: a boost controller needs [system.boost]".into(),
                 ));
             };
-            let mut plant = boost_plant(file, b, p, pt.supply_v)?;
-            // The input was up before the rail is enabled: the output starts precharged
-            // through the diode.
-            plant.settle_off();
-            let mut ctrl = BoostRegulator::new(boost_regulator(file, b, c)?)
-                .map_err(|e| RunSetupError(format!("controller.boost: {e}")))?;
-            closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
+            let reg = boost_regulator(file, b, c)?;
+            crate::system::run_fallible(file, index, p, record, |_| {
+                BoostRegulator::new(reg)
+                    .map_err(|e| RunSetupError(format!("controller.boost: {e}")))
+            })
         }
+        super::Controller::Own => Err(RunSetupError(
+            "controller: the file has no [controller]; the command line runs only the built-in \
+             example controllers ([controller.coil] or [controller.boost]); run your own \
+             controller from your tests with lenz_harness::System"
+                .into(),
+        )),
     }
 }
 
@@ -890,8 +692,10 @@ mod tests {
         let sc = &f.scenarios[0];
         let pt = point(&f, sc, &p);
         let cfg = loop_config(&f, sc, &p, &pt, Record::None);
-        let mut plant = coil_plant(&f, &p, &pt, None).expect("plant");
-        let mut ctrl = ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
+        let mut plant =
+            crate::system::plant::coil_plant(&f, &p, pt.supply_v, pt.temp_c).expect("plant");
+        let mut ctrl =
+            ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
         let all = closed_loop::run(&mut plant, &mut ctrl, &cfg).expect("runs");
         assert!(all.switch_offs.len() > 100, "{}", all.switch_offs.len());
         for name in ["clamp_energy_per_switch_off", "peak_switch_voltage"] {

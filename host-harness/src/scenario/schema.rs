@@ -17,7 +17,10 @@ use super::quantity::{
 pub struct File {
     /// The drive system.
     pub system: System,
-    /// The firmware controller under test and its parameters.
+    /// The example controller the command line runs, and its settings (absent: the file is
+    /// for the user's own controller, run from their tests through
+    /// [`System`](crate::system::System)).
+    #[serde(default)]
     pub controller: Controller,
     /// Spreads for `lenz sweep`; parameters not listed stay at their nominal value.
     #[serde(default)]
@@ -241,6 +244,9 @@ pub struct Coil {
     pub pull_in_current: Pos<Ampere>,
     /// Current below which the armature is taken as released, A.
     pub release_current: Pos<Ampere>,
+    /// Must-hold current: below it a pulled-in armature drops out, A (optional; the lower
+    /// limit of `hold-current` and of the plan's hold verdict).
+    pub hold_current: Option<Pos<Ampere>>,
 }
 
 /// The clamp network across the coil or the switch (one kind per file).
@@ -438,10 +444,15 @@ impl TryFrom<RawSense> for Sense {
     }
 }
 
-/// The controller under test: one of the example controllers with its parameters.
-#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+/// The controller under test: one of the example controllers with its parameters, or the
+/// user's own (no `[controller]` table).
+#[derive(Debug, Clone, Copy, Default, Deserialize, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Controller {
+    /// No `[controller]`: the user's own controller, given in code.
+    #[default]
+    #[serde(skip_deserializing)]
+    Own,
     /// Valve or relay driver: pull-in at full voltage, PWM hold, estimator, monitor, trip
     /// detector, off-timer.
     Coil(CoilController),
@@ -914,6 +925,16 @@ pub enum Property {
     /// Largest difference between the firmware's current estimate and the plant current
     /// while the coil is on, A (`max`).
     EstimatorError,
+    /// Longest time from an on command to the coil current first reaching the coil's
+    /// `pull_in_current`, s (`max`; infinite when it never gets there).
+    PullInTime,
+    /// Lowest coil current after the pull-in while commanded on, A (`min`, default: the
+    /// coil's `hold_current`): below it the armature drops out.
+    HoldCurrent,
+    /// Highest winding temperature (the plant's thermal model), °C (`max`).
+    CoilTemperature,
+    /// Mean power the winding turns into heat while held, W (`max`).
+    CoilPower,
 }
 
 impl Property {
@@ -930,6 +951,10 @@ impl Property {
             Property::ReleaseTime => "release-time",
             Property::OutputBand => "output-band",
             Property::EstimatorError => "estimator-error",
+            Property::PullInTime => "pull-in-time",
+            Property::HoldCurrent => "hold-current",
+            Property::CoilTemperature => "coil-temperature",
+            Property::CoilPower => "coil-power",
         }
     }
 
@@ -946,6 +971,10 @@ impl Property {
             Property::ReleaseTime => "release_time",
             Property::OutputBand => "output_within_band",
             Property::EstimatorError => "estimator_error",
+            Property::PullInTime => "pull_in_time",
+            Property::HoldCurrent => "hold_current",
+            Property::CoilTemperature => "coil_temperature",
+            Property::CoilPower => "coil_power",
         }
     }
 
@@ -956,8 +985,12 @@ impl Property {
         match self {
             Property::PeakSwitchVoltage | Property::OutputBand => Unit::Volt,
             Property::ClampEnergy | Property::SwitchEnergy => Unit::Joule,
-            Property::PeakCurrent | Property::EstimatorError => Unit::Ampere,
-            Property::TripLatency | Property::ReleaseTime => Unit::Second,
+            Property::PeakCurrent | Property::EstimatorError | Property::HoldCurrent => {
+                Unit::Ampere
+            }
+            Property::TripLatency | Property::ReleaseTime | Property::PullInTime => Unit::Second,
+            Property::CoilTemperature => Unit::Celsius,
+            Property::CoilPower => Unit::Watt,
             Property::NoTrip => Unit::None,
         }
     }
@@ -970,6 +1003,8 @@ impl Property {
             crate::si::Unit::Joule => "J",
             crate::si::Unit::Ampere => "A",
             crate::si::Unit::Second => "s",
+            crate::si::Unit::Celsius => "°C",
+            crate::si::Unit::Watt => "W",
             _ => "",
         }
     }
@@ -982,8 +1017,10 @@ pub struct Check {
     /// Which property.
     pub property: Property,
     /// Highest allowed value (for output-band: the allowed deviation from the wanted output;
-    /// for no-trip: 0).
+    /// for no-trip: 0; unused by hold-current, whose limit is `min`).
     pub max: f64,
+    /// Lowest allowed value (hold-current only; `None`: the coil's `hold_current`).
+    pub min: Option<f64>,
     /// Output band: settling time after the start and after each load step, s.
     pub after: f64,
     /// Release time: the release current, A (default: the coil's `release_current`).
@@ -1003,6 +1040,7 @@ enum RawLimit {
 struct RawCheck {
     property: Property,
     max: Option<RawLimit>,
+    min: Option<RawLimit>,
     after: Option<NonNeg<Second>>,
     current: Option<Pos<Ampere>>,
 }
@@ -1011,21 +1049,44 @@ impl TryFrom<RawCheck> for Check {
     type Error = String;
     fn try_from(r: RawCheck) -> Result<Self, String> {
         let p = r.property;
-        let max = match r.max {
-            None if p == Property::NoTrip => 0.0,
-            None => return Err(format!("missing key `max`: the limit of {}", p.name())),
-            Some(RawLimit::Number(v)) => v,
-            Some(RawLimit::Text(s)) => crate::si::parse(&s, p.unit()).map_err(|e| {
-                if p.symbol().is_empty() {
-                    format!("key `max`: {e} (expected a plain number)")
-                } else {
-                    format!("key `max`: {e} (expected a value in {})", p.symbol())
-                }
-            })?,
+        let limit = |key: &str, raw: RawLimit| -> Result<f64, String> {
+            let v = match raw {
+                RawLimit::Number(v) => v,
+                RawLimit::Text(s) => crate::si::parse(&s, p.unit()).map_err(|e| {
+                    if p.symbol().is_empty() {
+                        format!("key `{key}`: {e} (expected a plain number)")
+                    } else {
+                        format!("key `{key}`: {e} (expected a value in {})", p.symbol())
+                    }
+                })?,
+            };
+            // A temperature may be below 0 °C; every other limit is a magnitude.
+            let lowest = if p == Property::CoilTemperature {
+                -273.15
+            } else {
+                0.0
+            };
+            if !v.is_finite() || v < lowest {
+                return Err(format!("key `{key}`: {v} is not a finite value ≥ {lowest}"));
+            }
+            Ok(v)
         };
-        if !max.is_finite() || max < 0.0 {
-            return Err(format!("key `max`: {max} is not a finite value ≥ 0"));
-        }
+        let min = match (p, r.min) {
+            (Property::HoldCurrent, m) => m.map(|m| limit("min", m)).transpose()?,
+            (_, Some(_)) => return Err("key `min` belongs to hold-current".into()),
+            (_, None) => None,
+        };
+        let max = match r.max {
+            Some(_) if p == Property::HoldCurrent => {
+                return Err(
+                    "key `max`: hold-current has a lower limit: write `min` (must-hold current)"
+                        .into(),
+                );
+            }
+            None if p == Property::NoTrip || p == Property::HoldCurrent => 0.0,
+            None => return Err(format!("missing key `max`: the limit of {}", p.name())),
+            Some(raw) => limit("max", raw)?,
+        };
         if p == Property::NoTrip && max != 0.0 {
             return Err("key `max`: no-trip allows no trip (0)".into());
         }
@@ -1038,6 +1099,7 @@ impl TryFrom<RawCheck> for Check {
         Ok(Check {
             property: p,
             max,
+            min,
             after: r.after.map_or(0.0, NonNeg::get),
             current: r.current.map(Pos::get),
         })

@@ -9,7 +9,7 @@ use lenz::drive::{
 use lenz::kernel::TripEvent;
 
 use super::output::SimOutput;
-use crate::closed_loop::{Actuation, Controller, Direction, Sensed, Telemetry};
+use crate::closed_loop::{Actuation, Controller, Direction, Sensed, Telemetry, TripCause};
 
 /// Micro-amperes per ampere, for the estimate in the telemetry.
 const A_PER_UA: f64 = 1e-6;
@@ -89,6 +89,12 @@ where
         Telemetry {
             estimate_a: Some(f64::from(self.driver.estimate_ua()) * A_PER_UA),
             tripped: self.driver.fault().is_some() || self.new_trip,
+            trip_cause: match self.driver.fault() {
+                Some(lenz::drive::CoilFault::Trip(c)) => Some(TripCause::from(c)),
+                Some(lenz::drive::CoilFault::Plausibility(k)) => Some(TripCause::Plausibility(k)),
+                Some(lenz::drive::CoilFault::Output) => Some(TripCause::OutputError),
+                None => self.last_trip.map(|e| TripCause::from(e.cause)),
+            },
         }
     }
 }
@@ -158,6 +164,7 @@ where
         Telemetry {
             estimate_a: None,
             tripped: self.driver.faulted(),
+            trip_cause: self.driver.faulted().then_some(TripCause::Other),
         }
     }
 }
