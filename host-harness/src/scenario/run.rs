@@ -694,6 +694,57 @@ pub fn run(
     }
 }
 
+/// The sense channels as the firmware assumes them (nominal chain, no errors).
+#[must_use]
+pub fn nominal_sensors(file: &File) -> Sensors {
+    sensors(file, &Params::NOMINAL, false)
+}
+
+/// Runs scenario `index` of `file` with part values `p` against the controller `make` builds
+/// for the run's coil temperature (°C), on the plant of the file's controller kind; returns the
+/// result and the controller.
+///
+/// # Errors
+///
+/// A value the plans or the plant reject, `make`'s error, or a timing the closed loop
+/// rejects.
+pub fn run_with<C: closed_loop::Controller>(
+    file: &File,
+    index: usize,
+    p: &Params,
+    record: Record,
+    make: impl FnOnce(f64) -> Result<C, RunSetupError>,
+) -> Result<(RunResult, C), RunSetupError> {
+    let sc = file
+        .scenarios
+        .get(index)
+        .ok_or_else(|| RunSetupError(format!("no scenario number {index}")))?;
+    let pt = point(file, sc, p);
+    let cfg = loop_config(file, sc, p, &pt, record);
+    let loop_err = |e: closed_loop::RunError| RunSetupError(format!("scenario '{}': {e}", sc.name));
+    match &file.controller {
+        super::Controller::Coil(_) => {
+            let mut plant = coil_plant(file, p, &pt)?;
+            plant.set_record_events(false);
+            let mut ctrl = make(pt.temp_c)?;
+            let r = closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)?;
+            Ok((r, ctrl))
+        }
+        super::Controller::Boost(_) => {
+            let Some(b) = &file.system.boost else {
+                return Err(RunSetupError(
+                    "system: a boost controller needs [system.boost]".into(),
+                ));
+            };
+            let mut plant = boost_plant(file, b, p, pt.supply_v)?;
+            plant.settle_off();
+            let mut ctrl = make(pt.temp_c)?;
+            let r = closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)?;
+            Ok((r, ctrl))
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
