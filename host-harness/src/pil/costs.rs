@@ -83,7 +83,17 @@ impl TickBudget {
     pub fn limit_instructions(&self, tick_s: f64) -> u64 {
         match *self {
             TickBudget::Instructions(n) => n,
-            TickBudget::Clock { mhz, fraction } => (fraction * mhz * 1e6 * tick_s).floor() as u64,
+            TickBudget::Clock { mhz, fraction } => {
+                // Floor, but a product that is a whole number up to rounding stays whole
+                // (0.5 · 16 MHz · 100 µs is 800, not 799.99…).
+                let x = fraction * mhz * 1e6 * tick_s;
+                let r = x.round();
+                if (x - r).abs() <= 1e-9 * r.max(1.0) {
+                    r as u64
+                } else {
+                    x.floor() as u64
+                }
+            }
         }
     }
 }

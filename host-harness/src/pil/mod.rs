@@ -11,6 +11,7 @@
 //! - [`params`]: the parameter block sent to the image at start.
 //! - [`elf`]: the image checked against the core before it runs.
 //! - [`costs`]: instructions per tick and the budget.
+//! - [`build`]: the example images of `pil/images`.
 //!
 //! # Errors and failures
 //!
@@ -22,6 +23,7 @@
 //! guard, a malformed answer) fails the property `firmware_ran`; the run goes on with the
 //! switch off, and an event names the tick, what it was sent and its last answer.
 
+pub mod build;
 pub mod controller;
 pub mod costs;
 pub mod elf;

@@ -1,0 +1,218 @@
+//! The firmware-in-the-loop checks of `cargo xtask test`, after the C API's:
+//!
+//! 1. the example image `coil-driver` (`pil/images`) built for Cortex-M0 and Cortex-M4F, and
+//!    checked against each core (the hard-float M4F image must be refused for the M0);
+//! 2. every scenario of `host-harness/scenarios/valve.toml` run with each image in the loop
+//!    (nominal parts), with the tick budget at the clock stated per core in [`CORES`];
+//! 3. each run's actuations compared tick for tick with a host run of the same driver
+//!    (`lenz::drive::CoilDriver` compiled for the host, the same configuration and PWM
+//!    resolution) on the same scenario: the sequences must be identical;
+//! 4. every property holds; the instructions per tick per core and the ticks per wall-clock
+//!    second in the loop are printed.
+
+use std::convert::Infallible;
+use std::time::Instant;
+
+use embedded_hal::pwm::{ErrorType, SetDutyCycle};
+use lenz::drive::{CoilDriver, CoilDriverConfig, CoilSense};
+use lenz_harness::closed_loop::{Actuation, Controller, Sensed, Telemetry};
+use lenz_harness::firmware::{Target, Toolchain, workspace_root};
+use lenz_harness::pil::build::{COIL_DRIVER, build_image};
+use lenz_harness::pil::controller::actuation;
+use lenz_harness::pil::params::{PWM_MAX_DUTY, coil_driver_config};
+use lenz_harness::pil::{FirmwareRun, Guards, TickBudget, run_scenario, session};
+use lenz_harness::scenario::{
+    self,
+    run::{Params, Record, RunSetupError, run_with},
+};
+use lenz_pil::wire;
+
+/// The cores the Rust image runs on, with the clock its tick budget is checked at (MHz):
+/// common clocks of such parts (a Cortex-M0 at 48 MHz, a Cortex-M4F at 80 MHz), invented for
+/// the demo; the emulated machine's own clock does not change the instruction counts.
+const CORES: [(Target, f64); 2] = [(Target::M0, 48.0), (Target::M4f, 80.0)];
+/// Share of the tick the tick function may take (common practice, no source).
+const TICK_FRACTION: f64 = 0.5;
+
+fn timed<T>(name: &str, f: impl FnOnce() -> Result<T, String>) -> Result<T, String> {
+    let t = Instant::now();
+    let r = f().map_err(|e| format!("{name}: {e}"))?;
+    println!("xtask: {name}: ok ({:.1} s)", t.elapsed().as_secs_f64());
+    Ok(r)
+}
+
+/// A PWM channel of the images' resolution that keeps the duty written last.
+struct Pwm(u16);
+
+impl ErrorType for Pwm {
+    type Error = Infallible;
+}
+
+impl SetDutyCycle for Pwm {
+    fn max_duty_cycle(&self) -> u16 {
+        PWM_MAX_DUTY
+    }
+    fn set_duty_cycle(&mut self, duty: u16) -> Result<(), Infallible> {
+        self.0 = duty;
+        Ok(())
+    }
+}
+
+/// The host run: the same driver and tick as the image's `tick` (pil/images/src/bin/
+/// coil_driver.rs), recording every actuation.
+struct HostCoil {
+    driver: CoilDriver<CoilDriverConfig, Pwm>,
+    actuations: Vec<wire::Actuation>,
+    telemetry: Telemetry,
+}
+
+impl Controller for HostCoil {
+    fn tick(&mut self, s: &Sensed) -> Actuation {
+        let _ = self.driver.update(
+            s.demand,
+            CoilSense {
+                current_counts: s.current_counts,
+                supply_counts: s.supply_counts,
+            },
+        );
+        let a = wire::Actuation {
+            duty: self.driver.output().0,
+            duty_full_scale: PWM_MAX_DUTY,
+            estimate_ua: Some(self.driver.estimate_ua()),
+            tripped: self.driver.fault().is_some(),
+            reverse: false,
+        };
+        self.actuations.push(a);
+        self.telemetry = Telemetry {
+            estimate_a: a.estimate_ua.map(|ua| f64::from(ua) * 1e-6),
+            tripped: a.tripped,
+        };
+        actuation(&a).unwrap_or(Actuation::OFF)
+    }
+
+    fn telemetry(&self) -> Telemetry {
+        self.telemetry
+    }
+}
+
+/// Runs every check; `Err` names what failed.
+pub fn checks() -> Result<(), String> {
+    let all: Vec<Target> = CORES.iter().map(|c| c.0).collect();
+    let tc = Toolchain::detect(&all).map_err(|m| m.to_string())?;
+    let qemu = session::qemu()?;
+    let path = workspace_root()
+        .join("host-harness")
+        .join("scenarios")
+        .join("valve.toml");
+    let file = scenario::load(&path).map_err(|e| e.to_string())?;
+    let mut images = Vec::new();
+    for (t, _) in CORES {
+        let image = timed(
+            &format!("build the coil driver image for {}", t.core()),
+            || build_image(&tc, t, COIL_DRIVER),
+        )?;
+        images.push(image);
+    }
+    // The hard-float image must be refused for a core without an FPU, before it runs.
+    let refused = lenz_harness::pil::elf::check(&images[1], Target::M0);
+    match refused {
+        Err(e) if e.contains("floating-point") => {
+            println!("xtask:   the Cortex-M4F image is refused for m0: {e}");
+        }
+        other => {
+            return Err(format!(
+                "the Cortex-M4F image was not refused for m0: {other:?}"
+            ));
+        }
+    }
+    let mut table = Vec::new();
+    let (mut ticks, mut wall) = (0u64, 0.0f64);
+    for ((t, mhz), image) in CORES.iter().zip(&images) {
+        let fw = FirmwareRun {
+            qemu: qemu.clone(),
+            target: *t,
+            image: image.clone(),
+            guards: Guards::default(),
+            budget: Some(TickBudget::Clock {
+                mhz: *mhz,
+                fraction: TICK_FRACTION,
+            }),
+            record_actuations: true,
+        };
+        timed(
+            &format!("coil driver in the loop on {} ({})", t.core(), t.machine()),
+            || {
+                let mut problems = Vec::new();
+                for (k, sc) in file.scenarios.iter().enumerate() {
+                    let start = Instant::now();
+                    let o = run_scenario(&file, k, &Params::NOMINAL, Record::None, &fw)
+                        .map_err(|e| e.to_string())?;
+                    wall += start.elapsed().as_secs_f64();
+                    ticks += o.result.ticks;
+                    for p in o.result.violations() {
+                        problems.push(format!(
+                            "'{}': {} = {} (limit {})",
+                            sc.name, p.name, p.value, p.limit
+                        ));
+                    }
+                    if let Some(f) = &o.failure {
+                        problems.push(format!("'{}': {f}", sc.name));
+                    }
+                    let (_, host) = run_with(&file, k, &Params::NOMINAL, Record::None, |temp| {
+                        let cfg = coil_driver_config(&file, temp)?;
+                        let driver = CoilDriver::new(cfg, Pwm(0))
+                            .map_err(|_| RunSetupError("the host driver refused the PWM".into()))?;
+                        Ok(HostCoil {
+                            driver,
+                            actuations: Vec::new(),
+                            telemetry: Telemetry::default(),
+                        })
+                    })
+                    .map_err(|e| e.to_string())?;
+                    if o.actuations.len() != host.actuations.len() {
+                        problems.push(format!(
+                            "'{}': {} actuations in the loop, {} on the host",
+                            sc.name,
+                            o.actuations.len(),
+                            host.actuations.len()
+                        ));
+                    } else if let Some(i) =
+                        (0..host.actuations.len()).find(|&i| o.actuations[i] != host.actuations[i])
+                    {
+                        problems.push(format!(
+                            "'{}': tick {i}: image {:?}, host {:?}",
+                            sc.name, o.actuations[i], host.actuations[i]
+                        ));
+                    }
+                    table.push(format!(
+                        "xtask:   {:<11} {:<28} {:>5} ticks, max {:>4} instructions in tick {:>5} \
+                         (limit {} at {mhz} MHz), mean {:.1}; {} actuations identical to the host run",
+                        t.core(),
+                        sc.name,
+                        o.costs.ticks,
+                        o.costs.max,
+                        o.costs.max_tick,
+                        o.result
+                            .property("tick_budget")
+                            .map_or(0.0, |p| p.limit),
+                        o.costs.mean,
+                        host.actuations.len()
+                    ));
+                }
+                if problems.is_empty() {
+                    Ok(())
+                } else {
+                    Err(problems.join("\n  "))
+                }
+            },
+        )?;
+    }
+    for l in &table {
+        println!("{l}");
+    }
+    println!(
+        "xtask:   {ticks} control ticks in {wall:.2} s of wall-clock time in the loop: {:.0} ticks per second (emulator start-ups included)",
+        ticks as f64 / wall.max(1e-9)
+    );
+    Ok(())
+}
