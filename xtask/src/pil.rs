@@ -8,7 +8,12 @@
 //!    (`lenz::drive::CoilDriver` compiled for the host, the same configuration and PWM
 //!    resolution) on the same scenario: the sequences must be identical;
 //! 4. every property holds; the instructions per tick per core and the ticks per wall-clock
-//!    second in the loop are printed.
+//!    second in the loop are printed;
+//! 5. the test image `misbehave` on Cortex-M0: an endless loop (stopped by the instruction
+//!    limit), a hard fault, an early exit, a panic, an endless loop with interrupts off
+//!    (stopped by the wall-clock guard) and a malformed answer, each at a given tick, must fail
+//!    `firmware_ran` naming that tick and the way; a parameter block the image refuses and a
+//!    file that is not an image must be errors.
 
 use std::convert::Infallible;
 use std::time::Instant;
@@ -20,7 +25,7 @@ use lenz_harness::firmware::{Target, Toolchain, workspace_root};
 use lenz_harness::pil::build::{COIL_DRIVER, build_image};
 use lenz_harness::pil::controller::actuation;
 use lenz_harness::pil::params::{PWM_MAX_DUTY, coil_driver_config};
-use lenz_harness::pil::{FirmwareRun, Guards, TickBudget, run_scenario, session};
+use lenz_harness::pil::{FirmwareRun, Guards, Misbehaviour, TickBudget, run_scenario, session};
 use lenz_harness::scenario::{
     self,
     run::{Params, Record, RunSetupError, run_with},
@@ -138,6 +143,7 @@ pub fn checks() -> Result<(), String> {
                 fraction: TICK_FRACTION,
             }),
             record_actuations: true,
+            params: None,
         };
         timed(
             &format!("coil driver in the loop on {} ({})", t.core(), t.machine()),
@@ -207,6 +213,9 @@ pub fn checks() -> Result<(), String> {
             },
         )?;
     }
+    timed("misbehaving image on Cortex-M0", || {
+        misbehaving(&tc, &qemu, &file)
+    })?;
     for l in &table {
         println!("{l}");
     }
@@ -214,5 +223,79 @@ pub fn checks() -> Result<(), String> {
         "xtask:   {ticks} control ticks in {wall:.2} s of wall-clock time in the loop: {:.0} ticks per second (emulator start-ups included)",
         ticks as f64 / wall.max(1e-9)
     );
+    Ok(())
+}
+
+/// Item 5 of the module docs.
+fn misbehaving(
+    tc: &Toolchain,
+    qemu: &std::path::Path,
+    file: &scenario::File,
+) -> Result<(), String> {
+    let image = build_image(tc, Target::M0, "misbehave")?;
+    const AT: u32 = 37;
+    let run = |how: u8, params: Option<Vec<u8>>| {
+        let fw = FirmwareRun {
+            qemu: qemu.to_path_buf(),
+            target: Target::M0,
+            image: image.clone(),
+            guards: Guards {
+                tick: std::time::Duration::from_secs(1),
+                ..Guards::default()
+            },
+            budget: None,
+            record_actuations: false,
+            params: Some(params.unwrap_or_else(|| {
+                let mut b = vec![how];
+                b.extend_from_slice(&AT.to_le_bytes());
+                b
+            })),
+        };
+        run_scenario(file, 0, &Params::NOMINAL, Record::None, &fw)
+    };
+    type Expect = fn(&Misbehaviour) -> bool;
+    let cases: [(u8, &str, Expect); 6] = [
+        (0, "endless loop", |m| {
+            matches!(m, Misbehaviour::Limit { .. })
+        }),
+        (1, "hard fault", |m| {
+            matches!(m, Misbehaviour::Fault { exception: 3, .. })
+        }),
+        (2, "early exit", |m| matches!(m, Misbehaviour::Exited(_))),
+        (3, "panic", |m| matches!(m, Misbehaviour::Panic)),
+        (4, "endless loop, interrupts off", |m| {
+            matches!(m, Misbehaviour::NoAnswer(_))
+        }),
+        (5, "malformed answer", |m| {
+            matches!(m, Misbehaviour::Protocol(_))
+        }),
+    ];
+    for (how, name, expect) in cases {
+        let t = Instant::now();
+        let o = run(how, None).map_err(|e| format!("{name}: {e}"))?;
+        let f = o
+            .failure
+            .as_ref()
+            .ok_or_else(|| format!("{name}: the run reported no failure"))?;
+        let ran = o.result.property("firmware_ran");
+        if !expect(&f.what) || f.tick != u64::from(AT) || ran.is_none_or(|p| p.pass) {
+            return Err(format!("{name}: unexpected report: {f} ({ran:?})"));
+        }
+        println!(
+            "xtask:   {name}: firmware_ran fails ({:.2} s): {f}",
+            t.elapsed().as_secs_f64()
+        );
+    }
+    match run(0, Some(vec![1, 2])) {
+        Err(e) if e.to_string().contains("code 1") => {
+            println!("xtask:   refused parameter block: {e}");
+        }
+        other => return Err(format!("a refused parameter block gave {other:?}")),
+    }
+    let not_an_image = workspace_root().join("Cargo.toml");
+    match lenz_harness::pil::elf::check(&not_an_image, Target::M0) {
+        Err(e) if e.contains("not an ELF") => println!("xtask:   not an image: {e}"),
+        other => return Err(format!("Cargo.toml as an image gave {other:?}")),
+    }
     Ok(())
 }

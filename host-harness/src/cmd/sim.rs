@@ -110,6 +110,7 @@ fn firmware_run(a: &Args) -> Result<Option<FirmwareRun>, CliError> {
         guards: Guards::default(),
         budget,
         record_actuations: false,
+        params: None,
     };
     fw.check_image().map_err(CliError)?;
     Ok(Some(fw))

@@ -28,6 +28,9 @@ pub struct FirmwareRun {
     pub budget: Option<TickBudget>,
     /// Keep every actuation ([`PilOutcome::actuations`]).
     pub record_actuations: bool,
+    /// The parameter block to send instead of the file's ([`super::params`]), for an image
+    /// of one's own.
+    pub params: Option<Vec<u8>>,
 }
 
 /// What a run in the loop produced.
@@ -78,7 +81,10 @@ pub fn run_scenario(
 ) -> Result<PilOutcome, RunSetupError> {
     fw.check_image().map_err(RunSetupError)?;
     let (mut result, mut ctrl) = run_with(file, index, p, record, |temp_c| {
-        let block = params::block(file, temp_c)?;
+        let block = match &fw.params {
+            Some(b) => b.clone(),
+            None => params::block(file, temp_c)?,
+        };
         let session = Session::start(&fw.qemu, fw.target, &fw.image, &block, fw.guards)
             .map_err(|e| RunSetupError(e.0))?;
         Ok(FirmwareController::new(session, fw.record_actuations))
