@@ -54,7 +54,7 @@
 //! `cargo::rustc-link-arg-bins=-Tlink.x` (the runtime puts `link.x` and the machine's
 //! `memory.x` on the search path), and:
 //!
-//! ```ignore
+//! ```text
 //! struct Fw { /* … */ }
 //! impl lenz_pil::Image for Fw {
 //!     fn init(params: &[u8]) -> Result<Self, u16> { /* decode the parameter block */ }

@@ -103,6 +103,8 @@ fn firmware_run(a: &Args) -> Result<Option<FirmwareRun>, CliError> {
         (None, Some(n)) => Some(TickBudget::Instructions(n)),
         (None, None) => None,
     };
+    // The image first: a wrong file is named even where the emulator is missing.
+    crate::pil::elf::check(image, target).map_err(CliError)?;
     let fw = FirmwareRun {
         qemu: pil::session::qemu().map_err(CliError)?,
         target,
@@ -112,7 +114,6 @@ fn firmware_run(a: &Args) -> Result<Option<FirmwareRun>, CliError> {
         record_actuations: false,
         params: None,
     };
-    fw.check_image().map_err(CliError)?;
     Ok(Some(fw))
 }
 
