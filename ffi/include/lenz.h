@@ -7,6 +7,15 @@
 #include <stdbool.h>
 #include <stdint.h>
 
+// Words of `LenzCoilDriverConfig`.
+#define LENZ_COIL_DRIVER_CONFIG_WORDS 213
+
+// Words of `LenzCoilDriver` (its own copy of the configuration and its state).
+#define LENZ_COIL_DRIVER_WORDS 246
+
+// `LenzCoilDriver` in 8-byte units (the driver holds 64-bit values: 8-byte alignment).
+#define LENZ_COIL_DRIVER_DWORDS 123
+
 // Words of `LenzDutyLimiterConfig`.
 #define LENZ_DUTY_LIMITER_CONFIG_WORDS 103
 
@@ -70,6 +79,79 @@ enum LenzStatus
 typedef enum LenzStatus LenzStatus;
 #else
 typedef int32_t LenzStatus;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// The driver's phase (Rust: `lenz::drive::CoilPhase`).
+enum LenzCoilPhase
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // Off, released: a demand energizes the coil.
+  LENZ_COIL_PHASE_IDLE = 0,
+  // Full drive until the pull-in current and the minimum pull-in time.
+  LENZ_COIL_PHASE_PULL_IN = 1,
+  // Held by the PWM duty.
+  LENZ_COIL_PHASE_HOLD = 2,
+  // Off, the current still decaying: a demand waits.
+  LENZ_COIL_PHASE_RELEASING = 3,
+  // Latched off by a fault until `lenz_coil_driver_clear_fault`.
+  LENZ_COIL_PHASE_FAULTED = 4,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzCoilPhase LenzCoilPhase;
+#else
+typedef uint8_t LenzCoilPhase;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// Why the driver latched off (Rust: `lenz::drive::CoilFault`).
+enum LenzCoilFault
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // No fault.
+  LENZ_COIL_FAULT_NONE = 0,
+  // The trip detector latched (cause in `trip_cause`).
+  LENZ_COIL_FAULT_TRIP = 1,
+  // The plausibility monitor raised a fault (which in `plausibility`).
+  LENZ_COIL_FAULT_PLAUSIBILITY = 2,
+  // The switch output reported an error (not possible through this API).
+  LENZ_COIL_FAULT_OUTPUT = 3,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzCoilFault LenzCoilFault;
+#else
+typedef uint8_t LenzCoilFault;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// Why the detector tripped (Rust: `lenz::kernel::Cause`).
+enum LenzCause
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // No trip (the verdict is not `LENZ_VERDICT_KIND_TRIP`).
+  LENZ_CAUSE_NONE = 0,
+  // `N` of the last `M` samples at or above the threshold (or at full scale).
+  LENZ_CAUSE_INSTANTANEOUS = 1,
+  // The inverse-time accumulator reached one.
+  LENZ_CAUSE_INVERSE_TIME = 2,
+  // The thermal state reached one.
+  LENZ_CAUSE_THERMAL = 3,
+  // The reading stayed exactly constant with the switch on (stuck sensor).
+  LENZ_CAUSE_SENSOR_FAULT = 4,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzCause LenzCause;
+#else
+typedef uint8_t LenzCause;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
@@ -140,79 +222,10 @@ typedef uint8_t LenzVerdictKind;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
-// Why the detector tripped (Rust: `lenz::kernel::Cause`).
-enum LenzCause
-#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
-  : uint8_t
-#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
- {
-  // No trip (the verdict is not `LENZ_VERDICT_KIND_TRIP`).
-  LENZ_CAUSE_NONE = 0,
-  // `N` of the last `M` samples at or above the threshold (or at full scale).
-  LENZ_CAUSE_INSTANTANEOUS = 1,
-  // The inverse-time accumulator reached one.
-  LENZ_CAUSE_INVERSE_TIME = 2,
-  // The thermal state reached one.
-  LENZ_CAUSE_THERMAL = 3,
-  // The reading stayed exactly constant with the switch on (stuck sensor).
-  LENZ_CAUSE_SENSOR_FAULT = 4,
-};
-#ifndef __cplusplus
-#if __STDC_VERSION__ >= 202311L
-typedef enum LenzCause LenzCause;
-#else
-typedef uint8_t LenzCause;
-#endif // __STDC_VERSION__ >= 202311L
-#endif // __cplusplus
-
-// Duty limiter coefficients (opaque; fill with `lenz_duty_limiter_init`).
+// Coil driver settings (opaque; fill with `lenz_coil_driver_init`).
 typedef struct {
-  uint32_t opaque[LENZ_DUTY_LIMITER_CONFIG_WORDS];
-} LenzDutyLimiterConfig;
-
-// The raw coefficients of the duty limiter, as a constant can hold them (Rust:
-// `lenz::kernel::DutyLimiterRaw`).
-typedef struct {
-  // Lowest valid input reading and first table node, counts.
-  uint16_t vin_lo_counts;
-  // Highest valid input reading, counts.
-  uint16_t vin_hi_counts;
-  // Node spacing `2^shift` counts (at most 16 is used).
-  uint8_t shift;
-  // Saturation limit at the nodes, duty counts Q8.
-  int32_t saturation_q8[LENZ_DUTY_TABLE_LEN];
-  // Gain-peak limit at the nodes, duty counts Q8.
-  int32_t gain_peak_q8[LENZ_DUTY_TABLE_LEN];
-  // Light-load overvoltage limit at the nodes, duty counts Q8.
-  int32_t light_load_q8[LENZ_DUTY_TABLE_LEN];
-  // Minimum-off-time limit, duty counts Q8.
-  int32_t min_off_q8;
-  // Duties below this are output as 0, counts.
-  uint16_t min_on_counts;
-  // Duty register value for duty 1.
-  uint16_t full_scale;
-  // Soft-start rise per tick, duty counts Q8.
-  int32_t slew_q8;
-  // Lowest valid output reading, counts.
-  uint16_t vout_lo_counts;
-  // Highest valid output reading, counts.
-  uint16_t vout_hi_counts;
-  // Output reading that cuts switching, counts.
-  uint16_t ov_trip_counts;
-  // Output reading at or below which switching resumes, counts.
-  uint16_t ov_resume_counts;
-} LenzDutyLimiterRaw;
-
-// One channel's duty limiter state (opaque; fill with `lenz_duty_limiter_state_init`).
-typedef struct {
-  uint32_t opaque[LENZ_DUTY_LIMITER_STATE_WORDS];
-} LenzDutyLimiterState;
-
-// Estimator coefficients (opaque; fill with `lenz_estimator_init`). Read-only after init; one
-// serves every channel with the same coil, temperature and tick.
-typedef struct {
-  uint32_t opaque[LENZ_ESTIMATOR_CONFIG_WORDS];
-} LenzEstimatorConfig;
+  uint32_t opaque[LENZ_COIL_DRIVER_CONFIG_WORDS];
+} LenzCoilDriverConfig;
 
 // The freewheel (switch-off) path of the estimator (Rust: `lenz::kernel::OffPath`).
 typedef struct {
@@ -238,15 +251,32 @@ typedef struct {
   LenzOffPath off;
 } LenzEstimatorRaw;
 
-// One channel's estimator state (opaque; fill with `lenz_estimator_state_init`).
+// The raw values of a tracking off-timer, as a constant can hold them (Rust:
+// `lenz::kernel::TrackingOffTimerRaw`).
 typedef struct {
-  uint32_t opaque[LENZ_ESTIMATOR_STATE_WORDS];
-} LenzEstimatorState;
+  // The estimator coefficients (only the off path is used).
+  LenzEstimatorRaw estimator;
+  // Release threshold, µA.
+  int32_t threshold_ua;
+  // Constant part of the margin below the threshold, µA.
+  int32_t base_margin_ua;
+  // The margin adds the current at switch-off shifted right by this many bits.
+  uint32_t margin_shift;
+} LenzTrackingOffTimerRaw;
 
-// Monitor thresholds (opaque; fill with `lenz_monitor_init`). Read-only after init.
+// The raw values of the hold estimator (Rust: `lenz::drive::HoldEstimatorRaw`).
 typedef struct {
-  uint32_t opaque[LENZ_MONITOR_CONFIG_WORDS];
-} LenzMonitorConfig;
+  // `1 − exp(−T·R_ref/L)`, Q31.
+  int32_t step_q31;
+  // `1/R_ref`, µA per mV, Q16.
+  int32_t conductance_q16;
+  // The reference duty, Q16 fraction (65536 = 1).
+  uint32_t reference_duty_q16;
+  // `R_on − R_off`, mV per µA, Q24 (signed).
+  int32_t delta_r_q24;
+  // Bound of the estimate's error in hold, µA.
+  int32_t error_bound_ua;
+} LenzHoldEstimatorRaw;
 
 // Conversion of ADC counts to microamps, and the valid window of readings (Rust:
 // `lenz::kernel::SenseScale`).
@@ -281,53 +311,6 @@ typedef struct {
   // Change of the estimate during a frozen reading that proves it stuck, µA.
   int32_t stuck_min_change_ua;
 } LenzMonitorRaw;
-
-// One channel's monitor state (opaque; fill with `lenz_monitor_state_init`).
-typedef struct {
-  uint32_t opaque[LENZ_MONITOR_STATE_WORDS];
-} LenzMonitorState;
-
-// One channel's off-timer state, either mode (opaque; fill with `lenz_offtimer_state_init`).
-typedef struct {
-  uint32_t opaque[LENZ_OFFTIMER_STATE_WORDS];
-} LenzOffTimerState;
-
-// Tracking off-timer values (opaque; fill with `lenz_tracking_offtimer_init`).
-typedef struct {
-  uint32_t opaque[LENZ_TRACKING_OFFTIMER_CONFIG_WORDS];
-} LenzTrackingOffTimerConfig;
-
-// The raw values of a tracking off-timer, as a constant can hold them (Rust:
-// `lenz::kernel::TrackingOffTimerRaw`).
-typedef struct {
-  // The estimator coefficients (only the off path is used).
-  LenzEstimatorRaw estimator;
-  // Release threshold, µA.
-  int32_t threshold_ua;
-  // Constant part of the margin below the threshold, µA.
-  int32_t base_margin_ua;
-  // The margin adds the current at switch-off shifted right by this many bits.
-  uint32_t margin_shift;
-} LenzTrackingOffTimerRaw;
-
-// Planned off-timer table (opaque; fill with `lenz_planned_offtimer_init`).
-typedef struct {
-  uint32_t opaque[LENZ_PLANNED_OFFTIMER_CONFIG_WORDS];
-} LenzPlannedOffTimerConfig;
-
-// The raw table of a planned off-timer, as a constant can hold it (Rust:
-// `lenz::kernel::PlannedOffTimerRaw`).
-typedef struct {
-  // Breakpoint currents, ascending, µA.
-  int32_t breakpoints_ua[LENZ_PLANNED_TABLE_LEN];
-  // Ticks from switch-off to release for a current at or below each breakpoint.
-  uint32_t ticks[LENZ_PLANNED_TABLE_LEN];
-} LenzPlannedOffTimerRaw;
-
-// Trip detector settings (opaque; fill with `lenz_trip_init`).
-typedef struct {
-  uint32_t opaque[LENZ_TRIP_CONFIG_WORDS];
-} LenzTripConfig;
 
 // The inverse-time element's table (Rust: `lenz::kernel::InverseTable`). A disabled
 // element has every field 0 and `instant_reset` 1.
@@ -378,6 +361,159 @@ typedef struct {
   uint32_t table_error_ppm;
 } LenzTripRaw;
 
+// The raw values of a coil driver configuration, as a constant can hold them (Rust:
+// `lenz::drive::CoilDriverRaw`; `lenz emit` or `lenz sim --firmware` produce them from a
+// plan).
+typedef struct {
+  // The off-timer, with the coil's estimator.
+  LenzTrackingOffTimerRaw off_timer;
+  // The hold estimator.
+  LenzHoldEstimatorRaw hold;
+  // The plausibility monitor, with the current sense scale.
+  LenzMonitorRaw monitor;
+  // The trip detector.
+  LenzTripRaw trip;
+  // Supply reading at 0 V, counts.
+  uint16_t supply_zero_counts;
+  // Supply per count, mV, Q16.
+  int32_t supply_mv_per_count_q16;
+  // Pull-in current, µA.
+  int32_t pull_in_ua;
+  // What must reach the pull-in current: 0 the estimate, anything else the measurement.
+  uint8_t pull_in_measured;
+  // Shortest pull-in, ticks.
+  uint32_t pull_in_min_ticks;
+  // Longest pull-in, ticks.
+  uint32_t pull_in_max_ticks;
+  // Hold: 0 fixed duty, anything else the regulated current.
+  uint8_t hold_regulated;
+  // Hold current of the regulation, µA.
+  int32_t hold_current_ua;
+  // Proportional gain of the regulation, Q32 duty per µA.
+  int32_t hold_kp_q32;
+  // Integral gain of the regulation, Q32 duty per µA per tick.
+  int32_t hold_ki_q32;
+} LenzCoilDriverRaw;
+
+// One coil driver (opaque; fill with `lenz_coil_driver_start`). Holds its own copy of the
+// configuration.
+typedef struct {
+  uint64_t opaque[LENZ_COIL_DRIVER_DWORDS];
+} LenzCoilDriver;
+
+// What a tick of the driver gives back.
+typedef struct {
+  // Duty for the next tick, counts of the `max_duty` given at start.
+  uint16_t duty;
+  // Phase after the tick.
+  LenzCoilPhase phase;
+  // Latched fault.
+  LenzCoilFault fault;
+  // The trip's cause when `fault` is `LENZ_COIL_FAULT_TRIP`.
+  LenzCause trip_cause;
+  // The monitor's fault when `fault` is `LENZ_COIL_FAULT_PLAUSIBILITY`.
+  LenzFault plausibility;
+  // 1 once the off-timer has confirmed the release after the last switch-off.
+  uint8_t released;
+  // 1 if the last pull-in ended at its maximum time.
+  uint8_t pull_in_timed_out;
+  // Estimated coil current, µA.
+  int32_t estimate_ua;
+} LenzCoilDriverOutput;
+
+// Duty limiter coefficients (opaque; fill with `lenz_duty_limiter_init`).
+typedef struct {
+  uint32_t opaque[LENZ_DUTY_LIMITER_CONFIG_WORDS];
+} LenzDutyLimiterConfig;
+
+// The raw coefficients of the duty limiter, as a constant can hold them (Rust:
+// `lenz::kernel::DutyLimiterRaw`).
+typedef struct {
+  // Lowest valid input reading and first table node, counts.
+  uint16_t vin_lo_counts;
+  // Highest valid input reading, counts.
+  uint16_t vin_hi_counts;
+  // Node spacing `2^shift` counts (at most 16 is used).
+  uint8_t shift;
+  // Saturation limit at the nodes, duty counts Q8.
+  int32_t saturation_q8[LENZ_DUTY_TABLE_LEN];
+  // Gain-peak limit at the nodes, duty counts Q8.
+  int32_t gain_peak_q8[LENZ_DUTY_TABLE_LEN];
+  // Light-load overvoltage limit at the nodes, duty counts Q8.
+  int32_t light_load_q8[LENZ_DUTY_TABLE_LEN];
+  // Minimum-off-time limit, duty counts Q8.
+  int32_t min_off_q8;
+  // Duties below this are output as 0, counts.
+  uint16_t min_on_counts;
+  // Duty register value for duty 1.
+  uint16_t full_scale;
+  // Soft-start rise per tick, duty counts Q8.
+  int32_t slew_q8;
+  // Lowest valid output reading, counts.
+  uint16_t vout_lo_counts;
+  // Highest valid output reading, counts.
+  uint16_t vout_hi_counts;
+  // Output reading that cuts switching, counts.
+  uint16_t ov_trip_counts;
+  // Output reading at or below which switching resumes, counts.
+  uint16_t ov_resume_counts;
+} LenzDutyLimiterRaw;
+
+// One channel's duty limiter state (opaque; fill with `lenz_duty_limiter_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_DUTY_LIMITER_STATE_WORDS];
+} LenzDutyLimiterState;
+
+// Estimator coefficients (opaque; fill with `lenz_estimator_init`). Read-only after init; one
+// serves every channel with the same coil, temperature and tick.
+typedef struct {
+  uint32_t opaque[LENZ_ESTIMATOR_CONFIG_WORDS];
+} LenzEstimatorConfig;
+
+// One channel's estimator state (opaque; fill with `lenz_estimator_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_ESTIMATOR_STATE_WORDS];
+} LenzEstimatorState;
+
+// Monitor thresholds (opaque; fill with `lenz_monitor_init`). Read-only after init.
+typedef struct {
+  uint32_t opaque[LENZ_MONITOR_CONFIG_WORDS];
+} LenzMonitorConfig;
+
+// One channel's monitor state (opaque; fill with `lenz_monitor_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_MONITOR_STATE_WORDS];
+} LenzMonitorState;
+
+// One channel's off-timer state, either mode (opaque; fill with `lenz_offtimer_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_OFFTIMER_STATE_WORDS];
+} LenzOffTimerState;
+
+// Tracking off-timer values (opaque; fill with `lenz_tracking_offtimer_init`).
+typedef struct {
+  uint32_t opaque[LENZ_TRACKING_OFFTIMER_CONFIG_WORDS];
+} LenzTrackingOffTimerConfig;
+
+// Planned off-timer table (opaque; fill with `lenz_planned_offtimer_init`).
+typedef struct {
+  uint32_t opaque[LENZ_PLANNED_OFFTIMER_CONFIG_WORDS];
+} LenzPlannedOffTimerConfig;
+
+// The raw table of a planned off-timer, as a constant can hold it (Rust:
+// `lenz::kernel::PlannedOffTimerRaw`).
+typedef struct {
+  // Breakpoint currents, ascending, µA.
+  int32_t breakpoints_ua[LENZ_PLANNED_TABLE_LEN];
+  // Ticks from switch-off to release for a current at or below each breakpoint.
+  uint32_t ticks[LENZ_PLANNED_TABLE_LEN];
+} LenzPlannedOffTimerRaw;
+
+// Trip detector settings (opaque; fill with `lenz_trip_init`).
+typedef struct {
+  uint32_t opaque[LENZ_TRIP_CONFIG_WORDS];
+} LenzTripConfig;
+
 // One channel's trip detector state (opaque; fill with `lenz_trip_state_init`).
 typedef struct {
   uint32_t opaque[LENZ_TRIP_STATE_WORDS];
@@ -424,6 +560,57 @@ typedef struct {
 #ifdef __cplusplus
 extern "C" {
 #endif // __cplusplus
+
+// Loads a configuration from raw values (`CoilDriverConfig::from_raw`: any values are safe to
+// run).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg_out` writable, `raw` readable.
+LenzStatus lenz_coil_driver_init(LenzCoilDriverConfig *cfg_out, const LenzCoilDriverRaw *raw);
+
+// The raw values of a configuration.
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` initialised by `lenz_coil_driver_init`, `raw_out`
+// writable.
+LenzStatus lenz_coil_driver_raw(const LenzCoilDriverConfig *cfg, LenzCoilDriverRaw *raw_out);
+
+// Starts a driver with a copy of `cfg` on a PWM of `max_duty` counts, at duty 0 (off).
+//
+// Writes `ok_out` = 1, or 0 when the PWM's resolution cannot set the hold duty within 1 % of
+// full scale (`max_duty` 0 or too small); then the driver is not started and must not be
+// used.
+//
+// # Safety
+//
+// Each pointer is null or valid: `drv_out` and `ok_out` writable, `cfg` initialised by
+// `lenz_coil_driver_init`.
+LenzStatus lenz_coil_driver_start(LenzCoilDriver *drv_out,
+                                  const LenzCoilDriverConfig *cfg,
+                                  uint16_t max_duty,
+                                  uint8_t *ok_out);
+
+// One control tick ([`CoilDriver::update`]): the application's demand and the tick's
+// current and supply readings in, the duty for the next tick and the driver's status out.
+//
+// # Safety
+//
+// Each pointer is null or valid: `drv` started by `lenz_coil_driver_start`, `out` writable.
+LenzStatus lenz_coil_driver_update(LenzCoilDriver *drv,
+                                   bool demand,
+                                   uint16_t current_counts,
+                                   uint16_t supply_counts,
+                                   LenzCoilDriverOutput *out);
+
+// Clears a latched fault (`CoilDriver::clear_fault`): the coil is energized again only on
+// demand and after the release.
+//
+// # Safety
+//
+// `drv` is null or started by `lenz_coil_driver_start`.
+LenzStatus lenz_coil_driver_clear_fault(LenzCoilDriver *drv);
 
 // Fills `cfg_out` from raw coefficients (Rust: `DutyLimiterConfig::from_raw`). Any values
 // are accepted; a table index outside the tables reads as limit 0.
@@ -844,5 +1031,12 @@ LENZ_STATIC_ASSERT(sizeof(LenzVerdictKind) == 1, lenz_size_of_LenzVerdictKind);
 LENZ_STATIC_ASSERT(sizeof(LenzTripEvent) == 8, lenz_size_of_LenzTripEvent);
 LENZ_STATIC_ASSERT(sizeof(LenzVerdict) == 12, lenz_size_of_LenzVerdict);
 LENZ_STATIC_ASSERT(sizeof(LenzTripStateInfo) == 16, lenz_size_of_LenzTripStateInfo);
+LENZ_STATIC_ASSERT(sizeof(LenzHoldEstimatorRaw) == 20, lenz_size_of_LenzHoldEstimatorRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverRaw) == 824, lenz_size_of_LenzCoilDriverRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverConfig) == 852, lenz_size_of_LenzCoilDriverConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriver) == 984, lenz_size_of_LenzCoilDriver);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilPhase) == 1, lenz_size_of_LenzCoilPhase);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilFault) == 1, lenz_size_of_LenzCoilFault);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverOutput) == 12, lenz_size_of_LenzCoilDriverOutput);
 
 #endif /* LENZ_H */

@@ -56,6 +56,7 @@
 #[cfg(not(target_os = "none"))]
 extern crate std;
 
+mod coil_driver;
 mod duty;
 mod estimator;
 mod monitor;
@@ -64,6 +65,12 @@ mod opaque;
 mod status;
 mod trip;
 
+pub use coil_driver::{
+    LENZ_COIL_DRIVER_CONFIG_WORDS, LENZ_COIL_DRIVER_DWORDS, LENZ_COIL_DRIVER_WORDS, LenzCoilDriver,
+    LenzCoilDriverConfig, LenzCoilDriverOutput, LenzCoilDriverRaw, LenzCoilFault, LenzCoilPhase,
+    LenzHoldEstimatorRaw, lenz_coil_driver_clear_fault, lenz_coil_driver_init,
+    lenz_coil_driver_raw, lenz_coil_driver_start, lenz_coil_driver_update,
+};
 pub use duty::{
     LENZ_DUTY_LIMITER_CONFIG_WORDS, LENZ_DUTY_LIMITER_STATE_WORDS, LENZ_DUTY_TABLE_LEN,
     LenzDutyLimiterConfig, LenzDutyLimiterRaw, LenzDutyLimiterState, lenz_duty_limiter_init,

@@ -55,6 +55,13 @@ fn sizes() -> Vec<(&'static str, usize)> {
         LenzTripEvent,
         LenzVerdict,
         LenzTripStateInfo,
+        LenzHoldEstimatorRaw,
+        LenzCoilDriverRaw,
+        LenzCoilDriverConfig,
+        LenzCoilDriver,
+        LenzCoilPhase,
+        LenzCoilFault,
+        LenzCoilDriverOutput,
     ]
 }
 
