@@ -4,7 +4,11 @@
 //! A direct branch (`bl`, `b`, `b<cond>`, `cbz`, …) whose target address lies in another
 //! function is a call (or a tail call) of that function; the graph of a kernel is every
 //! function reachable that way from its `lenz_kernel_<name>` symbol. An indirect branch
-//! (`blx rN`, `bx rN` other than `bx lr`, a write to `pc`) cannot be followed and fails the check.
+//! (`blx rN`, `bx rN` other than `bx lr`, a write to `pc`) cannot be followed and fails the check,
+//! except the jump tables of a `match` (`tbb`/`tbh` on Armv7-M; on Armv6-M a write to `pc` from a
+//! register, `add pc, rN` or `mov pc, rN`, within four instructions of reading a table at a
+//! PC-relative address, `add rN, pc` or `adr`): the compiler's tables hold branch targets inside
+//! the same function, whose calls are followed anyway.
 //!
 //! Forbidden in a kernel's graph: soft-float helpers (`__aeabi_f*`, `__aeabi_d*`, the
 //! conversions `__aeabi_*2f`/`*2d`, libgcc-style `__addsf3`, `__fixdfsi`, …, anything from
@@ -79,6 +83,8 @@ fn is_forbidden_insn(mnemonic: &str) -> bool {
 pub fn parse_objdump(text: &str) -> BTreeMap<u64, Function> {
     let mut functions = BTreeMap::new();
     let mut current: Option<Function> = None;
+    // Instructions since the last PC-relative address (a jump table's read), if recent.
+    let mut since_pc_relative: Option<u32> = None;
     for line in text.lines() {
         // Function header: `00000be4 <lenz_kernel_estimator>:`
         if let Some((addr, rest)) = line.split_once(" <")
@@ -110,6 +116,19 @@ pub fn parse_objdump(text: &str) -> BTreeMap<u64, Function> {
         };
         let mnemonic = mnemonic.trim();
         let operands = parts.next().unwrap_or("").trim();
+        let pc_relative = mnemonic == "adr"
+            || (mnemonic.starts_with("add") && !operands.starts_with("pc,") && {
+                let ops: Vec<&str> = operands.split(',').map(str::trim).collect();
+                ops.get(1) == Some(&"pc")
+            });
+        let jump_table = since_pc_relative.is_some_and(|n| n < 4)
+            && matches!(mnemonic, "add" | "mov")
+            && operands.starts_with("pc,");
+        since_pc_relative = if pc_relative {
+            Some(0)
+        } else {
+            since_pc_relative.map(|n| n.saturating_add(1))
+        };
         if is_direct_branch(mnemonic) && operands.contains('<') {
             let target = operands
                 .split(" <")
@@ -120,7 +139,7 @@ pub fn parse_objdump(text: &str) -> BTreeMap<u64, Function> {
                 f.calls.push((at, t));
             }
         } else if matches!(mnemonic, "blx" | "bx")
-            || (operands.starts_with("pc,") && !mnemonic.starts_with("cmp"))
+            || (operands.starts_with("pc,") && !mnemonic.starts_with("cmp") && !jump_table)
         {
             if operands != "lr" {
                 f.indirect.push((at, format!("{mnemonic} {operands}")));
@@ -340,6 +359,38 @@ mod tests {
         assert!(text.contains("`udiv r0, r0, r1`"), "{text}");
         assert!(text.contains("`vmul.f32 s0, s0, s1`"), "{text}");
         assert!(d.graph("lenz_kernel_c").is_err());
+    }
+
+    #[test]
+    fn armv6m_jump_tables_are_followed_other_pc_writes_are_not() {
+        let dump = "\
+00000100 <lenz_kernel_t>:
+     100:\tlsls\tr5, r5, #1
+     102:\tadd\tr5, pc
+     104:\tldrh\tr5, [r5, #4]
+     106:\tlsls\tr5, r5, #1
+     108:\tadd\tpc, r5
+     10a:\tadd\tr3, pc, #4\t@ (adr r3, 110 <lenz_kernel_t+0x10>)
+     10c:\tldr\tr3, [r3, r2]
+     10e:\tmov\tpc, r3
+
+00000120 <lenz_kernel_u>:
+     120:\tadd\tr3, pc, #4
+     122:\tnop
+     124:\tnop
+     126:\tnop
+     128:\tnop
+     12a:\tmov\tpc, r3
+     12c:\tadd\tpc, r1
+";
+        let d = Disassembly {
+            functions: parse_objdump(dump),
+            sizes: BTreeMap::new(),
+        };
+        let t = d.graph("lenz_kernel_t").unwrap();
+        assert!(t.problems.is_empty(), "{:?}", t.problems);
+        let u = d.graph("lenz_kernel_u").unwrap();
+        assert_eq!(u.problems.len(), 2, "{:?}", u.problems);
     }
 
     #[test]
