@@ -62,6 +62,8 @@ mod estimator;
 mod monitor;
 mod offtimer;
 mod opaque;
+#[cfg(all(feature = "pil", target_os = "none"))]
+mod pil;
 mod status;
 mod trip;
 

@@ -83,7 +83,7 @@ fn api_functions() -> Result<Vec<String>, String> {
 }
 
 /// `arm-none-eabi-gcc` flags of a core.
-fn cpu_flags(t: Target) -> &'static [&'static str] {
+pub(crate) fn cpu_flags(t: Target) -> &'static [&'static str] {
     match t {
         Target::M0 => &["-mcpu=cortex-m0", "-mthumb", "-mfloat-abi=soft"],
         Target::M3 => &["-mcpu=cortex-m3", "-mthumb", "-mfloat-abi=soft"],
@@ -96,7 +96,7 @@ fn cpu_flags(t: Target) -> &'static [&'static str] {
     }
 }
 
-fn command(program: &Path, args: &[OsString]) -> Result<String, String> {
+pub(crate) fn command(program: &Path, args: &[OsString]) -> Result<String, String> {
     let out = Command::new(program)
         .args(args)
         .output()
@@ -114,13 +114,13 @@ fn command(program: &Path, args: &[OsString]) -> Result<String, String> {
 }
 
 /// Arguments as `OsString`s.
-fn args<const N: usize>(a: [&dyn AsRef<OsStr>; N]) -> Vec<OsString> {
+pub(crate) fn args<const N: usize>(a: [&dyn AsRef<OsStr>; N]) -> Vec<OsString> {
     a.iter().map(|x| x.as_ref().to_os_string()).collect()
 }
 
 const SOURCES: [&str; 3] = ["main.c", "startup.c", "semihosting.c"];
 
-const C_FLAGS: [&str; 8] = [
+pub(crate) const C_FLAGS: [&str; 8] = [
     "-std=c99",
     "-Wall",
     "-Wextra",

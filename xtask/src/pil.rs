@@ -9,7 +9,9 @@
 //!    resolution) on the same scenario: the sequences must be identical;
 //! 4. every property holds; the instructions per tick per core and the ticks per wall-clock
 //!    second in the loop are printed;
-//! 5. the test image `misbehave` on Cortex-M0: an endless loop (stopped by the instruction
+//! 5. the C image `pil/images/c/coil_driver.c` (the coil driver through the C API, linked with
+//!    `liblenz_ffi.a` built with the runtime) on Cortex-M3, checked as in 2 to 4;
+//! 6. the test image `misbehave` on Cortex-M0: an endless loop (stopped by the instruction
 //!    limit), a hard fault, an early exit, a panic, an endless loop with interrupts off
 //!    (stopped by the wall-clock guard) and a malformed answer, each at a given tick, must fail
 //!    `firmware_ran` naming that tick and the way; a parameter block the image refuses and a
@@ -21,8 +23,9 @@ use std::time::Instant;
 use embedded_hal::pwm::{ErrorType, SetDutyCycle};
 use lenz::drive::{CoilDriver, CoilDriverConfig, CoilSense};
 use lenz_harness::closed_loop::{Actuation, Controller, Sensed, Telemetry};
+use lenz_harness::firmware::CCompiler;
 use lenz_harness::firmware::{Target, Toolchain, workspace_root};
-use lenz_harness::pil::build::{COIL_DRIVER, build_image};
+use lenz_harness::pil::build::{COIL_DRIVER, build_ffi_runtime, build_image};
 use lenz_harness::pil::controller::actuation;
 use lenz_harness::pil::params::{PWM_MAX_DUTY, coil_driver_config};
 use lenz_harness::pil::{FirmwareRun, Guards, Misbehaviour, TickBudget, run_scenario, session};
@@ -36,6 +39,8 @@ use lenz_pil::wire;
 /// common clocks of such parts (a Cortex-M0 at 48 MHz, a Cortex-M4F at 80 MHz), invented for
 /// the demo; the emulated machine's own clock does not change the instruction counts.
 const CORES: [(Target, f64); 2] = [(Target::M0, 48.0), (Target::M4f, 80.0)];
+/// The core of the C image and its clock (a Cortex-M3 at 72 MHz, invented for the demo).
+const C_CORE: (Target, f64) = (Target::M3, 72.0);
 /// Share of the tick the tick function may take (common practice, no source).
 const TICK_FRACTION: f64 = 0.5;
 
@@ -111,15 +116,20 @@ pub fn checks() -> Result<(), String> {
         .join("valve.toml");
     let file = scenario::load(&path).map_err(|e| e.to_string())?;
     let mut images = Vec::new();
-    for (t, _) in CORES {
+    for (t, mhz) in CORES {
         let image = timed(
             &format!("build the coil driver image for {}", t.core()),
             || build_image(&tc, t, COIL_DRIVER),
         )?;
-        images.push(image);
+        images.push((t, mhz, image, "Rust"));
     }
+    let cc = CCompiler::detect().map_err(|m| m.to_string())?;
+    let c_image = timed(
+        &format!("build the C coil driver image for {}", C_CORE.0.core()),
+        || build_c_image(&tc, &cc, C_CORE.0),
+    )?;
     // The hard-float image must be refused for a core without an FPU, before it runs.
-    let refused = lenz_harness::pil::elf::check(&images[1], Target::M0);
+    let refused = lenz_harness::pil::elf::check(&images[1].2, Target::M0);
     match refused {
         Err(e) if e.contains("floating-point") => {
             println!("xtask:   the Cortex-M4F image is refused for m0: {e}");
@@ -132,7 +142,8 @@ pub fn checks() -> Result<(), String> {
     }
     let mut table = Vec::new();
     let (mut ticks, mut wall) = (0u64, 0.0f64);
-    for ((t, mhz), image) in CORES.iter().zip(&images) {
+    images.push((C_CORE.0, C_CORE.1, c_image, "C"));
+    for (t, mhz, image, language) in &images {
         let fw = FirmwareRun {
             qemu: qemu.clone(),
             target: *t,
@@ -146,7 +157,11 @@ pub fn checks() -> Result<(), String> {
             params: None,
         };
         timed(
-            &format!("coil driver in the loop on {} ({})", t.core(), t.machine()),
+            &format!(
+                "{language} coil driver in the loop on {} ({})",
+                t.core(),
+                t.machine()
+            ),
             || {
                 let mut problems = Vec::new();
                 for (k, sc) in file.scenarios.iter().enumerate() {
@@ -191,7 +206,7 @@ pub fn checks() -> Result<(), String> {
                         ));
                     }
                     table.push(format!(
-                        "xtask:   {:<11} {:<28} {:>5} ticks, max {:>4} instructions in tick {:>5} \
+                        "xtask:   {language:<4} {:<11} {:<28} {:>5} ticks, max {:>4} instructions in tick {:>5} \
                          (limit {} at {mhz} MHz), mean {:.1}; {} actuations identical to the host run",
                         t.core(),
                         sc.name,
@@ -298,4 +313,55 @@ fn misbehaving(
         other => return Err(format!("Cargo.toml as an image gave {other:?}")),
     }
     Ok(())
+}
+
+/// Item 5 of the module docs: compiles `pil/images/c/coil_driver.c` for `t` and links it with
+/// the C API's library built with the runtime (the target images' linker script and memory
+/// map: the runtime's vector table and reset handler).
+fn build_c_image(tc: &Toolchain, cc: &CCompiler, t: Target) -> Result<std::path::PathBuf, String> {
+    use super::ffi::{C_FLAGS, args, command, cpu_flags};
+    use std::ffi::OsString;
+    let lib = build_ffi_runtime(tc, t)?;
+    let dir = lib
+        .parent()
+        .ok_or("library without a folder")?
+        .to_path_buf();
+    let images = lenz_harness::firmware::images_dir();
+    let memory = images.join("memory").join(format!("{}.x", t.machine()));
+    std::fs::copy(&memory, dir.join("memory.x"))
+        .map_err(|e| format!("copying {}: {e}", memory.display()))?;
+    let src_dir = workspace_root().join("pil").join("images").join("c");
+    let include = workspace_root().join("ffi").join("include");
+    let obj = dir.join("coil_driver.o");
+    let cpu: Vec<OsString> = cpu_flags(t).iter().map(OsString::from).collect();
+    let mut a: Vec<OsString> = C_FLAGS.iter().map(OsString::from).collect();
+    a.extend(cpu.iter().cloned());
+    a.extend(args([
+        &"-I",
+        &include,
+        &"-I",
+        &src_dir,
+        &"-c",
+        &src_dir.join("coil_driver.c"),
+        &"-o",
+        &obj,
+    ]));
+    command(&cc.gcc, &a)?;
+    let image = dir.join("coil-driver-c.elf");
+    let mut a = cpu;
+    a.extend(args([
+        &"-nostdlib",
+        &"-Wl,--gc-sections",
+        &"-T",
+        &images.join("link.x"),
+        &"-L",
+        &dir,
+        &obj,
+        &lib,
+        &"-lgcc",
+        &"-o",
+        &image,
+    ]));
+    command(&cc.gcc, &a)?;
+    Ok(image)
 }

@@ -36,3 +36,42 @@ pub fn build_image(tc: &Toolchain, target: Target, bin: &str) -> Result<PathBuf,
     }
     Ok(target_dir().join(target.triple()).join("release").join(bin))
 }
+
+/// Builds the C API's static library with the in-the-loop runtime (`lenz-ffi`, feature `pil`)
+/// for `target`, with the images' profile, and returns a copy of it
+/// (`target/firmware/pil-c/<triple>/liblenz_ffi_pil.a`, so the C API's own checks keep their
+/// library).
+///
+/// # Errors
+///
+/// The build failed (its output was shown on the terminal), or the copy.
+pub fn build_ffi_runtime(tc: &Toolchain, target: Target) -> Result<PathBuf, String> {
+    let status = tc
+        .cargo_command(target)
+        .env("CARGO_PROFILE_RELEASE_OPT_LEVEL", "s")
+        .env("CARGO_PROFILE_RELEASE_CODEGEN_UNITS", "1")
+        .arg("build")
+        .arg("--quiet")
+        .arg("--release")
+        .arg("--manifest-path")
+        .arg(workspace_root().join("Cargo.toml"))
+        .args(["--target", target.triple(), "-p", "lenz-ffi", "--lib"])
+        .args(["--features", "pil"])
+        .status()
+        .map_err(|e| format!("{}: could not start cargo: {e}", target.triple()))?;
+    if !status.success() {
+        return Err(format!(
+            "building lenz-ffi with the runtime for {} failed ({status})",
+            target.triple()
+        ));
+    }
+    let built = target_dir()
+        .join(target.triple())
+        .join("release")
+        .join("liblenz_ffi.a");
+    let dir = target_dir().join("pil-c").join(target.triple());
+    std::fs::create_dir_all(&dir).map_err(|e| format!("{}: {e}", dir.display()))?;
+    let copy = dir.join("liblenz_ffi_pil.a");
+    std::fs::copy(&built, &copy).map_err(|e| format!("copying {}: {e}", built.display()))?;
+    Ok(copy)
+}
