@@ -11,8 +11,8 @@
 //! 2. host → image [`Init`] followed by `params_len` bytes: the image's parameter block (for
 //!    the coil driver images, its configuration; the harness documents what it sends) and the
 //!    SysTick reload that bounds one tick (the instruction limit).
-//! 3. image → host [`Ready`], or [`InitFailed`] with the image's code (the run ends).
-//! 4. per control tick: host → image [`Tick`] (the tick's readings), image → host [`Act`]
+//! 3. image → host [`Frame::Ready`], or [`InitFailed`] with the image's code (the run ends).
+//! 4. per control tick: host → image [`Frame::Tick`] (the tick's readings), image → host [`Act`]
 //!    (the actuation for the tick and the raw SysTick count of the tick function).
 //! 5. host → image [`Frame::Stop`]: the image exits with status 0.
 //!
@@ -148,7 +148,7 @@ pub struct InitFailed {
     pub code: u16,
 }
 
-/// The image's answer to a [`Tick`].
+/// The image's answer to a [`Frame::Tick`].
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Act {
     /// The tick it answers.
@@ -179,7 +179,7 @@ pub enum StopCause {
 pub struct Stopped {
     /// Why.
     pub cause: StopCause,
-    /// The tick it was in (the last [`Tick`] it read).
+    /// The tick it was in (the last [`Frame::Tick`] it read).
     pub tick: u32,
     /// Code address where it stopped (the stacked return address of the exception; 0 for a
     /// panic).

@@ -1,6 +1,6 @@
 //! The firmware-in-the-loop checks of `cargo xtask test`, after the C API's:
 //!
-//! 1. the example image `coil-driver` (`pil/images`) built for Cortex-M0 and Cortex-M4F, and
+//! 1. the format of the target-only crate `pil/images`; the example image `coil-driver` (`pil/images`) built for Cortex-M0 and Cortex-M4F, and
 //!    checked against each core (the hard-float M4F image must be refused for the M0);
 //! 2. every scenario of `host-harness/scenarios/valve.toml` run with each image in the loop
 //!    (nominal parts), with the tick budget at the clock stated per core in [`CORES`];
@@ -107,6 +107,25 @@ impl Controller for HostCoil {
 
 /// Runs every check; `Err` names what failed.
 pub fn checks() -> Result<(), String> {
+    timed("format of pil/images", || {
+        let manifest = workspace_root()
+            .join("pil")
+            .join("images")
+            .join("Cargo.toml");
+        let cargo = std::env::var("CARGO").unwrap_or_else(|_| "cargo".to_string());
+        let status = std::process::Command::new(cargo)
+            .args(["fmt", "--check", "--manifest-path"])
+            .arg(manifest)
+            .status()
+            .map_err(|e| format!("could not start cargo fmt: {e}"))?;
+        if status.success() {
+            Ok(())
+        } else {
+            Err(format!(
+                "not formatted ({status}); run cargo fmt in pil/images"
+            ))
+        }
+    })?;
     let all: Vec<Target> = CORES.iter().map(|c| c.0).collect();
     let tc = Toolchain::detect(&all).map_err(|m| m.to_string())?;
     let qemu = session::qemu()?;
