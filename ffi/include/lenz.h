@@ -23,6 +23,15 @@
 // Words of `LenzBridgeGuardState`.
 #define LENZ_BRIDGE_GUARD_STATE_WORDS 2
 
+// Words of `LenzCoilDriverConfig`.
+#define LENZ_COIL_DRIVER_CONFIG_WORDS 213
+
+// Words of `LenzCoilDriver` (its own copy of the configuration and its state).
+#define LENZ_COIL_DRIVER_WORDS 246
+
+// `LenzCoilDriver` in 8-byte units (the driver holds 64-bit values: 8-byte alignment).
+#define LENZ_COIL_DRIVER_DWORDS 123
+
 // Words of `LenzDutyLimiterConfig`.
 #define LENZ_DUTY_LIMITER_CONFIG_WORDS 103
 
@@ -130,30 +139,76 @@ typedef uint8_t LenzBridgeMode;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
-// The verdict of one tick (Rust: `lenz::kernel::JamStatus`, the fault's cause flattened in).
-enum LenzJamStatus
+// The driver's phase (Rust: `lenz::drive::CoilPhase`).
+enum LenzCoilPhase
 #if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
   : uint8_t
 #endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
  {
-  // Not driven: nothing judged.
-  LENZ_JAM_STATUS_IDLE = 0,
-  // Within the start blanking.
-  LENZ_JAM_STATUS_BLANKING = 1,
-  // Driven and judged healthy this tick.
-  LENZ_JAM_STATUS_RUNNING = 2,
-  // Latched: current high and rotor (nearly) still.
-  LENZ_JAM_STATUS_FAULT_JAM = 3,
-  // Latched: current above the overload level for longer than allowed.
-  LENZ_JAM_STATUS_FAULT_OVERLOAD = 4,
-  // Latched: no current although the bridge drives.
-  LENZ_JAM_STATUS_FAULT_OPEN_WINDING = 5,
+  // Off, released: a demand energizes the coil.
+  LENZ_COIL_PHASE_IDLE = 0,
+  // Full drive until the pull-in current and the minimum pull-in time.
+  LENZ_COIL_PHASE_PULL_IN = 1,
+  // Held by the PWM duty.
+  LENZ_COIL_PHASE_HOLD = 2,
+  // Off, the current still decaying: a demand waits.
+  LENZ_COIL_PHASE_RELEASING = 3,
+  // Latched off by a fault until `lenz_coil_driver_clear_fault`.
+  LENZ_COIL_PHASE_FAULTED = 4,
 };
 #ifndef __cplusplus
 #if __STDC_VERSION__ >= 202311L
-typedef enum LenzJamStatus LenzJamStatus;
+typedef enum LenzCoilPhase LenzCoilPhase;
 #else
-typedef uint8_t LenzJamStatus;
+typedef uint8_t LenzCoilPhase;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// Why the driver latched off (Rust: `lenz::drive::CoilFault`).
+enum LenzCoilFault
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // No fault.
+  LENZ_COIL_FAULT_NONE = 0,
+  // The trip detector latched (cause in `trip_cause`).
+  LENZ_COIL_FAULT_TRIP = 1,
+  // The plausibility monitor raised a fault (which in `plausibility`).
+  LENZ_COIL_FAULT_PLAUSIBILITY = 2,
+  // The switch output reported an error (not possible through this API).
+  LENZ_COIL_FAULT_OUTPUT = 3,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzCoilFault LenzCoilFault;
+#else
+typedef uint8_t LenzCoilFault;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// Why the detector tripped (Rust: `lenz::kernel::Cause`).
+enum LenzCause
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // No trip (the verdict is not `LENZ_VERDICT_KIND_TRIP`).
+  LENZ_CAUSE_NONE = 0,
+  // `N` of the last `M` samples at or above the threshold (or at full scale).
+  LENZ_CAUSE_INSTANTANEOUS = 1,
+  // The inverse-time accumulator reached one.
+  LENZ_CAUSE_INVERSE_TIME = 2,
+  // The thermal state reached one.
+  LENZ_CAUSE_THERMAL = 3,
+  // The reading stayed exactly constant with the switch on (stuck sensor).
+  LENZ_CAUSE_SENSOR_FAULT = 4,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzCause LenzCause;
+#else
+typedef uint8_t LenzCause;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
@@ -179,6 +234,33 @@ enum LenzFault
 typedef enum LenzFault LenzFault;
 #else
 typedef uint8_t LenzFault;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// The verdict of one tick (Rust: `lenz::kernel::JamStatus`, the fault's cause flattened in).
+enum LenzJamStatus
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // Not driven: nothing judged.
+  LENZ_JAM_STATUS_IDLE = 0,
+  // Within the start blanking.
+  LENZ_JAM_STATUS_BLANKING = 1,
+  // Driven and judged healthy this tick.
+  LENZ_JAM_STATUS_RUNNING = 2,
+  // Latched: current high and rotor (nearly) still.
+  LENZ_JAM_STATUS_FAULT_JAM = 3,
+  // Latched: current above the overload level for longer than allowed.
+  LENZ_JAM_STATUS_FAULT_OVERLOAD = 4,
+  // Latched: no current although the bridge drives.
+  LENZ_JAM_STATUS_FAULT_OPEN_WINDING = 5,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzJamStatus LenzJamStatus;
+#else
+typedef uint8_t LenzJamStatus;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
@@ -252,31 +334,6 @@ enum LenzVerdictKind
 typedef enum LenzVerdictKind LenzVerdictKind;
 #else
 typedef uint8_t LenzVerdictKind;
-#endif // __STDC_VERSION__ >= 202311L
-#endif // __cplusplus
-
-// Why the detector tripped (Rust: `lenz::kernel::Cause`).
-enum LenzCause
-#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
-  : uint8_t
-#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
- {
-  // No trip (the verdict is not `LENZ_VERDICT_KIND_TRIP`).
-  LENZ_CAUSE_NONE = 0,
-  // `N` of the last `M` samples at or above the threshold (or at full scale).
-  LENZ_CAUSE_INSTANTANEOUS = 1,
-  // The inverse-time accumulator reached one.
-  LENZ_CAUSE_INVERSE_TIME = 2,
-  // The thermal state reached one.
-  LENZ_CAUSE_THERMAL = 3,
-  // The reading stayed exactly constant with the switch on (stuck sensor).
-  LENZ_CAUSE_SENSOR_FAULT = 4,
-};
-#ifndef __cplusplus
-#if __STDC_VERSION__ >= 202311L
-typedef enum LenzCause LenzCause;
-#else
-typedef uint8_t LenzCause;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
@@ -369,21 +426,10 @@ typedef struct {
   int32_t duty_q16;
 } LenzBridgeCommand;
 
-// Duty limiter coefficients (opaque; fill with `lenz_duty_limiter_init`).
+// Coil driver settings (opaque; fill with `lenz_coil_driver_init`).
 typedef struct {
-  uint32_t opaque[LENZ_DUTY_LIMITER_CONFIG_WORDS];
-} LenzDutyLimiterConfig;
-
-// One channel's duty limiter state (opaque; fill with `lenz_duty_limiter_state_init`).
-typedef struct {
-  uint32_t opaque[LENZ_DUTY_LIMITER_STATE_WORDS];
-} LenzDutyLimiterState;
-
-// Estimator coefficients (opaque; fill with `lenz_estimator_init`). Read-only after init; one
-// serves every channel with the same coil, temperature and tick.
-typedef struct {
-  uint32_t opaque[LENZ_ESTIMATOR_CONFIG_WORDS];
-} LenzEstimatorConfig;
+  uint32_t opaque[LENZ_COIL_DRIVER_CONFIG_WORDS];
+} LenzCoilDriverConfig;
 
 // The freewheel (switch-off) path of the estimator (Rust: `lenz::kernel::OffPath`).
 typedef struct {
@@ -408,6 +454,192 @@ typedef struct {
   // The freewheel path.
   LenzOffPath off;
 } LenzEstimatorRaw;
+
+// The raw values of a tracking off-timer, as a constant can hold them (Rust:
+// `lenz::kernel::TrackingOffTimerRaw`).
+typedef struct {
+  // The estimator coefficients (only the off path is used).
+  LenzEstimatorRaw estimator;
+  // Release threshold, µA.
+  int32_t threshold_ua;
+  // Constant part of the margin below the threshold, µA.
+  int32_t base_margin_ua;
+  // The margin adds the current at switch-off shifted right by this many bits.
+  uint32_t margin_shift;
+} LenzTrackingOffTimerRaw;
+
+// The raw values of the hold estimator (Rust: `lenz::drive::HoldEstimatorRaw`).
+typedef struct {
+  // `1 − exp(−T·R_ref/L)`, Q31.
+  int32_t step_q31;
+  // `1/R_ref`, µA per mV, Q16.
+  int32_t conductance_q16;
+  // The reference duty, Q16 fraction (65536 = 1).
+  uint32_t reference_duty_q16;
+  // `R_on − R_off`, mV per µA, Q24 (signed).
+  int32_t delta_r_q24;
+  // Bound of the estimate's error in hold, µA.
+  int32_t error_bound_ua;
+} LenzHoldEstimatorRaw;
+
+// Conversion of ADC counts to microamps, and the valid window of readings (Rust:
+// `lenz::kernel::SenseScale`).
+typedef struct {
+  // Reading at zero current, counts.
+  int32_t offset_counts;
+  // Current per count, µA, Q16.
+  int32_t ua_per_count_q16;
+  // Lowest valid reading, counts.
+  uint16_t min_valid_counts;
+  // Highest valid reading, counts.
+  uint16_t max_valid_counts;
+} LenzSenseScale;
+
+// The raw thresholds of the monitor, as a constant can hold them (Rust:
+// `lenz::kernel::MonitorRaw`).
+typedef struct {
+  // Sense scaling and valid window.
+  LenzSenseScale scale;
+  // Absolute part of the tolerance band, µA.
+  int32_t abs_tol_ua;
+  // Relative part of the tolerance band, Q16 (65536 = 100 %).
+  int32_t rel_tol_q16;
+  // Estimates at or above this expect a measurable current, µA.
+  int32_t open_min_estimate_ua;
+  // Measured currents at or below this count as none, µA.
+  int32_t open_max_ua;
+  // Consecutive samples before a fault is raised.
+  uint16_t persistence;
+  // Consecutive unchanged readings before the sensor counts as stuck.
+  uint16_t stuck_samples;
+  // Change of the estimate during a frozen reading that proves it stuck, µA.
+  int32_t stuck_min_change_ua;
+} LenzMonitorRaw;
+
+// The inverse-time element's table (Rust: `lenz::kernel::InverseTable`). A disabled
+// element has every field 0 and `instant_reset` 1.
+typedef struct {
+  // `2³²/pickup_counts`: `M` in Q16 is `reading · m_scale_q32 >> 16`. Zero disables.
+  uint32_t m_scale_q32;
+  // `2³²·T_s/t(M)` at `M = 2^o·(1 + s/32)` for entry `32·o + s`.
+  uint32_t rate_q32[LENZ_INVERSE_TABLE_LEN];
+  // `2³²·T_s/(TD·t_r)` of an inverse reset below pickup; ignored if `instant_reset`.
+  uint32_t reset_q32;
+  // Nonzero: reset to zero at once below pickup (IEC curves).
+  uint8_t instant_reset;
+} LenzInverseTable;
+
+// The raw settings of the trip detector, as a constant can hold them (Rust:
+// `lenz::kernel::TripRaw`).
+typedef struct {
+  // Instantaneous threshold: a reading at or above it is over, counts.
+  uint16_t instantaneous_counts;
+  // A reading at or above this is over too (a saturated ADC), counts.
+  uint16_t full_scale_counts;
+  // Blanking after each switch-on, samples.
+  uint16_t blank_samples;
+  // `N` of the `N`-of-`M` persistence filter (0 is taken as 1).
+  uint8_t persistence_n;
+  // `M` of the `N`-of-`M` persistence filter (clamped to `1 ..= 32`).
+  uint8_t persistence_m;
+  // Samples of an exactly constant reading with the switch on that count as a stuck
+  // sensor (0: off).
+  uint16_t stuck_samples;
+  // Timed retries before the latch.
+  uint8_t retries;
+  // Delay before each retry, samples.
+  uint16_t retry_samples;
+  // `k` of the block of `K = 2^k` samples (clamped to 5).
+  uint8_t block_log2;
+  // The inverse-time element (disabled: see `LenzInverseTable`).
+  LenzInverseTable inverse_table;
+  // `2^(24 + x2_shift)/(k·I_B in counts)²`: `x²` in Q24 is `mean r² · x2_mul >> x2_shift`.
+  // Zero disables the thermal element.
+  uint32_t x2_mul;
+  // Shift of the thermal input scale.
+  uint8_t x2_shift;
+  // `1 − exp(−K·T_s/τ)` of one block, Q32 (below `2³¹`).
+  uint32_t thermal_step_q32;
+  // Measured relative error of the inverse-time table, parts per million (information
+  // only; 0 when not measured).
+  uint32_t table_error_ppm;
+} LenzTripRaw;
+
+// The raw values of a coil driver configuration, as a constant can hold them (Rust:
+// `lenz::drive::CoilDriverRaw`; `lenz emit` or `lenz sim --firmware` produce them from a
+// plan).
+typedef struct {
+  // The off-timer, with the coil's estimator.
+  LenzTrackingOffTimerRaw off_timer;
+  // The hold estimator.
+  LenzHoldEstimatorRaw hold;
+  // The plausibility monitor, with the current sense scale.
+  LenzMonitorRaw monitor;
+  // The trip detector.
+  LenzTripRaw trip;
+  // Supply reading at 0 V, counts.
+  uint16_t supply_zero_counts;
+  // Supply per count, mV, Q16.
+  int32_t supply_mv_per_count_q16;
+  // Pull-in current, µA.
+  int32_t pull_in_ua;
+  // What must reach the pull-in current: 0 the estimate, anything else the measurement.
+  uint8_t pull_in_measured;
+  // Shortest pull-in, ticks.
+  uint32_t pull_in_min_ticks;
+  // Longest pull-in, ticks.
+  uint32_t pull_in_max_ticks;
+  // Hold: 0 fixed duty, anything else the regulated current.
+  uint8_t hold_regulated;
+  // Hold current of the regulation, µA.
+  int32_t hold_current_ua;
+  // Proportional gain of the regulation, Q32 duty per µA.
+  int32_t hold_kp_q32;
+  // Integral gain of the regulation, Q32 duty per µA per tick.
+  int32_t hold_ki_q32;
+} LenzCoilDriverRaw;
+
+// One coil driver (opaque; fill with `lenz_coil_driver_start`). Holds its own copy of the
+// configuration.
+typedef struct {
+  uint64_t opaque[LENZ_COIL_DRIVER_DWORDS];
+} LenzCoilDriver;
+
+// What a tick of the driver gives back.
+typedef struct {
+  // Duty for the next tick, counts of the `max_duty` given at start.
+  uint16_t duty;
+  // Phase after the tick.
+  LenzCoilPhase phase;
+  // Latched fault.
+  LenzCoilFault fault;
+  // The trip's cause when `fault` is `LENZ_COIL_FAULT_TRIP`.
+  LenzCause trip_cause;
+  // The monitor's fault when `fault` is `LENZ_COIL_FAULT_PLAUSIBILITY`.
+  LenzFault plausibility;
+  // 1 once the off-timer has confirmed the release after the last switch-off.
+  uint8_t released;
+  // 1 if the last pull-in ended at its maximum time.
+  uint8_t pull_in_timed_out;
+  // Estimated coil current, µA.
+  int32_t estimate_ua;
+} LenzCoilDriverOutput;
+
+// Duty limiter coefficients (opaque; fill with `lenz_duty_limiter_init`).
+typedef struct {
+  uint32_t opaque[LENZ_DUTY_LIMITER_CONFIG_WORDS];
+} LenzDutyLimiterConfig;
+
+// One channel's duty limiter state (opaque; fill with `lenz_duty_limiter_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_DUTY_LIMITER_STATE_WORDS];
+} LenzDutyLimiterState;
+
+// Estimator coefficients (opaque; fill with `lenz_estimator_init`). Read-only after init; one
+// serves every channel with the same coil, temperature and tick.
+typedef struct {
+  uint32_t opaque[LENZ_ESTIMATOR_CONFIG_WORDS];
+} LenzEstimatorConfig;
 
 // One channel's estimator state (opaque; fill with `lenz_estimator_state_init`).
 typedef struct {
@@ -449,40 +681,6 @@ typedef struct {
 typedef struct {
   uint32_t opaque[LENZ_MONITOR_CONFIG_WORDS];
 } LenzMonitorConfig;
-
-// Conversion of ADC counts to microamps, and the valid window of readings (Rust:
-// `lenz::kernel::SenseScale`).
-typedef struct {
-  // Reading at zero current, counts.
-  int32_t offset_counts;
-  // Current per count, µA, Q16.
-  int32_t ua_per_count_q16;
-  // Lowest valid reading, counts.
-  uint16_t min_valid_counts;
-  // Highest valid reading, counts.
-  uint16_t max_valid_counts;
-} LenzSenseScale;
-
-// The raw thresholds of the monitor, as a constant can hold them (Rust:
-// `lenz::kernel::MonitorRaw`).
-typedef struct {
-  // Sense scaling and valid window.
-  LenzSenseScale scale;
-  // Absolute part of the tolerance band, µA.
-  int32_t abs_tol_ua;
-  // Relative part of the tolerance band, Q16 (65536 = 100 %).
-  int32_t rel_tol_q16;
-  // Estimates at or above this expect a measurable current, µA.
-  int32_t open_min_estimate_ua;
-  // Measured currents at or below this count as none, µA.
-  int32_t open_max_ua;
-  // Consecutive samples before a fault is raised.
-  uint16_t persistence;
-  // Consecutive unchanged readings before the sensor counts as stuck.
-  uint16_t stuck_samples;
-  // Change of the estimate during a frozen reading that proves it stuck, µA.
-  int32_t stuck_min_change_ua;
-} LenzMonitorRaw;
 
 // One channel's monitor state (opaque; fill with `lenz_monitor_state_init`).
 typedef struct {
@@ -535,19 +733,6 @@ typedef struct {
   uint32_t opaque[LENZ_TRACKING_OFFTIMER_CONFIG_WORDS];
 } LenzTrackingOffTimerConfig;
 
-// The raw values of a tracking off-timer, as a constant can hold them (Rust:
-// `lenz::kernel::TrackingOffTimerRaw`).
-typedef struct {
-  // The estimator coefficients (only the off path is used).
-  LenzEstimatorRaw estimator;
-  // Release threshold, µA.
-  int32_t threshold_ua;
-  // Constant part of the margin below the threshold, µA.
-  int32_t base_margin_ua;
-  // The margin adds the current at switch-off shifted right by this many bits.
-  uint32_t margin_shift;
-} LenzTrackingOffTimerRaw;
-
 // Planned off-timer table (opaque; fill with `lenz_planned_offtimer_init`).
 typedef struct {
   uint32_t opaque[LENZ_PLANNED_OFFTIMER_CONFIG_WORDS];
@@ -589,55 +774,6 @@ typedef struct {
 typedef struct {
   uint32_t opaque[LENZ_TRIP_CONFIG_WORDS];
 } LenzTripConfig;
-
-// The inverse-time element's table (Rust: `lenz::kernel::InverseTable`). A disabled
-// element has every field 0 and `instant_reset` 1.
-typedef struct {
-  // `2³²/pickup_counts`: `M` in Q16 is `reading · m_scale_q32 >> 16`. Zero disables.
-  uint32_t m_scale_q32;
-  // `2³²·T_s/t(M)` at `M = 2^o·(1 + s/32)` for entry `32·o + s`.
-  uint32_t rate_q32[LENZ_INVERSE_TABLE_LEN];
-  // `2³²·T_s/(TD·t_r)` of an inverse reset below pickup; ignored if `instant_reset`.
-  uint32_t reset_q32;
-  // Nonzero: reset to zero at once below pickup (IEC curves).
-  uint8_t instant_reset;
-} LenzInverseTable;
-
-// The raw settings of the trip detector, as a constant can hold them (Rust:
-// `lenz::kernel::TripRaw`).
-typedef struct {
-  // Instantaneous threshold: a reading at or above it is over, counts.
-  uint16_t instantaneous_counts;
-  // A reading at or above this is over too (a saturated ADC), counts.
-  uint16_t full_scale_counts;
-  // Blanking after each switch-on, samples.
-  uint16_t blank_samples;
-  // `N` of the `N`-of-`M` persistence filter (0 is taken as 1).
-  uint8_t persistence_n;
-  // `M` of the `N`-of-`M` persistence filter (clamped to `1 ..= 32`).
-  uint8_t persistence_m;
-  // Samples of an exactly constant reading with the switch on that count as a stuck
-  // sensor (0: off).
-  uint16_t stuck_samples;
-  // Timed retries before the latch.
-  uint8_t retries;
-  // Delay before each retry, samples.
-  uint16_t retry_samples;
-  // `k` of the block of `K = 2^k` samples (clamped to 5).
-  uint8_t block_log2;
-  // The inverse-time element (disabled: see `LenzInverseTable`).
-  LenzInverseTable inverse_table;
-  // `2^(24 + x2_shift)/(k·I_B in counts)²`: `x²` in Q24 is `mean r² · x2_mul >> x2_shift`.
-  // Zero disables the thermal element.
-  uint32_t x2_mul;
-  // Shift of the thermal input scale.
-  uint8_t x2_shift;
-  // `1 − exp(−K·T_s/τ)` of one block, Q32 (below `2³¹`).
-  uint32_t thermal_step_q32;
-  // Measured relative error of the inverse-time table, parts per million (information
-  // only; 0 when not measured).
-  uint32_t table_error_ppm;
-} LenzTripRaw;
 
 // One channel's trip detector state (opaque; fill with `lenz_trip_state_init`).
 typedef struct {
@@ -770,6 +906,57 @@ LenzStatus lenz_bridge_guard_update(const LenzBridgeGuardConfig *cfg,
                                     int32_t request_q16,
                                     int32_t speed_mrad_s,
                                     LenzBridgeCommand *command_out);
+
+// Loads a configuration from raw values (`CoilDriverConfig::from_raw`: any values are safe to
+// run).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg_out` writable, `raw` readable.
+LenzStatus lenz_coil_driver_init(LenzCoilDriverConfig *cfg_out, const LenzCoilDriverRaw *raw);
+
+// The raw values of a configuration.
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` initialised by `lenz_coil_driver_init`, `raw_out`
+// writable.
+LenzStatus lenz_coil_driver_raw(const LenzCoilDriverConfig *cfg, LenzCoilDriverRaw *raw_out);
+
+// Starts a driver with a copy of `cfg` on a PWM of `max_duty` counts, at duty 0 (off).
+//
+// Writes `ok_out` = 1, or 0 when the PWM's resolution cannot set the hold duty within 1 % of
+// full scale (`max_duty` 0 or too small); then the driver is not started and must not be
+// used.
+//
+// # Safety
+//
+// Each pointer is null or valid: `drv_out` and `ok_out` writable, `cfg` initialised by
+// `lenz_coil_driver_init`.
+LenzStatus lenz_coil_driver_start(LenzCoilDriver *drv_out,
+                                  const LenzCoilDriverConfig *cfg,
+                                  uint16_t max_duty,
+                                  uint8_t *ok_out);
+
+// One control tick ([`CoilDriver::update`]): the application's demand and the tick's
+// current and supply readings in, the duty for the next tick and the driver's status out.
+//
+// # Safety
+//
+// Each pointer is null or valid: `drv` started by `lenz_coil_driver_start`, `out` writable.
+LenzStatus lenz_coil_driver_update(LenzCoilDriver *drv,
+                                   bool demand,
+                                   uint16_t current_counts,
+                                   uint16_t supply_counts,
+                                   LenzCoilDriverOutput *out);
+
+// Clears a latched fault (`CoilDriver::clear_fault`): the coil is energized again only on
+// demand and after the release.
+//
+// # Safety
+//
+// `drv` is null or started by `lenz_coil_driver_start`.
+LenzStatus lenz_coil_driver_clear_fault(LenzCoilDriver *drv);
 
 // Fills `cfg_out` from raw coefficients (Rust: `DutyLimiterConfig::from_raw`). Any values
 // are accepted; a table index outside the tables reads as limit 0.
@@ -1361,5 +1548,12 @@ LENZ_STATIC_ASSERT(sizeof(LenzBridgeCommand) == 8, lenz_size_of_LenzBridgeComman
 LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopRaw) == 424, lenz_size_of_LenzBoostLoopRaw);
 LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopConfig) == 424, lenz_size_of_LenzBoostLoopConfig);
 LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopState) == 24, lenz_size_of_LenzBoostLoopState);
+LENZ_STATIC_ASSERT(sizeof(LenzHoldEstimatorRaw) == 20, lenz_size_of_LenzHoldEstimatorRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverRaw) == 824, lenz_size_of_LenzCoilDriverRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverConfig) == 852, lenz_size_of_LenzCoilDriverConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriver) == 984, lenz_size_of_LenzCoilDriver);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilPhase) == 1, lenz_size_of_LenzCoilPhase);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilFault) == 1, lenz_size_of_LenzCoilFault);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverOutput) == 12, lenz_size_of_LenzCoilDriverOutput);
 
 #endif /* LENZ_H */

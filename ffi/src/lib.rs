@@ -61,6 +61,7 @@ extern crate std;
 
 mod boost_loop;
 mod bridge;
+mod coil_driver;
 mod duty;
 mod estimator;
 mod jam;
@@ -68,6 +69,8 @@ mod monitor;
 mod movement;
 mod offtimer;
 mod opaque;
+#[cfg(all(feature = "pil", target_os = "none"))]
+mod pil;
 mod speed;
 mod status;
 mod trip;
@@ -83,6 +86,12 @@ pub use bridge::{
     LenzBridgeGuardConfig, LenzBridgeGuardRaw, LenzBridgeGuardState, LenzBridgeMode,
     lenz_bridge_guard_init, lenz_bridge_guard_raw, lenz_bridge_guard_state_init,
     lenz_bridge_guard_update,
+};
+pub use coil_driver::{
+    LENZ_COIL_DRIVER_CONFIG_WORDS, LENZ_COIL_DRIVER_DWORDS, LENZ_COIL_DRIVER_WORDS, LenzCoilDriver,
+    LenzCoilDriverConfig, LenzCoilDriverOutput, LenzCoilDriverRaw, LenzCoilFault, LenzCoilPhase,
+    LenzHoldEstimatorRaw, lenz_coil_driver_clear_fault, lenz_coil_driver_init,
+    lenz_coil_driver_raw, lenz_coil_driver_start, lenz_coil_driver_update,
 };
 pub use jam::{
     LENZ_JAM_CONFIG_WORDS, LENZ_JAM_STATE_WORDS, LenzJamConfig, LenzJamRaw, LenzJamState,

@@ -75,6 +75,13 @@ fn sizes() -> Vec<(&'static str, usize)> {
         LenzBoostLoopRaw,
         LenzBoostLoopConfig,
         LenzBoostLoopState,
+        LenzHoldEstimatorRaw,
+        LenzCoilDriverRaw,
+        LenzCoilDriverConfig,
+        LenzCoilDriver,
+        LenzCoilPhase,
+        LenzCoilFault,
+        LenzCoilDriverOutput,
     ]
 }
 

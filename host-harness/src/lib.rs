@@ -142,6 +142,7 @@ pub mod controllers;
 pub mod demo;
 pub mod faults;
 pub mod firmware;
+pub mod pil;
 pub mod plant;
 pub mod report;
 pub mod scenario;

@@ -13,6 +13,8 @@
 //!    qemu, the disassembly check and the cost budget
 //! 7. the C API's checks ([`ffi`]): `liblenz_ffi.a` for the Cortex-M targets, the C firmware
 //!    example on the vectors under qemu, the no-panic link check and the code sizes
+//! 8. firmware in the loop ([`pil`]): the coil driver image on Cortex-M0 and Cortex-M4F on the
+//!    demo valve's scenarios, identical tick for tick to the host run, every property holding
 //!
 //! `cargo test --workspace` alone stays the quick host-only run; `cargo xtask target` runs step 6
 //! alone and `cargo xtask ffi` step 7.
@@ -22,6 +24,7 @@
 //! committed, and is replayed first by every later run, this one included).
 
 mod ffi;
+mod pil;
 mod target;
 
 use std::path::{Path, PathBuf};
@@ -114,6 +117,7 @@ fn test() -> Result<(), String> {
     )?;
     target::checks()?;
     ffi::checks()?;
+    pil::checks()?;
     Ok(())
 }
 
@@ -135,7 +139,12 @@ fn main() -> ExitCode {
         Some("target") => target::checks(),
         // The C API's target checks alone (they need the firmware tools `test` installs).
         Some("ffi") => ffi::checks(),
-        _ => Err("usage: cargo xtask test | cargo xtask target | cargo xtask ffi".to_string()),
+        // The firmware-in-the-loop checks alone (they need the firmware tools `test` installs).
+        Some("pil") => pil::checks(),
+        _ => Err(
+            "usage: cargo xtask test | cargo xtask target | cargo xtask ffi | cargo xtask pil"
+                .to_string(),
+        ),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -450,6 +450,57 @@ static void run_null_pointers(void) {
     report(12, before, 0);
 }
 
+/* The coil driver's C API (its behaviour tick by tick is checked in the loop, `cargo xtask
+   pil`, and against the Rust driver on the host): a configuration composed of the vectors'
+   kernel settings comes back exactly from its raw values; a PWM too coarse for the hold duty
+   is refused; a started driver runs and clears its fault. */
+static LenzCoilDriver coil_driver;
+
+static void run_coil_driver(void) {
+    uint32_t before = failures;
+    LenzCoilDriverRaw raw = {0}, back;
+    LenzCoilDriverConfig cfg;
+    LenzCoilDriverOutput out;
+    uint8_t started = 7;
+    kernel = "coil_driver";
+    case_index = step_index = 0;
+    raw.off_timer = TRACKING_CASES[0].raw;
+    raw.monitor = MONITOR_CASES[0].raw;
+    raw.trip = TRIP_CASES[0].raw;
+    raw.hold.step_q31 = TRACKING_CASES[0].raw.estimator.on_step_q31;
+    raw.hold.conductance_q16 = TRACKING_CASES[0].raw.estimator.on_conductance_q16;
+    raw.hold.reference_duty_q16 = 29491; /* 0.45 */
+    raw.hold.error_bound_ua = 20000;
+    raw.supply_zero_counts = 3;
+    raw.supply_mv_per_count_q16 = 524288;
+    raw.pull_in_ua = 540000;
+    raw.pull_in_min_ticks = 300;
+    raw.pull_in_max_ticks = 600;
+    raw.hold_kp_q32 = -5;
+    ok(lenz_coil_driver_init(&cfg, &raw));
+    ok(lenz_coil_driver_raw(&cfg, &back));
+    check_u32("hold.reference_duty_q16", back.hold.reference_duty_q16, raw.hold.reference_duty_q16);
+    check_i32("hold.step_q31", back.hold.step_q31, raw.hold.step_q31);
+    check_i32("off_timer.threshold_ua", back.off_timer.threshold_ua, raw.off_timer.threshold_ua);
+    check_i32("monitor.abs_tol_ua", back.monitor.abs_tol_ua, raw.monitor.abs_tol_ua);
+    check_u32("supply_zero_counts", back.supply_zero_counts, raw.supply_zero_counts);
+    check_i32("supply_mv_per_count_q16", back.supply_mv_per_count_q16, raw.supply_mv_per_count_q16);
+    check_i32("pull_in_ua", back.pull_in_ua, raw.pull_in_ua);
+    check_u32("pull_in_max_ticks", back.pull_in_max_ticks, raw.pull_in_max_ticks);
+    check_i32("hold_kp_q32", back.hold_kp_q32, raw.hold_kp_q32);
+    ok(lenz_coil_driver_start(&coil_driver, &cfg, 3, &started));
+    check_u32("refused resolution", started, 0);
+    ok(lenz_coil_driver_start(&coil_driver, &cfg, 1000, &started));
+    check_u32("started", started, 1);
+    for (step_index = 0; step_index < 20; step_index++) {
+        ok(lenz_coil_driver_update(&coil_driver, true, 100, 2700, &out));
+        check_u32("duty in range", out.duty <= 1000, 1);
+    }
+    ok(lenz_coil_driver_clear_fault(&coil_driver));
+    check_i32("null", lenz_coil_driver_update(0, true, 0, 0, &out), LENZ_STATUS_NULL_POINTER);
+    report(1, before, sizeof(LenzCoilDriver));
+}
+
 int main(void) {
     run_estimator();
     run_monitor();
@@ -463,6 +514,7 @@ int main(void) {
     run_bridge();
     run_boost_loop();
     run_null_pointers();
+    run_coil_driver();
     sh_puts("DONE failures=");
     sh_put_u32(failures);
     sh_puts("\n");

@@ -10,6 +10,8 @@ use super::common::{CAUTION, CliError};
 use super::outputs::Staged;
 use super::table::new_table;
 use crate::closed_loop::{Property, Waveform};
+use crate::firmware::Target;
+use crate::pil::{self, FirmwareRun, Guards, TickBudget, TickCosts};
 use crate::report::{self, Names, Outcome};
 use crate::scenario::{
     self, File,
@@ -37,6 +39,136 @@ pub struct Args {
     /// Replay run I of a sweep with seed S (the part values of that run), as `S:I`.
     #[arg(long, value_name = "S:I", value_parser = replay)]
     replay: Option<(u64, u64)>,
+    /// Take the control decisions from this firmware image (an ELF built on the lenz-pil
+    /// runtime), run on an emulated Cortex-M in lock-step with the plant; needs --core.
+    #[arg(long, value_name = "ELF", requires = "core")]
+    firmware: Option<PathBuf>,
+    /// The emulated core of --firmware: m0 (microbit), m3 (lm3s6965evb), m4f (mps2-an386).
+    #[arg(long, value_name = "CORE", value_parser = core_key, requires = "firmware")]
+    core: Option<Target>,
+    /// Core clock of --firmware, MHz: the tick-budget property then checks the worst tick's
+    /// time at this clock (one instruction per cycle) against --tick-fraction of the tick.
+    #[arg(long, value_name = "MHZ", value_parser = clock_mhz, requires = "firmware")]
+    clock: Option<f64>,
+    /// Share of the tick period the tick function may take with --clock (default 0.5).
+    #[arg(long, value_name = "F", value_parser = fraction, requires = "clock")]
+    tick_fraction: Option<f64>,
+    /// The tick-budget property without --clock: the largest instructions allowed in a tick.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..), requires = "firmware", conflicts_with = "clock")]
+    tick_budget: Option<u64>,
+}
+
+/// Share of the tick period a tick function may take by default (half: room for the
+/// instructions that take more than one cycle and for the rest of the firmware; common
+/// practice, no source).
+pub const DEFAULT_TICK_FRACTION: f64 = 0.5;
+
+fn core_key(s: &str) -> Result<Target, String> {
+    Target::from_key(s).ok_or_else(|| format!("'{s}' is not a core (m0, m3 or m4f)"))
+}
+
+fn clock_mhz(s: &str) -> Result<f64, String> {
+    let v: f64 = s
+        .trim()
+        .parse()
+        .map_err(|_| format!("'{s}' is not a clock in MHz"))?;
+    if v.is_finite() && v > 0.0 && v <= 1000.0 {
+        Ok(v)
+    } else {
+        Err(format!("'{s}': the clock must lie in (0, 1000] MHz"))
+    }
+}
+
+fn fraction(s: &str) -> Result<f64, String> {
+    let v: f64 = s
+        .trim()
+        .parse()
+        .map_err(|_| format!("'{s}' is not a fraction"))?;
+    if v.is_finite() && v > 0.0 && v <= 1.0 {
+        Ok(v)
+    } else {
+        Err(format!("'{s}': the share of the tick must lie in (0, 1]"))
+    }
+}
+
+/// The firmware run the flags ask for, if any.
+fn firmware_run(a: &Args) -> Result<Option<FirmwareRun>, CliError> {
+    let (Some(image), Some(target)) = (&a.firmware, a.core) else {
+        return Ok(None);
+    };
+    let budget = match (a.clock, a.tick_budget) {
+        (Some(mhz), _) => Some(TickBudget::Clock {
+            mhz,
+            fraction: a.tick_fraction.unwrap_or(DEFAULT_TICK_FRACTION),
+        }),
+        (None, Some(n)) => Some(TickBudget::Instructions(n)),
+        (None, None) => None,
+    };
+    // The image first: a wrong file is named even where the emulator is missing.
+    crate::pil::elf::check(image, target).map_err(CliError)?;
+    let fw = FirmwareRun {
+        qemu: pil::session::qemu().map_err(CliError)?,
+        target,
+        image: image.clone(),
+        guards: Guards::default(),
+        budget,
+        record_actuations: false,
+        params: None,
+    };
+    Ok(Some(fw))
+}
+
+/// Runs every scenario of `files` with the decisions of the image in `fw`.
+///
+/// # Errors
+///
+/// A value the plans or the plant reject, or an image that cannot run.
+pub fn run_all_firmware(
+    files: &[(String, File)],
+    params: impl Fn(&File) -> Params,
+    record: Record,
+    fw: &FirmwareRun,
+    sink: &mut Sink,
+) -> Result<(Vec<Outcome>, Vec<TickCosts>), CliError> {
+    let mut out = Vec::new();
+    let mut costs = Vec::new();
+    for (name, f) in files {
+        let p = params(f);
+        for (k, sc) in f.scenarios.iter().enumerate() {
+            let o = pil::run_scenario(f, k, &p, record, fw)
+                .map_err(|e| CliError(scenario::locate_problem(name, &e.0).to_string()))?;
+            costs.push(o.costs);
+            let mut outcome = Outcome {
+                file: name.clone(),
+                system: f.system.name.clone(),
+                scenario: sc.name.clone(),
+                stem: sink.names.unique(&report::base_stem(name, &sc.name)),
+                result: o.result,
+            };
+            sink.scenario(&outcome)?;
+            outcome.result.waveform = Waveform::default();
+            out.push(outcome);
+        }
+    }
+    Ok((out, costs))
+}
+
+/// The instructions-per-tick table of a firmware run.
+#[must_use]
+pub fn cost_table(outcomes: &[Outcome], costs: &[TickCosts]) -> comfy_table::Table {
+    let mut t = new_table(&["Scenario", "Ticks", "Max", "At tick", "Mean", "99 %", "Min"]);
+    for (o, c) in outcomes.iter().zip(costs) {
+        t.add_row(vec![
+            o.scenario.clone(),
+            c.ticks.to_string(),
+            c.max.to_string(),
+            c.max_tick.to_string(),
+            format!("{:.1}", c.mean),
+            c.quantile(0.99).to_string(),
+            c.min.to_string(),
+        ]);
+    }
+    t
 }
 
 /// Parses `S:I`.
@@ -83,6 +215,8 @@ struct ScenarioReport<'a> {
     passed: bool,
     properties: &'a [Property],
     events: &'a [crate::closed_loop::RunEvent],
+    #[serde(skip_serializing_if = "Option::is_none")]
+    tick_instructions: Option<&'a TickCosts>,
 }
 
 /// Loads every file; the first bad one ends the command.
@@ -326,7 +460,11 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     } else {
         Record::None
     };
-    let outcomes = run_all(&files, params, record, &mut sink)?;
+    let fw = firmware_run(a)?;
+    let (outcomes, costs) = match &fw {
+        Some(fw) => run_all_firmware(&files, params, record, fw, &mut sink)?,
+        None => (run_all(&files, params, record, &mut sink)?, Vec::new()),
+    };
     sink.finish(&outcomes)?;
     let passed = outcomes.iter().all(|o| o.result.passed());
     if a.json {
@@ -341,13 +479,15 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             }),
             scenarios: outcomes
                 .iter()
-                .map(|o| ScenarioReport {
+                .enumerate()
+                .map(|(k, o)| ScenarioReport {
                     file: &o.file,
                     system: &o.system,
                     scenario: &o.scenario,
                     passed: o.result.passed(),
                     properties: &o.result.properties,
                     events: &o.result.events,
+                    tick_instructions: costs.get(k),
                 })
                 .collect(),
         };
@@ -362,6 +502,15 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             }
         }
         outln!("{}", table(&outcomes, files.len() > 1));
+        if let Some(fw) = &fw {
+            outln!(
+                "\nInstructions per tick of {} on the {} ({}, qemu -icount):",
+                fw.image.display(),
+                fw.target.core(),
+                fw.target.machine()
+            );
+            outln!("{}", cost_table(&outcomes, &costs));
+        }
         let failed: usize = outcomes.iter().map(|o| o.result.violations().len()).sum();
         if passed {
             outln!("\nAll properties hold ({} scenarios).", outcomes.len());

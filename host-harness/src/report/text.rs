@@ -18,7 +18,7 @@ pub fn new_table(header: &[&str]) -> Table {
 pub fn value(v: f64, unit: &str) -> String {
     if v.is_infinite() && unit == "s" {
         "never".into()
-    } else if unit == "trips" {
+    } else if matches!(unit, "trips" | "instructions" | "stops") {
         format!("{v:.0}")
     } else {
         si(v, unit)

@@ -673,6 +673,60 @@ pub fn run(
     }
 }
 
+/// The sense channels as the firmware assumes them (nominal chain, no errors).
+#[must_use]
+pub fn nominal_sensors(file: &File) -> crate::closed_loop::Sensors {
+    crate::system::sense::nominal(file)
+}
+
+/// Runs scenario `index` of `file` with part values `p` against the controller `make` builds
+/// for the run's coil temperature (°C), on the plant of the file's controller kind; returns the
+/// result and the controller.
+///
+/// # Errors
+///
+/// A value the plans or the plant reject, `make`'s error, or a timing the closed loop
+/// rejects.
+pub fn run_with<C: closed_loop::Controller>(
+    file: &File,
+    index: usize,
+    p: &Params,
+    record: Record,
+    make: impl FnOnce(f64) -> Result<C, RunSetupError>,
+) -> Result<(RunResult, C), RunSetupError> {
+    let sc = file
+        .scenarios
+        .get(index)
+        .ok_or_else(|| RunSetupError(format!("no scenario number {index}")))?;
+    let pt = point(file, sc, p);
+    let cfg = loop_config(file, sc, p, &pt, record);
+    let loop_err = |e: closed_loop::RunError| match e {
+        closed_loop::RunError::Timing(param) => RunSetupError(format!(
+            "key `{}`: the timing of scenario '{}' is not consistent (a zero tick, PWM period \
+             or duration, or a sampling instant outside the tick)",
+            file_key(file, Some(index), param).unwrap_or_else(|| format!("scenario[{index}]")),
+            sc.name
+        )),
+        other => RunSetupError(format!("key `scenario[{index}]`: {other}")),
+    };
+    if let Some(b) = &file.system.boost {
+        let mut plant = boost_plant(file, b, p, pt.supply_v)?;
+        plant.settle_off();
+        let mut ctrl = make(pt.temp_c)?;
+        let r = closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)?;
+        Ok((r, ctrl))
+    } else {
+        let mut plant =
+            crate::system::plant::coil_plant_in(file, Some(index), p, pt.supply_v, pt.temp_c)?;
+        plant.set_record_events(false);
+        // Memory must not grow with the PWM periods of a long run.
+        plant.set_keep_switch_offs(false);
+        let mut ctrl = make(pt.temp_c)?;
+        let r = closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)?;
+        Ok((r, ctrl))
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
