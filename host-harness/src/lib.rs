@@ -12,6 +12,7 @@ pub mod demo;
 pub mod faults;
 pub mod firmware;
 pub mod plant;
+pub mod range_arg;
 pub mod report;
 pub mod scenario;
 pub mod si;

@@ -6,6 +6,7 @@ use lenz::CoilParams;
 use serde::Serialize;
 
 use super::table::{new_table, si};
+use super::worst::{Figures, figures_of};
 use crate::cli::{CAUTION, CliError, ampere, celsius, henry, ohm, second, volt};
 
 /// Arguments of `lenz coil`.
@@ -85,13 +86,27 @@ fn compute(a: &Args) -> Result<Report, lenz::Error> {
     })
 }
 
+/// The `--json` report at single values as ordered figures: the points of the worst case
+/// over ranges ([`super::worst`]).
+///
+/// # Errors
+///
+/// As a single-value run.
+pub fn figures(a: &Args) -> Result<Figures, CliError> {
+    figures_of(&report(a)?)
+}
+
+fn report(a: &Args) -> Result<Report, CliError> {
+    compute(a).map_err(|e| CliError::from_lenz(e, FLAGS))
+}
+
 /// Runs `lenz coil`.
 ///
 /// # Errors
 ///
 /// Bad or unreachable input, with the flag named.
 pub fn run(a: &Args) -> Result<ExitCode, CliError> {
-    let r = compute(a).map_err(|e| CliError::from_lenz(e, FLAGS))?;
+    let r = report(a)?;
     if a.json {
         println!(
             "{}",

@@ -11,3 +11,4 @@ pub mod sweep;
 pub mod table;
 pub mod trip;
 pub mod turnoff;
+pub mod worst;
