@@ -172,6 +172,24 @@ mod tests {
         }
     }
 
+    proptest::proptest! {
+        #[test]
+        fn any_text_is_a_range_or_an_error(text in "\\PC{0,24}") {
+            let _ = parse(&text, henry);
+        }
+
+        #[test]
+        fn typed_ends_come_back(a in -1e6f64..1e6, b in -1e6f64..1e6) {
+            let (lo, hi) = if a <= b { (a, b) } else { (b, a) };
+            let r = parse(&format!("{lo}..{hi}"), henry).unwrap();
+            proptest::prop_assert_eq!((r.min, r.max), (lo, hi));
+            if lo < hi {
+                let e = parse(&format!("{hi}..{lo}"), henry).unwrap_err();
+                proptest::prop_assert!(e.0.contains("empty range"));
+            }
+        }
+    }
+
     #[test]
     fn single_values_are_not_ranges() {
         for s in ["12", "45m", "-20", "1e-3", "4.7uF", "1.5"] {
