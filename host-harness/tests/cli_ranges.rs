@@ -396,6 +396,32 @@ fn bad_ranges_exit_2_naming_the_flag() {
         ],
         "--current",
     );
+    // More than 8 ranged flags at once (at least 3^9 single-value runs) is refused.
+    let e = assert_exit2(
+        &[
+            "boost",
+            "--vin",
+            "4.5..5.5",
+            "--vout",
+            "11..12",
+            "--iout",
+            "0.4..0.5",
+            "--inductance",
+            "10u±20%",
+            "--frequency",
+            "450k..550k",
+            "--diode-drop",
+            "0.3..0.4",
+            "--dcr",
+            "40m±20%",
+            "--rds-on",
+            "25m±20%",
+            "--cout",
+            "22u±20%",
+        ],
+        "at most 8 flags take ranges at once, 9 given",
+    );
+    assert!(e.contains("--vin") && e.contains("--cout"), "{e}");
     assert_exit2(
         &[
             "trip-threshold",
