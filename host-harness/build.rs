@@ -48,6 +48,11 @@ fn main() {
         "offtimer",
         "offtimer_planned",
         "trip",
+        "movement",
+        "speed",
+        "jam",
+        "bridge",
+        "boost_driver",
     ] {
         let file = format!("{name}.rs");
         let src = std::fs::read_to_string(all.join(&file)).expect("generated vectors");

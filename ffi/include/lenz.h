@@ -7,6 +7,22 @@
 #include <stdbool.h>
 #include <stdint.h>
 
+// Words of `LenzBoostLoopConfig`.
+#define LENZ_BOOST_LOOP_CONFIG_WORDS 106
+
+// Words of `LenzBoostLoopState`.
+#define LENZ_BOOST_LOOP_STATE_WORDS 6
+
+// The same storage in 64-bit words (the state holds a 64-bit integrator, so its storage is
+// aligned for one).
+#define LENZ_BOOST_LOOP_STATE_DWORDS 3
+
+// Words of `LenzBridgeGuardConfig`.
+#define LENZ_BRIDGE_GUARD_CONFIG_WORDS 4
+
+// Words of `LenzBridgeGuardState`.
+#define LENZ_BRIDGE_GUARD_STATE_WORDS 2
+
 // Words of `LenzDutyLimiterConfig`.
 #define LENZ_DUTY_LIMITER_CONFIG_WORDS 103
 
@@ -22,11 +38,23 @@
 // Words of `LenzEstimatorState`.
 #define LENZ_ESTIMATOR_STATE_WORDS 2
 
+// Words of `LenzJamConfig`.
+#define LENZ_JAM_CONFIG_WORDS 8
+
+// Words of `LenzJamState`.
+#define LENZ_JAM_STATE_WORDS 5
+
 // Words of `LenzMonitorConfig`.
 #define LENZ_MONITOR_CONFIG_WORDS 9
 
 // Words of `LenzMonitorState`.
 #define LENZ_MONITOR_STATE_WORDS 4
+
+// Words of `LenzMovementConfig`.
+#define LENZ_MOVEMENT_CONFIG_WORDS 6
+
+// Words of `LenzMovementState`.
+#define LENZ_MOVEMENT_STATE_WORDS 4
 
 // Words of `LenzTrackingOffTimerConfig`.
 #define LENZ_TRACKING_OFFTIMER_CONFIG_WORDS 10
@@ -39,6 +67,12 @@
 
 // Breakpoints of a planned off-timer table.
 #define LENZ_PLANNED_TABLE_LEN 16
+
+// Words of `LenzSpeedEstimatorConfig`.
+#define LENZ_SPEED_ESTIMATOR_CONFIG_WORDS 4
+
+// Words of `LenzSpeedEstimatorState`.
+#define LENZ_SPEED_ESTIMATOR_STATE_WORDS 3
 
 // Words of `LenzTripConfig`.
 #define LENZ_TRIP_CONFIG_WORDS 176
@@ -73,6 +107,56 @@ typedef int32_t LenzStatus;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
+// The bridge's switch pattern (Rust: `lenz::kernel::BridgeMode`).
+enum LenzBridgeMode
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // All switches off.
+  LENZ_BRIDGE_MODE_COAST = 0,
+  // Leg A switching at the duty, leg B low side on.
+  LENZ_BRIDGE_MODE_FORWARD = 1,
+  // Leg B switching at the duty, leg A low side on.
+  LENZ_BRIDGE_MODE_REVERSE = 2,
+  // Both low sides on.
+  LENZ_BRIDGE_MODE_BRAKE = 3,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzBridgeMode LenzBridgeMode;
+#else
+typedef uint8_t LenzBridgeMode;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// The verdict of one tick (Rust: `lenz::kernel::JamStatus`, the fault's cause flattened in).
+enum LenzJamStatus
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // Not driven: nothing judged.
+  LENZ_JAM_STATUS_IDLE = 0,
+  // Within the start blanking.
+  LENZ_JAM_STATUS_BLANKING = 1,
+  // Driven and judged healthy this tick.
+  LENZ_JAM_STATUS_RUNNING = 2,
+  // Latched: current high and rotor (nearly) still.
+  LENZ_JAM_STATUS_FAULT_JAM = 3,
+  // Latched: current above the overload level for longer than allowed.
+  LENZ_JAM_STATUS_FAULT_OVERLOAD = 4,
+  // Latched: no current although the bridge drives.
+  LENZ_JAM_STATUS_FAULT_OPEN_WINDING = 5,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzJamStatus LenzJamStatus;
+#else
+typedef uint8_t LenzJamStatus;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
 // The monitor's finding (Rust: `Option<lenz::kernel::Fault>`).
 enum LenzFault
 #if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
@@ -95,6 +179,37 @@ enum LenzFault
 typedef enum LenzFault LenzFault;
 #else
 typedef uint8_t LenzFault;
+#endif // __STDC_VERSION__ >= 202311L
+#endif // __cplusplus
+
+// What the detector says (Rust: the variants of `lenz::kernel::Motion`).
+enum LenzMotionKind
+#if defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+  : uint8_t
+#endif // defined(__cplusplus) || __STDC_VERSION__ >= 202311L
+ {
+  // Not watching.
+  LENZ_MOTION_KIND_IDLE = 0,
+  // Pull-in: no motion seen yet.
+  LENZ_MOTION_KIND_WAITING = 1,
+  // Pull-in: the current fell from its peak (the armature moves).
+  LENZ_MOTION_KIND_MOVING = 2,
+  // Pull-in: the armature seated at `tick` (the valley of the dip).
+  LENZ_MOTION_KIND_SEATED = 3,
+  // Pull-in: no seating by the deadline (stuck, already closed, or too slow): a fault.
+  LENZ_MOTION_KIND_NO_MOTION = 4,
+  // Release: the current decays, no drop-out seen yet.
+  LENZ_MOTION_KIND_DECAYING = 5,
+  // Release: the armature left the closed stop at `tick` (the minimum before the rise).
+  LENZ_MOTION_KIND_DROPPED_OUT = 6,
+  // Release: no drop-out seen by the release deadline.
+  LENZ_MOTION_KIND_NO_DROP_OUT = 7,
+};
+#ifndef __cplusplus
+#if __STDC_VERSION__ >= 202311L
+typedef enum LenzMotionKind LenzMotionKind;
+#else
+typedef uint8_t LenzMotionKind;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
@@ -165,10 +280,10 @@ typedef uint8_t LenzCause;
 #endif // __STDC_VERSION__ >= 202311L
 #endif // __cplusplus
 
-// Duty limiter coefficients (opaque; fill with `lenz_duty_limiter_init`).
+// Boost loop settings (opaque; fill with `lenz_boost_loop_init`). Read-only after init.
 typedef struct {
-  uint32_t opaque[LENZ_DUTY_LIMITER_CONFIG_WORDS];
-} LenzDutyLimiterConfig;
+  uint32_t opaque[LENZ_BOOST_LOOP_CONFIG_WORDS];
+} LenzBoostLoopConfig;
 
 // The raw coefficients of the duty limiter, as a constant can hold them (Rust:
 // `lenz::kernel::DutyLimiterRaw`).
@@ -202,6 +317,62 @@ typedef struct {
   // Output reading at or below which switching resumes, counts.
   uint16_t ov_resume_counts;
 } LenzDutyLimiterRaw;
+
+// The raw settings of the boost loop, as a constant can hold them (Rust:
+// `lenz::drive::BoostLoopRaw`).
+typedef struct {
+  // The duty limiter behind the loop.
+  LenzDutyLimiterRaw limiter;
+  // The output reading of the wanted voltage, counts.
+  uint16_t target_counts;
+  // Proportional gain, duty counts per output count, Q16.
+  int32_t kp_q16;
+  // Integral gain, duty counts per output count per tick, Q16.
+  int32_t ki_q16;
+} LenzBoostLoopRaw;
+
+// One channel's boost loop state (opaque; fill with `lenz_boost_loop_state_init`).
+typedef struct {
+  uint64_t opaque[LENZ_BOOST_LOOP_STATE_DWORDS];
+} LenzBoostLoopState;
+
+// Bridge guard limits (opaque; fill with `lenz_bridge_guard_init`). Read-only after init.
+typedef struct {
+  uint32_t opaque[LENZ_BRIDGE_GUARD_CONFIG_WORDS];
+} LenzBridgeGuardConfig;
+
+// The raw limits of the bridge guard, as a constant can hold them (Rust:
+// `lenz::kernel::BridgeGuardRaw`).
+typedef struct {
+  // Largest duty rise per tick, Q16 (65536 or more: no soft start).
+  int32_t slew_q16;
+  // Brake allowed at or below this speed magnitude, mrad/s.
+  int32_t brake_speed_mrad_s;
+  // Reversal allowed at or below this speed magnitude, mrad/s.
+  int32_t reverse_speed_mrad_s;
+  // Ticks in coast between two driven modes.
+  uint16_t dead_ticks;
+  // Coasting ticks between one-tick brake probes; 0 for none.
+  uint16_t probe_ticks;
+} LenzBridgeGuardRaw;
+
+// One channel's bridge guard state (opaque; fill with `lenz_bridge_guard_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_BRIDGE_GUARD_STATE_WORDS];
+} LenzBridgeGuardState;
+
+// What the bridge does during the next tick (Rust: `lenz::kernel::BridgeCommand`).
+typedef struct {
+  // Switch pattern.
+  LenzBridgeMode mode;
+  // Duty of the switching leg in forward and reverse, `0 ..= 65536` (Q16); 0 otherwise.
+  int32_t duty_q16;
+} LenzBridgeCommand;
+
+// Duty limiter coefficients (opaque; fill with `lenz_duty_limiter_init`).
+typedef struct {
+  uint32_t opaque[LENZ_DUTY_LIMITER_CONFIG_WORDS];
+} LenzDutyLimiterConfig;
 
 // One channel's duty limiter state (opaque; fill with `lenz_duty_limiter_state_init`).
 typedef struct {
@@ -242,6 +413,37 @@ typedef struct {
 typedef struct {
   uint32_t opaque[LENZ_ESTIMATOR_STATE_WORDS];
 } LenzEstimatorState;
+
+// Jam detector thresholds (opaque; fill with `lenz_jam_init`). Read-only after init.
+typedef struct {
+  uint32_t opaque[LENZ_JAM_CONFIG_WORDS];
+} LenzJamConfig;
+
+// The raw thresholds of the jam detector, as a constant can hold them (Rust:
+// `lenz::kernel::JamRaw`).
+typedef struct {
+  // Jam current threshold, µA.
+  int32_t jam_current_ua;
+  // Jam speed threshold, mrad/s.
+  int32_t jam_speed_mrad_s;
+  // Consecutive ticks for a jam or an open winding.
+  uint32_t persist_ticks;
+  // Ticks blanked after each start.
+  uint32_t blank_ticks;
+  // Overload current threshold, µA; `INT32_MAX` for none.
+  int32_t overload_current_ua;
+  // Consecutive ticks for an overload.
+  uint32_t overload_ticks;
+  // Open-winding current threshold, µA; negative for none.
+  int32_t open_current_ua;
+  // Smallest duty magnitude judged for an open winding, Q16.
+  int32_t open_duty_q16;
+} LenzJamRaw;
+
+// One channel's jam detector state (opaque; fill with `lenz_jam_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_JAM_STATE_WORDS];
+} LenzJamState;
 
 // Monitor thresholds (opaque; fill with `lenz_monitor_init`). Read-only after init.
 typedef struct {
@@ -287,6 +489,42 @@ typedef struct {
   uint32_t opaque[LENZ_MONITOR_STATE_WORDS];
 } LenzMonitorState;
 
+// Movement detector thresholds (opaque; fill with `lenz_movement_init`). Read-only after init.
+typedef struct {
+  uint32_t opaque[LENZ_MOVEMENT_CONFIG_WORDS];
+} LenzMovementConfig;
+
+// The raw thresholds of the movement detector, as a constant can hold them (Rust:
+// `lenz::kernel::MovementRaw`).
+typedef struct {
+  // A fall below the peak, or a rise above a minimum, counts only beyond this, µA.
+  int32_t hysteresis_ua;
+  // Consecutive samples beyond the hysteresis needed to decide (0 acts as 1).
+  uint16_t persistence;
+  // A pull-in peak below this is not the start of motion, µA.
+  int32_t min_peak_ua;
+  // A release minimum below this is not a drop-out, µA.
+  int32_t min_release_ua;
+  // Updates after start without seating before `LENZ_MOTION_KIND_NO_MOTION`, ticks.
+  uint32_t deadline_ticks;
+  // Updates after release without drop-out before `LENZ_MOTION_KIND_NO_DROP_OUT`, ticks.
+  uint32_t release_deadline_ticks;
+} LenzMovementRaw;
+
+// One channel's movement detector state (opaque; fill with `lenz_movement_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_MOVEMENT_STATE_WORDS];
+} LenzMovementState;
+
+// The detector's verdict (Rust: `lenz::kernel::Motion`).
+typedef struct {
+  // The verdict.
+  LenzMotionKind kind;
+  // For `SEATED` and `DROPPED_OUT`: the tick of the event, counted from 0 at the first
+  // update after start or release; 0 otherwise.
+  uint32_t tick;
+} LenzMotion;
+
 // One channel's off-timer state, either mode (opaque; fill with `lenz_offtimer_state_init`).
 typedef struct {
   uint32_t opaque[LENZ_OFFTIMER_STATE_WORDS];
@@ -323,6 +561,29 @@ typedef struct {
   // Ticks from switch-off to release for a current at or below each breakpoint.
   uint32_t ticks[LENZ_PLANNED_TABLE_LEN];
 } LenzPlannedOffTimerRaw;
+
+// Speed estimator coefficients (opaque; fill with `lenz_speed_estimator_init`).
+typedef struct {
+  uint32_t opaque[LENZ_SPEED_ESTIMATOR_CONFIG_WORDS];
+} LenzSpeedEstimatorConfig;
+
+// The raw coefficients of the speed estimator, as a constant can hold them (Rust:
+// `lenz::kernel::SpeedEstimatorRaw`).
+typedef struct {
+  // `G₁ = R/(1 − a)`, weight of the current at the tick's end, mV per µA, Q24.
+  int32_t gain_end_q24;
+  // `G₀ = R·a/(1 − a)`, weight of the current at the tick's start, mV per µA, Q24.
+  int32_t gain_start_q24;
+  // `1/k`, mrad/s per mV, Q16.
+  int32_t inv_k_q16;
+  // Low-pass step `1 − e^(−T/τ)`, Q31; `INT32_MAX` for no filter.
+  int32_t filter_q31;
+} LenzSpeedEstimatorRaw;
+
+// One channel's speed estimator state (opaque; fill with `lenz_speed_estimator_state_init`).
+typedef struct {
+  uint32_t opaque[LENZ_SPEED_ESTIMATOR_STATE_WORDS];
+} LenzSpeedEstimatorState;
 
 // Trip detector settings (opaque; fill with `lenz_trip_init`).
 typedef struct {
@@ -424,6 +685,91 @@ typedef struct {
 #ifdef __cplusplus
 extern "C" {
 #endif // __cplusplus
+
+// Fills `cfg_out` from raw settings (Rust: `BoostLoopConfig::from_raw`). Any values are
+// accepted.
+//
+// # Safety
+//
+// Each pointer is null or valid: `raw` readable, `cfg_out` writable; they do not overlap.
+LenzStatus lenz_boost_loop_init(LenzBoostLoopConfig *cfg_out, const LenzBoostLoopRaw *raw);
+
+// Writes the raw settings of `cfg` to `raw_out` (Rust: `BoostLoopConfig::raw`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` initialised by `lenz_boost_loop_init`, `raw_out`
+// writable; they do not overlap.
+LenzStatus lenz_boost_loop_raw(const LenzBoostLoopConfig *cfg, LenzBoostLoopRaw *raw_out);
+
+// A channel at duty 0, integrator empty, soft start from 0 (Rust: `BoostLoopState::new`, the
+// state `BoostLoop::new` starts with).
+//
+// # Safety
+//
+// `state_out` is null or writable.
+LenzStatus lenz_boost_loop_state_init(LenzBoostLoopState *state_out);
+
+// One control tick (Rust: `BoostLoop::update`): `enable`, the input and output readings,
+// counts; writes the duty for the next tick, counts of the limiter's full scale (0 when
+// disabled, cut on overvoltage or a reading outside its window).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised, `duty_out` writable; they do
+// not overlap.
+LenzStatus lenz_boost_loop_update(const LenzBoostLoopConfig *cfg,
+                                  LenzBoostLoopState *state,
+                                  bool enable,
+                                  uint16_t vin_counts,
+                                  uint16_t vout_counts,
+                                  uint16_t *duty_out);
+
+// Whether the overvoltage cut is active (Rust: `BoostLoop::overvoltage`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised, `overvoltage_out` writable.
+LenzStatus lenz_boost_loop_state_overvoltage(const LenzBoostLoopConfig *cfg,
+                                             const LenzBoostLoopState *state,
+                                             bool *overvoltage_out);
+
+// Fills `cfg_out` from raw limits (Rust: `BridgeGuardConfig::from_raw`). Any values are
+// accepted.
+//
+// # Safety
+//
+// Each pointer is null or valid: `raw` readable, `cfg_out` writable; they do not overlap.
+LenzStatus lenz_bridge_guard_init(LenzBridgeGuardConfig *cfg_out, const LenzBridgeGuardRaw *raw);
+
+// Writes the raw limits of `cfg` to `raw_out` (Rust: `BridgeGuardConfig::raw`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` initialised by `lenz_bridge_guard_init`, `raw_out`
+// writable; they do not overlap.
+LenzStatus lenz_bridge_guard_raw(const LenzBridgeGuardConfig *cfg, LenzBridgeGuardRaw *raw_out);
+
+// A channel coasting for long enough (Rust: `BridgeGuardState::new`). Only for a bridge that
+// has really been off for at least the dead time.
+//
+// # Safety
+//
+// `state_out` is null or writable.
+LenzStatus lenz_bridge_guard_state_init(LenzBridgeGuardState *state_out);
+
+// One tick (Rust: `BridgeGuardConfig::update`): the wanted duty, Q16 signed by direction (0:
+// stop), and the speed estimate, mrad/s; writes the command for the next tick.
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised, `command_out` writable; they
+// do not overlap.
+LenzStatus lenz_bridge_guard_update(const LenzBridgeGuardConfig *cfg,
+                                    LenzBridgeGuardState *state,
+                                    int32_t request_q16,
+                                    int32_t speed_mrad_s,
+                                    LenzBridgeCommand *command_out);
 
 // Fills `cfg_out` from raw coefficients (Rust: `DutyLimiterConfig::from_raw`). Any values
 // are accepted; a table index outside the tables reads as limit 0.
@@ -556,6 +902,43 @@ LenzStatus lenz_estimator_update(const LenzEstimatorConfig *cfg,
                                  int32_t supply_mv,
                                  int32_t *current_ua_out);
 
+// Fills `cfg_out` from raw thresholds (Rust: `JamConfig::from_raw`). Any values are accepted.
+//
+// # Safety
+//
+// Each pointer is null or valid: `raw` readable, `cfg_out` writable; they do not overlap.
+LenzStatus lenz_jam_init(LenzJamConfig *cfg_out, const LenzJamRaw *raw);
+
+// Writes the raw thresholds of `cfg` to `raw_out` (Rust: `JamConfig::raw`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` initialised by `lenz_jam_init`, `raw_out` writable;
+// they do not overlap.
+LenzStatus lenz_jam_raw(const LenzJamConfig *cfg, LenzJamRaw *raw_out);
+
+// A channel not driven, no fault (Rust: `JamState::new`; also the reset after a fault).
+//
+// # Safety
+//
+// `state_out` is null or writable.
+LenzStatus lenz_jam_state_init(LenzJamState *state_out);
+
+// One tick (Rust: `JamConfig::update`): the bridge duty during the tick, Q16 signed by
+// direction (0: not driven), the winding current, µA, and the speed estimate, mrad/s; writes
+// the verdict (a fault repeats until `lenz_jam_state_init`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised, `status_out` writable; they
+// do not overlap.
+LenzStatus lenz_jam_update(const LenzJamConfig *cfg,
+                           LenzJamState *state,
+                           int32_t duty_q16,
+                           int32_t current_ua,
+                           int32_t speed_mrad_s,
+                           LenzJamStatus *status_out);
+
 // Fills `cfg_out` from raw thresholds (Rust: `MonitorConfig::from_raw`).
 //
 // # Safety
@@ -615,6 +998,57 @@ LenzStatus lenz_monitor_update(const LenzMonitorConfig *cfg,
                                int32_t estimate_ua,
                                uint16_t counts,
                                LenzFault *fault_out);
+
+// Fills `cfg_out` from raw thresholds (Rust: `MovementConfig::from_raw`). Any values are
+// accepted: wrong ones make the detector wrong, never overflow.
+//
+// # Safety
+//
+// Each pointer is null or valid: `raw` readable, `cfg_out` writable; they do not overlap.
+LenzStatus lenz_movement_init(LenzMovementConfig *cfg_out, const LenzMovementRaw *raw);
+
+// Writes the raw thresholds of `cfg` to `raw_out` (Rust: `MovementConfig::raw`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` initialised by `lenz_movement_init`, `raw_out`
+// writable; they do not overlap.
+LenzStatus lenz_movement_raw(const LenzMovementConfig *cfg, LenzMovementRaw *raw_out);
+
+// An idle channel (Rust: `MovementState::new`).
+//
+// # Safety
+//
+// `state_out` is null or writable.
+LenzStatus lenz_movement_state_init(LenzMovementState *state_out);
+
+// Starts watching a pull-in: call at switch-on, before the first update (Rust:
+// `MovementConfig::start`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised; they do not overlap.
+LenzStatus lenz_movement_start(const LenzMovementConfig *cfg, LenzMovementState *state);
+
+// Starts watching a release: call at switch-off, before the first update (Rust:
+// `MovementConfig::release`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised; they do not overlap.
+LenzStatus lenz_movement_release(const LenzMovementConfig *cfg, LenzMovementState *state);
+
+// One tick (Rust: `MovementConfig::update`): the coil current sampled this tick, µA; writes
+// the verdict (a decided verdict repeats until the next start, release or init).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised, `motion_out` writable; they
+// do not overlap.
+LenzStatus lenz_movement_update(const LenzMovementConfig *cfg,
+                                LenzMovementState *state,
+                                int32_t current_ua,
+                                LenzMotion *motion_out);
 
 // An idle timer: reports `LENZ_OFF_STATUS_NOT_YET` until started (Rust:
 // `OffTimerState::new`).
@@ -741,6 +1175,69 @@ LenzStatus lenz_planned_offtimer_update(const LenzPlannedOffTimerConfig *cfg,
                                         LenzOffTimerState *state,
                                         LenzOffStatus *status_out);
 
+// Fills `cfg_out` from raw coefficients (Rust: `SpeedEstimatorConfig::from_raw`). Any values
+// are accepted: the update saturates.
+//
+// # Safety
+//
+// Each pointer is null or valid: `raw` readable, `cfg_out` writable; they do not overlap.
+LenzStatus lenz_speed_estimator_init(LenzSpeedEstimatorConfig *cfg_out,
+                                     const LenzSpeedEstimatorRaw *raw);
+
+// Writes the raw coefficients of `cfg` to `raw_out` (Rust: `SpeedEstimatorConfig::raw`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` initialised by `lenz_speed_estimator_init`,
+// `raw_out` writable; they do not overlap.
+LenzStatus lenz_speed_estimator_raw(const LenzSpeedEstimatorConfig *cfg,
+                                    LenzSpeedEstimatorRaw *raw_out);
+
+// Starts a channel at a known current, µA, and speed, mrad/s (0 and 0 for a motor at rest;
+// Rust: `SpeedEstimatorState::with_current_ua`).
+//
+// # Safety
+//
+// `state_out` is null or writable.
+LenzStatus lenz_speed_estimator_state_init(LenzSpeedEstimatorState *state_out,
+                                           int32_t current_ua,
+                                           int32_t speed_mrad_s);
+
+// The channel's present speed estimate, mrad/s (Rust: `SpeedEstimatorState::speed_mrad_s`).
+//
+// # Safety
+//
+// Each pointer is null or valid: `state` initialised, `speed_mrad_s_out` writable.
+LenzStatus lenz_speed_estimator_state_speed_mrad_s(const LenzSpeedEstimatorState *state,
+                                                   int32_t *speed_mrad_s_out);
+
+// One driven or braked tick (Rust: `SpeedEstimatorConfig::update`): the duty held during the
+// tick that ends now, Q16 signed by direction (0 for a brake tick), the supply then, mV, and
+// the winding current at the end of the tick, µA; writes the speed estimate, mrad/s.
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised, `speed_mrad_s_out`
+// writable; they do not overlap.
+LenzStatus lenz_speed_estimator_update(const LenzSpeedEstimatorConfig *cfg,
+                                       LenzSpeedEstimatorState *state,
+                                       int32_t duty_q16,
+                                       int32_t supply_mv,
+                                       int32_t current_ua,
+                                       int32_t *speed_mrad_s_out);
+
+// A coasting tick, the applied voltage unknown (Rust: `SpeedEstimatorConfig::hold`): keeps
+// the estimate, records the current, µA; writes the kept estimate, mrad/s.
+//
+// # Safety
+//
+// Each pointer is null or valid: `cfg` and `state` initialised, `speed_mrad_s_out`
+// writable; they do not overlap.
+LenzStatus lenz_speed_estimator_hold(const LenzSpeedEstimatorConfig *cfg,
+                                     LenzSpeedEstimatorState *state,
+                                     int32_t current_ua,
+                                     int32_t *speed_mrad_s_out);
+
 // Fills `cfg_out` from raw settings (Rust: `TripConfig::from_raw`). Any values are
 // accepted: out-of-range persistence is clamped to `1 ..= 32`, the block to at most 5.
 //
@@ -844,5 +1341,25 @@ LENZ_STATIC_ASSERT(sizeof(LenzVerdictKind) == 1, lenz_size_of_LenzVerdictKind);
 LENZ_STATIC_ASSERT(sizeof(LenzTripEvent) == 8, lenz_size_of_LenzTripEvent);
 LENZ_STATIC_ASSERT(sizeof(LenzVerdict) == 12, lenz_size_of_LenzVerdict);
 LENZ_STATIC_ASSERT(sizeof(LenzTripStateInfo) == 16, lenz_size_of_LenzTripStateInfo);
+LENZ_STATIC_ASSERT(sizeof(LenzMovementRaw) == 24, lenz_size_of_LenzMovementRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzMovementConfig) == 24, lenz_size_of_LenzMovementConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzMovementState) == 16, lenz_size_of_LenzMovementState);
+LENZ_STATIC_ASSERT(sizeof(LenzMotionKind) == 1, lenz_size_of_LenzMotionKind);
+LENZ_STATIC_ASSERT(sizeof(LenzMotion) == 8, lenz_size_of_LenzMotion);
+LENZ_STATIC_ASSERT(sizeof(LenzSpeedEstimatorRaw) == 16, lenz_size_of_LenzSpeedEstimatorRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzSpeedEstimatorConfig) == 16, lenz_size_of_LenzSpeedEstimatorConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzSpeedEstimatorState) == 12, lenz_size_of_LenzSpeedEstimatorState);
+LENZ_STATIC_ASSERT(sizeof(LenzJamRaw) == 32, lenz_size_of_LenzJamRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzJamConfig) == 32, lenz_size_of_LenzJamConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzJamState) == 20, lenz_size_of_LenzJamState);
+LENZ_STATIC_ASSERT(sizeof(LenzJamStatus) == 1, lenz_size_of_LenzJamStatus);
+LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardRaw) == 16, lenz_size_of_LenzBridgeGuardRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardConfig) == 16, lenz_size_of_LenzBridgeGuardConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardState) == 8, lenz_size_of_LenzBridgeGuardState);
+LENZ_STATIC_ASSERT(sizeof(LenzBridgeMode) == 1, lenz_size_of_LenzBridgeMode);
+LENZ_STATIC_ASSERT(sizeof(LenzBridgeCommand) == 8, lenz_size_of_LenzBridgeCommand);
+LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopRaw) == 424, lenz_size_of_LenzBoostLoopRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopConfig) == 424, lenz_size_of_LenzBoostLoopConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopState) == 24, lenz_size_of_LenzBoostLoopState);
 
 #endif /* LENZ_H */

@@ -2,7 +2,10 @@
 //! `include/lenz.h`, generated from this crate with cbindgen.
 //!
 //! Every kernel of [`lenz::kernel`] is here: the coil current estimator, the plausibility
-//! monitor, the tracking and planned off-timers, the boost duty limiter and the trip detector.
+//! monitor, the tracking and planned off-timers, the boost duty limiter, the trip detector,
+//! the armature movement detector, the motor speed estimator, the jam detector and the
+//! H-bridge guard; and the boost duty loop of [`lenz::drive`] (`lenz_boost_loop_…`: the duty
+//! to write comes back from each tick, the firmware owns the PWM).
 //! Each has the same C shape as its Rust original:
 //!
 //! | C | Rust | Memory |
@@ -56,13 +59,46 @@
 #[cfg(not(target_os = "none"))]
 extern crate std;
 
+mod boost_loop;
+mod bridge;
 mod duty;
 mod estimator;
+mod jam;
 mod monitor;
+mod movement;
 mod offtimer;
 mod opaque;
+mod speed;
 mod status;
 mod trip;
+
+pub use boost_loop::{
+    LENZ_BOOST_LOOP_CONFIG_WORDS, LENZ_BOOST_LOOP_STATE_DWORDS, LENZ_BOOST_LOOP_STATE_WORDS,
+    LenzBoostLoopConfig, LenzBoostLoopRaw, LenzBoostLoopState, lenz_boost_loop_init,
+    lenz_boost_loop_raw, lenz_boost_loop_state_init, lenz_boost_loop_state_overvoltage,
+    lenz_boost_loop_update,
+};
+pub use bridge::{
+    LENZ_BRIDGE_GUARD_CONFIG_WORDS, LENZ_BRIDGE_GUARD_STATE_WORDS, LenzBridgeCommand,
+    LenzBridgeGuardConfig, LenzBridgeGuardRaw, LenzBridgeGuardState, LenzBridgeMode,
+    lenz_bridge_guard_init, lenz_bridge_guard_raw, lenz_bridge_guard_state_init,
+    lenz_bridge_guard_update,
+};
+pub use jam::{
+    LENZ_JAM_CONFIG_WORDS, LENZ_JAM_STATE_WORDS, LenzJamConfig, LenzJamRaw, LenzJamState,
+    LenzJamStatus, lenz_jam_init, lenz_jam_raw, lenz_jam_state_init, lenz_jam_update,
+};
+pub use movement::{
+    LENZ_MOVEMENT_CONFIG_WORDS, LENZ_MOVEMENT_STATE_WORDS, LenzMotion, LenzMotionKind,
+    LenzMovementConfig, LenzMovementRaw, LenzMovementState, lenz_movement_init, lenz_movement_raw,
+    lenz_movement_release, lenz_movement_start, lenz_movement_state_init, lenz_movement_update,
+};
+pub use speed::{
+    LENZ_SPEED_ESTIMATOR_CONFIG_WORDS, LENZ_SPEED_ESTIMATOR_STATE_WORDS, LenzSpeedEstimatorConfig,
+    LenzSpeedEstimatorRaw, LenzSpeedEstimatorState, lenz_speed_estimator_hold,
+    lenz_speed_estimator_init, lenz_speed_estimator_raw, lenz_speed_estimator_state_init,
+    lenz_speed_estimator_state_speed_mrad_s, lenz_speed_estimator_update,
+};
 
 pub use duty::{
     LENZ_DUTY_LIMITER_CONFIG_WORDS, LENZ_DUTY_LIMITER_STATE_WORDS, LENZ_DUTY_TABLE_LEN,

@@ -12,7 +12,8 @@
 //! 7. the C API's checks ([`ffi`]): `liblenz_ffi.a` for the Cortex-M targets, the C firmware
 //!    example on the vectors under qemu, the no-panic link check and the code sizes
 //!
-//! `cargo test --workspace` alone stays the quick host-only run.
+//! `cargo test --workspace` alone stays the quick host-only run; `cargo xtask target` runs step 6
+//! alone and `cargo xtask ffi` step 7.
 
 mod ffi;
 mod target;
@@ -107,9 +108,11 @@ fn main() -> ExitCode {
             }
             r
         }
+        // The target checks alone (step 6: builds, on-target vectors, disassembly, budgets).
+        Some("target") => target::checks(),
         // The C API's target checks alone (they need the firmware tools `test` installs).
         Some("ffi") => ffi::checks(),
-        _ => Err("usage: cargo xtask test | cargo xtask ffi".to_string()),
+        _ => Err("usage: cargo xtask test | cargo xtask target | cargo xtask ffi".to_string()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -3,12 +3,16 @@
 //! 1. the format of the target-only crate, and the prerequisites: the firmware toolchain, installed with apt-get when missing and running
 //!    as root on Debian, otherwise a stop with the exact packages to install (never skipped);
 //! 2. `lenz` built for thumbv6m-none-eabi, thumbv7m-none-eabi and thumbv7em-none-eabihf,
-//!    with no features and with `defmt`;
-//! 3. the on-target test image on each emulated core: every kernel on the host's vectors, bit
-//!    for bit (a difference fails naming the kernel and the vector);
-//! 4. the disassembly check: no soft-float and no division in any kernel's call graph (required
-//!    on thumbv6m, where both would be library calls; run on all three);
+//!    with no features and with `defmt` (the `drive` module has no feature gate: it is in both
+//!    builds, and its drivers are instantiated on a PWM in the images);
+//! 3. the on-target test images (`check`, `check2`) on each emulated core: every kernel and
+//!    driver tick on the host's vectors, bit for bit (a difference fails naming the kernel and
+//!    the vector);
+//! 4. the disassembly check: no soft-float and no division in any kernel's or driver tick's
+//!    call graph (required on thumbv6m, where both would be library calls; run on all three);
 //! 5. `lenz cost` on each core and the committed budget (`benches/target/budget.json`).
+//!
+//! `cargo xtask target` runs these steps alone.
 
 use std::path::Path;
 use std::process::Command;
@@ -16,7 +20,7 @@ use std::time::Instant;
 
 use lenz_harness::firmware::disasm::Disassembly;
 use lenz_harness::firmware::{
-    Build, TARGETS, Toolchain, budget, build, check_on_target, cost, target_dir,
+    Build, TARGETS, Toolchain, budget, build, check_images_on_target, cost,
 };
 
 fn timed<T>(name: &str, f: impl FnOnce() -> Result<T, String>) -> Result<T, String> {
@@ -107,37 +111,27 @@ pub fn checks() -> Result<(), String> {
             timed(&name, || build(&tc, t, Build::Lenz { defmt }))?;
         }
     }
-    let mut kernels = std::collections::BTreeMap::new();
+    let mut images = std::collections::BTreeMap::new();
     for t in TARGETS {
         let name = format!("on-target test on {} ({})", t.core(), t.machine());
-        let checked = timed(&name, || check_on_target(&tc, t))?;
-        for k in &checked {
-            println!(
-                "xtask:   {}: {} vectors bit-identical to the host, state {} bytes",
-                k.name, k.vectors, k.state_bytes
-            );
+        let checked = timed(&name, || check_images_on_target(&tc, t))?;
+        for i in &checked {
+            for k in &i.kernels {
+                println!(
+                    "xtask:   {}: {} vectors bit-identical to the host, state {} bytes",
+                    k.name, k.vectors, k.state_bytes
+                );
+            }
         }
-        kernels.insert(t, checked.into_iter().map(|k| k.name).collect::<Vec<_>>());
+        images.insert(t, checked);
     }
     for t in TARGETS {
         let name = format!("disassembly check on {}", t.triple());
         timed(&name, || {
-            let image = target_dir().join(t.triple()).join("release").join("check");
-            let dis = Disassembly::of(&tc, &image)?;
             let mut problems = Vec::new();
-            for k in kernels.get(&t).into_iter().flatten() {
-                let g = dis.graph(&format!("lenz_kernel_{k}"))?;
-                println!(
-                    "xtask:   {}: calls {} ({} code bytes)",
-                    g.root,
-                    if g.functions.len() > 1 {
-                        g.functions[1..].join(", ")
-                    } else {
-                        "nothing".to_string()
-                    },
-                    g.code_bytes
-                );
-                problems.extend(g.problems.iter().map(|p| format!("{}: {p}", g.root)));
+            for i in images.get(&t).into_iter().flatten() {
+                let dis = Disassembly::of(&tc, &i.image)?;
+                problems.extend(graphs(&dis, &i.kernels)?);
             }
             if problems.is_empty() {
                 Ok(())
@@ -162,4 +156,28 @@ pub fn checks() -> Result<(), String> {
             Err(format!("exceeded:\n  {}", v.join("\n  ")))
         }
     })
+}
+
+/// The call graph of each kernel's symbol in an image, printed; the problems found (soft-float
+/// or division helpers).
+fn graphs(
+    dis: &Disassembly,
+    kernels: &[lenz_harness::firmware::KernelCheck],
+) -> Result<Vec<String>, String> {
+    let mut problems = Vec::new();
+    for k in kernels.iter().map(|k| &k.name) {
+        let g = dis.graph(&format!("lenz_kernel_{k}"))?;
+        println!(
+            "xtask:   {}: calls {} ({} code bytes)",
+            g.root,
+            if g.functions.len() > 1 {
+                g.functions[1..].join(", ")
+            } else {
+                "nothing".to_string()
+            },
+            g.code_bytes
+        );
+        problems.extend(g.problems.iter().map(|p| format!("{}: {p}", g.root)));
+    }
+    Ok(problems)
 }

@@ -5,10 +5,16 @@
 //! configurations, driven by a fixed-seed generator; the expected results are what the host
 //! build of lenz computes for the same calls.
 
+mod boost_driver;
+mod bridge;
+mod coil_driver;
 mod duty;
 mod estimator;
+mod jam;
 mod monitor;
+mod movement;
 mod offtimer;
+mod speed;
 mod trip;
 
 use std::fmt::Write as _;
@@ -23,6 +29,12 @@ const GENERATORS: &[(&str, fn() -> String)] = &[
     ("offtimer_planned", offtimer::generate_planned),
     ("trip", trip::generate),
     ("trip_block", trip::generate_block),
+    ("movement", movement::generate),
+    ("speed", speed::generate),
+    ("jam", jam::generate),
+    ("bridge", bridge::generate),
+    ("coil_driver", coil_driver::generate),
+    ("boost_driver", boost_driver::generate),
 ];
 
 /// Writes every kernel's vectors and `generated.rs` (the list of names) into `out`.

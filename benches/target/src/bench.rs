@@ -49,9 +49,20 @@ fn take_countflag() -> bool {
     unsafe { read_volatile(SYST_CSR) & COUNTFLAG != 0 }
 }
 
-/// Ticks taken by `f`, or `None` if the 24-bit counter wrapped (window too long).
+/// Restarts the counter from the top of its range (a write to the current value register
+/// clears it and `COUNTFLAG`; it reloads on the next clock).
+#[inline(always)]
+fn restart() {
+    // SAFETY: write of the SysTick current value register.
+    unsafe { write_volatile(SYST_CVR, 0) }
+}
+
+/// Ticks taken by `f`, or `None` if the 24-bit counter wrapped (window too long: more than
+/// 2²⁴ ticks). Each window starts with the counter restarted, so any window shorter than the
+/// counter's range is measured, wherever the previous runs left it.
 #[inline(always)]
 pub fn ticks(f: impl FnOnce()) -> Option<u32> {
+    restart();
     let _ = take_countflag();
     let t0 = now();
     f();

@@ -156,6 +156,23 @@ where
         })
     }
 
+    /// The loop taken apart: the configuration handle, the output and the state, to keep the
+    /// state apart between ticks ([`BoostLoop::from_parts`]). Writes nothing to the output.
+    pub fn into_parts(self) -> (C, S, BoostLoopState) {
+        (self.cfg, self.out, self.state)
+    }
+
+    /// A loop put back together from [`BoostLoop::into_parts`], for firmware that keeps each
+    /// channel's state apart from the configuration and the output between ticks (the C API
+    /// does: one call per tick). Writes nothing to the output.
+    ///
+    /// *NOTE*: `out` must be the output the state was made with (or one with the same
+    /// `max_duty_cycle`, which [`BoostLoop::new`] checked against the limiter's full scale),
+    /// and its duty must be the state's last written duty.
+    pub const fn from_parts(cfg: C, out: S, state: BoostLoopState) -> Self {
+        Self { cfg, out, state }
+    }
+
     /// Gives the PWM back, as it is (this does not write duty 0).
     pub fn free(self) -> S {
         self.out

@@ -285,6 +285,146 @@ static void run_trip(void) {
     report(n, before, sizeof(LenzTripState));
 }
 
+/* The movement detector: start and release where the host's sequence has them. */
+static void run_movement(void) {
+    uint32_t n = 0, before = failures;
+    kernel = "movement";
+    for (case_index = 0; case_index < MOVEMENT_CASE_COUNT; case_index++) {
+        const MovementCase *c = &MOVEMENT_CASES[case_index];
+        LenzMovementConfig first, cfg;
+        LenzMovementRaw back;
+        LenzMovementState state;
+        step_index = 0;
+        ok(lenz_movement_init(&first, &c->raw));
+        ok(lenz_movement_raw(&first, &back));
+        ok(lenz_movement_init(&cfg, &back));
+        ok(lenz_movement_state_init(&state));
+        for (step_index = 0; step_index < c->len; step_index++) {
+            const MovementStep *s = &c->steps[step_index];
+            LenzMotion got = {0xFF, 0xFFFFFFFFu};
+            if (s->cmd == 1) {
+                ok(lenz_movement_start(&cfg, &state));
+            } else if (s->cmd == 2) {
+                ok(lenz_movement_release(&cfg, &state));
+            }
+            ok(lenz_movement_update(&cfg, &state, s->current_ua, &got));
+            check_u32("kind", got.kind, s->kind);
+            check_u32("tick", got.tick, s->tick);
+            n++;
+        }
+    }
+    report(n, before, sizeof(LenzMovementState));
+}
+
+static void run_speed(void) {
+    uint32_t n = 0, before = failures;
+    kernel = "speed";
+    for (case_index = 0; case_index < SPEED_CASE_COUNT; case_index++) {
+        const SpeedCase *c = &SPEED_CASES[case_index];
+        LenzSpeedEstimatorConfig first, cfg;
+        LenzSpeedEstimatorRaw back;
+        LenzSpeedEstimatorState state;
+        step_index = 0;
+        ok(lenz_speed_estimator_init(&first, &c->raw));
+        ok(lenz_speed_estimator_raw(&first, &back));
+        ok(lenz_speed_estimator_init(&cfg, &back));
+        ok(lenz_speed_estimator_state_init(&state, c->start_current_ua, c->start_speed_mrad_s));
+        for (step_index = 0; step_index < c->len; step_index++) {
+            const SpeedStep *s = &c->steps[step_index];
+            int32_t got = -1, now = -2;
+            if (s->coast) {
+                ok(lenz_speed_estimator_hold(&cfg, &state, s->current_ua, &got));
+            } else {
+                ok(lenz_speed_estimator_update(&cfg, &state, s->duty_q16, s->supply_mv,
+                                               s->current_ua, &got));
+            }
+            ok(lenz_speed_estimator_state_speed_mrad_s(&state, &now));
+            check_i32("speed", got, s->speed_mrad_s);
+            check_i32("state_speed", now, s->speed_mrad_s);
+            n++;
+        }
+    }
+    report(n, before, sizeof(LenzSpeedEstimatorState));
+}
+
+static void run_jam(void) {
+    uint32_t n = 0, before = failures;
+    kernel = "jam";
+    for (case_index = 0; case_index < JAM_CASE_COUNT; case_index++) {
+        const JamCase *c = &JAM_CASES[case_index];
+        LenzJamConfig first, cfg;
+        LenzJamRaw back;
+        LenzJamState state;
+        step_index = 0;
+        ok(lenz_jam_init(&first, &c->raw));
+        ok(lenz_jam_raw(&first, &back));
+        ok(lenz_jam_init(&cfg, &back));
+        ok(lenz_jam_state_init(&state));
+        for (step_index = 0; step_index < c->len; step_index++) {
+            const JamStep *s = &c->steps[step_index];
+            LenzJamStatus got = 0xFF;
+            ok(lenz_jam_update(&cfg, &state, s->duty_q16, s->current_ua, s->speed_mrad_s, &got));
+            check_u32("status", got, s->status);
+            n++;
+        }
+    }
+    report(n, before, sizeof(LenzJamState));
+}
+
+static void run_bridge(void) {
+    uint32_t n = 0, before = failures;
+    kernel = "bridge";
+    for (case_index = 0; case_index < BRIDGE_CASE_COUNT; case_index++) {
+        const BridgeCase *c = &BRIDGE_CASES[case_index];
+        LenzBridgeGuardConfig first, cfg;
+        LenzBridgeGuardRaw back;
+        LenzBridgeGuardState state;
+        step_index = 0;
+        ok(lenz_bridge_guard_init(&first, &c->raw));
+        ok(lenz_bridge_guard_raw(&first, &back));
+        ok(lenz_bridge_guard_init(&cfg, &back));
+        ok(lenz_bridge_guard_state_init(&state));
+        for (step_index = 0; step_index < c->len; step_index++) {
+            const BridgeStep *s = &c->steps[step_index];
+            LenzBridgeCommand got = {0xFF, -1};
+            ok(lenz_bridge_guard_update(&cfg, &state, s->request_q16, s->speed_mrad_s, &got));
+            check_u32("mode", got.mode, s->mode);
+            check_i32("duty_q16", got.duty_q16, s->duty_q16);
+            n++;
+        }
+    }
+    report(n, before, sizeof(LenzBridgeGuardState));
+}
+
+/* The boost loop: the firmware writes the returned duty to its PWM. */
+static void run_boost_loop(void) {
+    uint32_t n = 0, before = failures;
+    kernel = "boost_loop";
+    for (case_index = 0; case_index < BOOST_CASE_COUNT; case_index++) {
+        const BoostCase *c = &BOOST_CASES[case_index];
+        LenzBoostLoopConfig first, cfg;
+        LenzBoostLoopRaw back;
+        LenzBoostLoopState state;
+        step_index = 0;
+        ok(lenz_boost_loop_init(&first, &c->raw));
+        ok(lenz_boost_loop_raw(&first, &back));
+        ok(lenz_boost_loop_init(&cfg, &back));
+        ok(lenz_boost_loop_state_init(&state));
+        for (step_index = 0; step_index < c->len; step_index++) {
+            const BoostStep *s = &c->steps[step_index];
+            uint16_t duty = 0xFFFF;
+            bool ov = !s->overvoltage;
+            ok(lenz_boost_loop_update(&cfg, &state, s->enable != 0, s->vin_counts,
+                                      s->vout_counts, &duty));
+            ok(lenz_boost_loop_state_overvoltage(&cfg, &state, &ov));
+            check_u32("duty", duty, s->duty);
+            check_u32("overvoltage", ov, s->overvoltage);
+            n++;
+        }
+    }
+    report(n, before, sizeof(LenzBoostLoopState));
+}
+
 /* Null pointers are refused with a status on the target as well. */
 static void run_null_pointers(void) {
     uint32_t before = failures;
@@ -302,7 +442,12 @@ static void run_null_pointers(void) {
     check_i32("planned", lenz_planned_offtimer_update(0, 0, &st), LENZ_STATUS_NULL_POINTER);
     check_i32("trip", lenz_trip_update(0, 0, 0, true, &v), LENZ_STATUS_NULL_POINTER);
     check_i32("out", lenz_estimator_raw(0, 0), LENZ_STATUS_NULL_POINTER);
-    report(7, before, 0);
+    check_i32("movement", lenz_movement_update(0, 0, 0, 0), LENZ_STATUS_NULL_POINTER);
+    check_i32("speed", lenz_speed_estimator_update(0, 0, 0, 0, 0, &i), LENZ_STATUS_NULL_POINTER);
+    check_i32("jam", lenz_jam_update(0, 0, 0, 0, 0, 0), LENZ_STATUS_NULL_POINTER);
+    check_i32("bridge", lenz_bridge_guard_update(0, 0, 0, 0, 0), LENZ_STATUS_NULL_POINTER);
+    check_i32("boost_loop", lenz_boost_loop_update(0, 0, true, 0, 0, &d), LENZ_STATUS_NULL_POINTER);
+    report(12, before, 0);
 }
 
 int main(void) {
@@ -312,6 +457,11 @@ int main(void) {
     run_tracking();
     run_planned();
     run_trip();
+    run_movement();
+    run_speed();
+    run_jam();
+    run_bridge();
+    run_boost_loop();
     run_null_pointers();
     sh_puts("DONE failures=");
     sh_put_u32(failures);

@@ -94,6 +94,75 @@ typedef struct {
     LenzTripStateInfo end; /* expected state after the last step */
 } TripCase;
 
+typedef struct {
+    int32_t current_ua;
+    uint32_t tick; /* expected */
+    uint8_t cmd;   /* before the update: 0 none, 1 start, 2 release */
+    uint8_t kind;  /* expected, LENZ_MOTION_KIND_* */
+} MovementStep;
+
+typedef struct {
+    LenzMovementRaw raw;
+    uint32_t len;
+    const MovementStep *steps;
+} MovementCase;
+
+typedef struct {
+    int32_t duty_q16;
+    int32_t supply_mv;
+    int32_t current_ua;
+    int32_t speed_mrad_s; /* expected */
+    uint8_t coast;        /* a coasting tick (hold) */
+} SpeedStep;
+
+typedef struct {
+    LenzSpeedEstimatorRaw raw;
+    int32_t start_current_ua;
+    int32_t start_speed_mrad_s;
+    uint32_t len;
+    const SpeedStep *steps;
+} SpeedCase;
+
+typedef struct {
+    int32_t duty_q16;
+    int32_t current_ua;
+    int32_t speed_mrad_s;
+    uint8_t status; /* expected, LENZ_JAM_STATUS_* */
+} JamStep;
+
+typedef struct {
+    LenzJamRaw raw;
+    uint32_t len;
+    const JamStep *steps;
+} JamCase;
+
+typedef struct {
+    int32_t request_q16;
+    int32_t speed_mrad_s;
+    int32_t duty_q16; /* expected */
+    uint8_t mode;     /* expected, LENZ_BRIDGE_MODE_* */
+} BridgeStep;
+
+typedef struct {
+    LenzBridgeGuardRaw raw;
+    uint32_t len;
+    const BridgeStep *steps;
+} BridgeCase;
+
+typedef struct {
+    uint16_t vin_counts;
+    uint16_t vout_counts;
+    uint16_t duty;        /* expected */
+    uint8_t enable;
+    uint8_t overvoltage;  /* expected after the tick */
+} BoostStep;
+
+typedef struct {
+    LenzBoostLoopRaw raw;
+    uint32_t len;
+    const BoostStep *steps;
+} BoostCase;
+
 extern const EstimatorCase ESTIMATOR_CASES[];
 extern const uint32_t ESTIMATOR_CASE_COUNT;
 extern const MonitorCase MONITOR_CASES[];
@@ -106,5 +175,15 @@ extern const PlannedCase PLANNED_CASES[];
 extern const uint32_t PLANNED_CASE_COUNT;
 extern const TripCase TRIP_CASES[];
 extern const uint32_t TRIP_CASE_COUNT;
+extern const MovementCase MOVEMENT_CASES[];
+extern const uint32_t MOVEMENT_CASE_COUNT;
+extern const SpeedCase SPEED_CASES[];
+extern const uint32_t SPEED_CASE_COUNT;
+extern const JamCase JAM_CASES[];
+extern const uint32_t JAM_CASE_COUNT;
+extern const BridgeCase BRIDGE_CASES[];
+extern const uint32_t BRIDGE_CASE_COUNT;
+extern const BoostCase BOOST_CASES[];
+extern const uint32_t BOOST_CASE_COUNT;
 
 #endif

@@ -37,7 +37,7 @@ pub mod demo;
 pub use adc::AdcChannel;
 
 use crate::faults::{Channel, Fault, FaultAt};
-use crate::plant::{Boost, CoilDrive, SwitchOff};
+use crate::plant::{Boost, CoilDrive, StepUnderflow, SwitchOff};
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use serde::{Deserialize, Serialize};
@@ -168,6 +168,16 @@ pub trait Plant {
     fn switch_offs(&self) -> &[SwitchOff] {
         &[]
     }
+    /// Largest clamp energy and largest switch energy of a single switch-off so far, J.
+    fn worst_switch_off_j(&self) -> (f64, f64) {
+        self.switch_offs().iter().fold((0.0, 0.0), |(c, s), o| {
+            (c.max(o.clamp_j), s.max(o.switch_j))
+        })
+    }
+    /// The integration failure that stopped the plant, if any (a run reports it as an error).
+    fn failure(&self) -> Option<StepUnderflow> {
+        None
+    }
 }
 
 impl Plant for CoilDrive {
@@ -226,6 +236,12 @@ impl Plant for CoilDrive {
     fn switch_offs(&self) -> &[SwitchOff] {
         CoilDrive::switch_offs(self)
     }
+    fn worst_switch_off_j(&self) -> (f64, f64) {
+        CoilDrive::worst_switch_off_j(self)
+    }
+    fn failure(&self) -> Option<StepUnderflow> {
+        CoilDrive::failure(self)
+    }
 }
 
 impl Plant for Boost {
@@ -268,6 +284,9 @@ impl Plant for Boost {
     }
     fn peak_current_a(&self) -> f64 {
         Boost::peak_switch_current_a(self)
+    }
+    fn failure(&self) -> Option<StepUnderflow> {
+        Boost::failure(self)
     }
 }
 
@@ -357,6 +376,8 @@ pub enum RunError {
     Timing(&'static str),
     /// The fault does not apply to this plant.
     UnsupportedFault(Fault),
+    /// The plant's integrator could not make progress.
+    Plant(StepUnderflow),
 }
 
 impl std::fmt::Display for RunError {
@@ -364,6 +385,7 @@ impl std::fmt::Display for RunError {
         match self {
             RunError::Timing(p) => write!(f, "{p}: must be positive and consistent"),
             RunError::UnsupportedFault(x) => write!(f, "fault {x:?} does not apply to this plant"),
+            RunError::Plant(e) => e.fmt(f),
         }
     }
 }
@@ -422,7 +444,7 @@ pub struct RunResult {
     pub waveform: Waveform,
     /// Demand changes, faults, trips.
     pub events: Vec<RunEvent>,
-    /// Every switch-off of the plant.
+    /// The switch-offs the plant kept (every one by default; a scenario run keeps the latest).
     pub switch_offs: Vec<SwitchOff>,
     /// Ticks run.
     pub ticks: u64,
@@ -459,7 +481,8 @@ enum Edge {
 
 const NS: f64 = 1e-9;
 
-fn ns(t_s: f64) -> u64 {
+/// Seconds to whole nanoseconds, as the loop rounds every time it is given.
+pub(crate) fn ns(t_s: f64) -> u64 {
     (t_s / NS).round().max(0.0) as u64
 }
 
@@ -473,7 +496,8 @@ struct Sense {
 /// # Errors
 ///
 /// [`RunError::Timing`] for a zero tick, PWM period or duration, or a sampling instant outside
-/// the tick; [`RunError::UnsupportedFault`] for a plant fault the plant does not model.
+/// the tick; [`RunError::UnsupportedFault`] for a plant fault the plant does not model;
+/// [`RunError::Plant`] when the plant's integrator stopped.
 pub fn run<P: Plant, C: Controller>(
     plant: &mut P,
     ctrl: &mut C,
@@ -530,16 +554,21 @@ pub fn run<P: Plant, C: Controller>(
     // A supply ramp in progress: (start s, end s, from V, to V).
     let mut ramp: Option<(f64, f64, f64, f64)> = None;
     let n_ticks = cfg.duration_ns.div_ceil(cfg.tick_ns);
+    let mut next_demand = 0usize;
+    let mut want = false;
 
     for k in 0..n_ticks {
         let t0 = k * cfg.tick_ns;
         let t0_s = t0 as f64 * NS;
-        let want = cfg
-            .demand
-            .iter()
-            .take_while(|d| ns(d.0) <= t0)
-            .last()
-            .is_some_and(|d| d.1);
+        // The demand in force: the last entry of the prefix of the schedule due by now (one
+        // pass over the schedule for the whole run, not a rescan per tick).
+        while let Some(&(t_d, d)) = cfg.demand.get(next_demand) {
+            if ns(t_d) > t0 {
+                break;
+            }
+            want = d;
+            next_demand += 1;
+        }
         if want != demand {
             events.push(RunEvent {
                 t_s: t0_s,
@@ -711,6 +740,9 @@ pub fn run<P: Plant, C: Controller>(
         releases_open_max = (n_ticks * cfg.tick_ns) as f64 * NS - from;
     }
 
+    if let Some(e) = plant.failure() {
+        return Err(RunError::Plant(e));
+    }
     let offs = plant.switch_offs().to_vec();
     let l = &cfg.limits;
     let mut props = Vec::new();
@@ -726,13 +758,12 @@ pub fn run<P: Plant, C: Controller>(
     if let Some(r) = l.switch_voltage_rating_v {
         add("peak_switch_voltage", plant.peak_switch_v(), r, "V");
     }
+    let (worst_clamp_j, worst_switch_j) = plant.worst_switch_off_j();
     if let Some(r) = l.clamp_energy_rating_j {
-        let v = offs.iter().map(|o| o.clamp_j).fold(0.0, f64::max);
-        add("clamp_energy_per_switch_off", v, r, "J");
+        add("clamp_energy_per_switch_off", worst_clamp_j, r, "J");
     }
     if let Some(r) = l.switch_energy_rating_j {
-        let v = offs.iter().map(|o| o.switch_j).fold(0.0, f64::max);
-        add("switch_energy_per_switch_off", v, r, "J");
+        add("switch_energy_per_switch_off", worst_switch_j, r, "J");
     }
     if let Some(r) = l.switch_current_limit_a {
         add("peak_current", plant.peak_current_a(), r, "A");
@@ -812,6 +843,10 @@ fn observe<P: Plant>(
     band: &Option<(Band, f64)>,
     band_worst: &mut f64,
 ) {
+    // Nothing to watch (no release under way, no band): no probe.
+    if (release_from.is_none() || limits.release.is_none()) && band.is_none() {
+        return;
+    }
     let pr = plant.probe();
     if let (Some(from), Some(r)) = (*release_from, limits.release)
         && pr.current_a < r.current_a

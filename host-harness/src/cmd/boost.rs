@@ -169,7 +169,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let p = compute(a)?;
     let r = report(&p);
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -235,7 +235,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         "Duty max (reason)",
         format!("{:.5} ({})", r.duty_max, r.duty_max_reason),
     );
-    println!("{t}");
-    println!("{CAUTION}");
+    outln!("{t}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

@@ -108,7 +108,7 @@ fn report(a: &Args) -> Result<Report, CliError> {
 pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let r = report(a)?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -140,7 +140,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             si(ts.into(), "s"),
         ]);
     }
-    println!("{t}");
-    println!("{CAUTION}");
+    outln!("{t}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

@@ -479,7 +479,7 @@ pub fn num(v: f32, unit: &str) -> String {
 /// A plan routine rejects a value of the file.
 pub fn print_tables(name: &str, f: &File) -> Result<bool, CliError> {
     let rep = plan(f).map_err(|e| CliError(format!("{name}: {}", e.0)))?;
-    println!("{}: worst-case plan of {}", name, rep.system);
+    outln!("{}: worst-case plan of {}", name, rep.system);
     let mut t = new_table(&["Figure", "Min", "at", "Max", "at"]);
     for fig in &rep.figures {
         t.add_row(vec![
@@ -490,7 +490,7 @@ pub fn print_tables(name: &str, f: &File) -> Result<bool, CliError> {
             fig.max_text.clone(),
         ]);
     }
-    println!("{t}");
+    outln!("{t}");
     let mut v = new_table(&["Verdict", "Worst", "Limit", "Result", "Note"]);
     for x in &rep.verdicts {
         v.add_row(vec![
@@ -501,7 +501,7 @@ pub fn print_tables(name: &str, f: &File) -> Result<bool, CliError> {
             x.note.clone().unwrap_or_default(),
         ]);
     }
-    println!("{v}");
+    outln!("{v}");
     Ok(rep.passed)
 }
 
@@ -516,14 +516,14 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let passed = if a.json {
         let mut rep = plan(&f).map_err(|e| CliError(format!("{name}: {}", e.0)))?;
         rep.file = name;
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&rep).map_err(|e| CliError(e.to_string()))?
         );
         rep.passed
     } else {
         let passed = print_tables(&name, &f)?;
-        println!(
+        outln!(
             "{}",
             if passed {
                 "Every verdict passes."
@@ -531,7 +531,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
                 "A verdict fails."
             }
         );
-        println!("{CAUTION}");
+        outln!("{CAUTION}");
         passed
     };
     Ok(if passed {

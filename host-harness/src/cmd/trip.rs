@@ -62,7 +62,7 @@ const TIME_FLAGS: &[(&str, &str)] = &[
 pub fn run_time(a: &TimeArgs) -> Result<ExitCode, CliError> {
     let r = time_report(a)?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -125,14 +125,14 @@ fn print_time(a: &TimeArgs, r: &TimeReport) -> Result<ExitCode, CliError> {
         format!("{} ({:.4})", si(r.current_a.into(), "A"), r.multiple),
     ]);
     tab.add_row(vec!["Trip time".to_string(), si(r.trip_time_s.into(), "s")]);
-    println!("{tab}");
+    outln!("{tab}");
     if a.curve == Curve::LongTimeInverse {
-        println!(
+        outln!(
             "Note: long-time inverse (k 120, α 1) is a relay-practice curve, not one of the six \
              IEC 60255-151 curve types."
         );
     }
-    println!("{CAUTION}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }
 
@@ -234,7 +234,7 @@ fn no_fit(p: &ThresholdParams, e: lenz::Error) -> CliError {
 pub fn run_threshold(a: &ThresholdArgs) -> Result<ExitCode, CliError> {
     let r = threshold_report(a)?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -306,7 +306,7 @@ fn print_threshold(r: &ThresholdReport) -> Result<ExitCode, CliError> {
             si(m.into(), "A"),
         ]);
     }
-    println!("{tab}");
-    println!("{CAUTION}");
+    outln!("{tab}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

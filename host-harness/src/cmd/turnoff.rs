@@ -287,7 +287,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let (s, r, end) = evaluate(a)?;
     let release = a.release_current.map(|r| r as f32);
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -372,15 +372,15 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         "Energy from the supply".to_string(),
         si(r.supply_energy_j.into(), "J"),
     ]);
-    println!("{t}");
+    outln!("{t}");
     if a.supply.is_none() {
-        println!(
+        outln!(
             "No --supply given: 0 V assumed, so the switch voltages above are relative to the \
              supply (add the supply voltage)."
         );
     }
     if common.is_some() {
-        println!(
+        outln!(
             "No --release-current given: the drop-out current is taken as {:.0} % of the current \
              at switch-off, the relay datasheet convention for must-release (common practice, \
              not a standard; a real relay releases at a higher current, so this is the slow \
@@ -389,8 +389,8 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         );
     }
     for l in lines {
-        println!("{l}");
+        outln!("{l}");
     }
-    println!("{CAUTION}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

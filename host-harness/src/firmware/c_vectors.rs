@@ -21,7 +21,7 @@ use lenz::kernel::{
 use super::vectors;
 
 /// A C `int32_t` literal (`INT32_MIN` has no literal of its own type).
-fn i32c(v: i32) -> String {
+pub(super) fn i32c(v: i32) -> String {
     if v == i32::MIN {
         "INT32_MIN".to_string()
     } else {
@@ -29,7 +29,7 @@ fn i32c(v: i32) -> String {
     }
 }
 
-fn u32c(v: u32) -> String {
+pub(super) fn u32c(v: u32) -> String {
     format!("{v}u")
 }
 
@@ -81,7 +81,7 @@ fn monitor_raw(r: &MonitorRaw) -> String {
     )
 }
 
-fn duty_raw(r: &DutyLimiterRaw) -> String {
+pub(super) fn duty_raw(r: &DutyLimiterRaw) -> String {
     format!(
         "{{ .vin_lo_counts = {}, .vin_hi_counts = {}, .shift = {}, .saturation_q8 = {{ {} }}, .gain_peak_q8 = {{ {} }}, .light_load_q8 = {{ {} }}, .min_off_q8 = {}, .min_on_counts = {}, .full_scale = {}, .slew_q8 = {}, .vout_lo_counts = {}, .vout_hi_counts = {}, .ov_trip_counts = {}, .ov_resume_counts = {} }}",
         r.vin_lo_counts,
@@ -186,7 +186,7 @@ fn verdict_codes(v: Verdict) -> (u8, u32, u16, u8, u8) {
 }
 
 /// Checks a replayed result against the generated one.
-fn same<T: PartialEq + std::fmt::Debug>(
+pub(super) fn same<T: PartialEq + std::fmt::Debug>(
     kernel: &str,
     case: usize,
     step: usize,
@@ -468,10 +468,12 @@ pub fn source() -> Result<(String, Counts), String> {
     }
     let _ = writeln!(
         c,
-        "}};\nconst uint32_t TRIP_CASE_COUNT = {}u;",
+        "}};\nconst uint32_t TRIP_CASE_COUNT = {}u;\n",
         vectors::trip::CASES.len()
     );
     n.cases += vectors::trip::CASES.len();
+
+    super::c_vectors_motion::append(&mut c, &mut n)?;
     Ok((c, n))
 }
 
@@ -489,6 +491,11 @@ mod tests {
             "TRACKING_CASES",
             "PLANNED_CASES",
             "TRIP_CASES",
+            "MOVEMENT_CASES",
+            "SPEED_CASES",
+            "JAM_CASES",
+            "BRIDGE_CASES",
+            "BOOST_CASES",
         ] {
             let prefix = table.strip_suffix("_CASES").unwrap();
             assert!(src.contains(&format!("Case {table}[] = {{")), "{table}");

@@ -4,7 +4,12 @@
 //! A direct branch (`bl`, `b`, `b<cond>`, `cbz`, …) whose target address lies in another
 //! function is a call (or a tail call) of that function; the graph of a kernel is every
 //! function reachable that way from its `lenz_kernel_<name>` symbol. An indirect branch
-//! (`blx rN`, `bx rN` other than `bx lr`, a write to `pc`) cannot be followed and fails the check.
+//! (`blx rN`, `bx rN` other than `bx lr`, a write to `pc`) cannot be followed and fails the check,
+//! except a switch table: `mov pc, rN` or `add pc, rN` within four instructions after a
+//! pc-relative address (`add rX, pc`, `adr`), the form Cortex-M0 code uses for a `match`. Such a
+//! jump stays inside its function, whose direct branches are all followed anyway; where the
+//! table holds addresses (`.word` entries right after `mov pc`), each must lie inside the
+//! function, or the check fails.
 //!
 //! Forbidden in a kernel's graph: soft-float helpers (`__aeabi_f*`, `__aeabi_d*`, the
 //! conversions `__aeabi_*2f`/`*2d`, libgcc-style `__addsf3`, `__fixdfsi`, …, anything from
@@ -29,6 +34,9 @@ pub struct Function {
     pub calls: Vec<(u64, u64)>,
     /// Indirect branches: instruction address and text.
     pub indirect: Vec<(u64, String)>,
+    /// Switch tables: the jump's address and the table's addresses (thumb bit cleared; empty
+    /// for a table of offsets).
+    pub tables: Vec<(u64, Vec<u64>)>,
     /// Division or floating-point instructions: address and text.
     pub forbidden_insns: Vec<(u64, String)>,
 }
@@ -79,6 +87,10 @@ fn is_forbidden_insn(mnemonic: &str) -> bool {
 pub fn parse_objdump(text: &str) -> BTreeMap<u64, Function> {
     let mut functions = BTreeMap::new();
     let mut current: Option<Function> = None;
+    // The last instructions of the current function, and whether `.word` lines now belong to
+    // the last switch table.
+    let mut recent: Vec<(String, String)> = Vec::new();
+    let mut in_table = false;
     for line in text.lines() {
         // Function header: `00000be4 <lenz_kernel_estimator>:`
         if let Some((addr, rest)) = line.split_once(" <")
@@ -93,6 +105,8 @@ pub fn parse_objdump(text: &str) -> BTreeMap<u64, Function> {
                 addr,
                 ..Function::default()
             });
+            recent.clear();
+            in_table = false;
             continue;
         }
         let Some(f) = current.as_mut() else { continue };
@@ -110,6 +124,32 @@ pub fn parse_objdump(text: &str) -> BTreeMap<u64, Function> {
         };
         let mnemonic = mnemonic.trim();
         let operands = parts.next().unwrap_or("").trim();
+        if mnemonic == ".word" {
+            if in_table
+                && let Some(v) = operands
+                    .strip_prefix("0x")
+                    .and_then(|h| u64::from_str_radix(h, 16).ok())
+                && let Some((_, entries)) = f.tables.last_mut()
+            {
+                entries.push(v & !1);
+            }
+            continue;
+        }
+        in_table = false;
+        let switch = matches!(mnemonic, "mov" | "add")
+            && operands.starts_with("pc, r")
+            && recent.iter().any(|(m, o)| {
+                (m == "add" && (o.ends_with(", pc") || o.contains(", pc, #"))) || m == "adr"
+            });
+        recent.push((mnemonic.to_string(), operands.to_string()));
+        if recent.len() > 4 {
+            recent.remove(0);
+        }
+        if switch {
+            f.tables.push((at, Vec::new()));
+            in_table = mnemonic == "mov";
+            continue;
+        }
         if is_direct_branch(mnemonic) && operands.contains('<') {
             let target = operands
                 .split(" <")
@@ -272,6 +312,16 @@ impl Disassembly {
                     f.name
                 ));
             }
+            for (at, entries) in f.tables.iter().filter(|(at, _)| inside(*at)) {
+                for e in entries {
+                    if *e < f.addr || !inside(*e) {
+                        problems.push(format!(
+                            "switch table at {at:#x} in `{}` jumps to {e:#x}, outside the function",
+                            f.name
+                        ));
+                    }
+                }
+            }
             for (_, i) in f.forbidden_insns.iter().filter(|(at, _)| inside(*at)) {
                 problems.push(format!(
                     "division or floating-point instruction `{i}` in `{}`",
@@ -317,6 +367,24 @@ mod tests {
 00000400 <libm::math::expf::expf>:
      400:\tvmul.f32\ts0, s0, s1
      404:\tbx\tlr
+
+00000500 <lenz_kernel_switch>:
+     500:\tlsls\tr0, r3, #2
+     502:\tadd\tr2, pc, #4\t@ (adr r2, 508 <lenz_kernel_switch+0x8>)
+     504:\tldr\tr0, [r2, r0]
+     506:\tmov\tpc, r0
+     508:\t.word\t0x00000511
+     50c:\t.word\t0x00000513
+     510:\tbx\tlr
+     512:\tbx\tlr
+
+00000600 <lenz_kernel_escape>:
+     600:\tlsls\tr0, r3, #2
+     602:\tadd\tr2, pc, #4\t@ (adr r2, 608 <lenz_kernel_escape+0x8>)
+     604:\tldr\tr0, [r2, r0]
+     606:\tmov\tpc, r0
+     608:\t.word\t0x00000401
+     60c:\tbx\tlr
 ";
 
     #[test]
@@ -340,6 +408,23 @@ mod tests {
         assert!(text.contains("`udiv r0, r0, r1`"), "{text}");
         assert!(text.contains("`vmul.f32 s0, s0, s1`"), "{text}");
         assert!(d.graph("lenz_kernel_c").is_err());
+    }
+
+    #[test]
+    fn switch_tables_inside_the_function_pass() {
+        let d = Disassembly {
+            functions: parse_objdump(DUMP),
+            sizes: parse_nm_sizes(
+                "00000500 00000014 T lenz_kernel_switch\n00000600 0000000e T lenz_kernel_escape\n",
+            ),
+        };
+        let ok = d.graph("lenz_kernel_switch").unwrap();
+        assert!(ok.problems.is_empty(), "{:?}", ok.problems);
+        let bad = d.graph("lenz_kernel_escape").unwrap().problems.join("\n");
+        assert!(
+            bad.contains("jumps to 0x400, outside the function"),
+            "{bad}"
+        );
     }
 
     #[test]

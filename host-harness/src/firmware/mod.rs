@@ -2,8 +2,10 @@
 //! `qemu-system-arm`, the disassembly check and the cost measurement.
 //!
 //! Used by `lenz cost` and by the target checks of `cargo xtask test`. The images and the
-//! kernel table live in `benches/target` (see its `src/kernels/mod.rs`); this side knows no
-//! kernel by name except for the hard instruction caps in [`budget`].
+//! kernel table live in `benches/target` (see its `src/kernels/mod.rs`): the on-target test
+//! images [`CHECK_IMAGES`] and the benchmark image. This side knows no kernel by name except
+//! for the hard instruction caps in [`budget`] (and a driver's tick by its `_driver` suffix,
+//! for its state limit).
 //!
 //! # Toolchain
 //!
@@ -14,6 +16,7 @@
 
 pub mod budget;
 pub mod c_vectors;
+mod c_vectors_motion;
 pub mod cost;
 pub mod disasm;
 mod toolchain;
@@ -116,8 +119,8 @@ pub enum Build {
         /// Build with `--features defmt`.
         defmt: bool,
     },
-    /// The on-target test image (`check`).
-    Check,
+    /// An on-target test image (one of [`CHECK_IMAGES`]).
+    Check(&'static str),
     /// The benchmark image (`cost`).
     Cost,
     /// The C API's static library `liblenz_ffi.a` (package `lenz-ffi` of the workspace).
@@ -129,7 +132,7 @@ impl Build {
         match self {
             Build::Lenz { defmt: false } => "lenz (no features)",
             Build::Lenz { defmt: true } => "lenz (defmt)",
-            Build::Check => "on-target test image",
+            Build::Check(_) => "on-target test image",
             Build::Cost => "benchmark image",
             Build::Ffi => "C API static library",
         }
@@ -168,8 +171,8 @@ pub fn build(tc: &Toolchain, target: Target, what: Build) -> Result<PathBuf, Str
         Build::Lenz { defmt: true } => {
             cmd.args(["-p", "lenz-target", "--lib", "--features", "defmt"]);
         }
-        Build::Check => {
-            cmd.args(["--bin", "check"]);
+        Build::Check(image) => {
+            cmd.args(["--bin", image]);
         }
         Build::Cost => {
             cmd.args(["--bin", "cost"]);
@@ -191,7 +194,7 @@ pub fn build(tc: &Toolchain, target: Target, what: Build) -> Result<PathBuf, Str
     let dir = target_dir().join(target.triple()).join("release");
     Ok(match what {
         Build::Lenz { .. } => dir,
-        Build::Check => dir.join("check"),
+        Build::Check(image) => dir.join(image),
         Build::Cost => dir.join("cost"),
         Build::Ffi => dir.join("liblenz_ffi.a"),
     })
@@ -313,17 +316,56 @@ pub(crate) fn field_u64(line: &str, key: &str) -> Option<u64> {
     field(line, key).and_then(|v| v.parse().ok())
 }
 
-/// Builds and runs the on-target test image for `target`: every kernel on the host-generated
-/// vectors, bit for bit.
+/// The on-target test images (binaries of `benches/target`): together they check every kernel,
+/// each a part (the vectors of all kernels do not fit the micro:bit's 256 KiB of flash).
+pub const CHECK_IMAGES: [&str; 2] = ["check", "check2"];
+
+/// What one on-target test image checked.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ImageCheck {
+    /// The image (ELF file).
+    pub image: PathBuf,
+    /// Its kernels.
+    pub kernels: Vec<KernelCheck>,
+}
+
+/// Builds and runs every on-target test image for `target`: every kernel on the
+/// host-generated vectors, bit for bit.
 ///
 /// # Errors
 ///
 /// A build or run failure, or any kernel result that differed from the host's (the message
-/// names the kernel and the vector index), or an incomplete report.
+/// names the kernel and the vector index), or an incomplete report, or a kernel checked by
+/// two images.
+pub fn check_images_on_target(tc: &Toolchain, target: Target) -> Result<Vec<ImageCheck>, String> {
+    let mut out: Vec<ImageCheck> = Vec::new();
+    for name in CHECK_IMAGES {
+        let image = build(tc, target, Build::Check(name))?;
+        let run_out = run(tc, target, &image, None)?;
+        let kernels = parse_check(target, &run_out).map_err(|e| format!("{name}: {e}"))?;
+        for k in &kernels {
+            if out
+                .iter()
+                .any(|i| i.kernels.iter().any(|o| o.name == k.name))
+            {
+                return Err(format!("kernel {} is checked by two test images", k.name));
+            }
+        }
+        out.push(ImageCheck { image, kernels });
+    }
+    Ok(out)
+}
+
+/// [`check_images_on_target`], the kernels of every image in one list.
+///
+/// # Errors
+///
+/// As [`check_images_on_target`].
 pub fn check_on_target(tc: &Toolchain, target: Target) -> Result<Vec<KernelCheck>, String> {
-    let image = build(tc, target, Build::Check)?;
-    let out = run(tc, target, &image, None)?;
-    parse_check(target, &out)
+    Ok(check_images_on_target(tc, target)?
+        .into_iter()
+        .flat_map(|i| i.kernels)
+        .collect())
 }
 
 /// Reads the report of an image that checks vectors (`kernel=… vectors=… failures=…

@@ -100,3 +100,98 @@ pub mod trip {
 
     include!(concat!(env!("OUT_DIR"), "/cases_trip.rs"));
 }
+
+/// Movement detector cases: `(start or release, current µA, verdict)` per tick.
+pub mod movement {
+    use lenz::kernel::{Motion, MovementConfig, MovementRaw};
+
+    /// What happens before an update.
+    #[derive(Debug, Clone, Copy, PartialEq, Eq)]
+    pub enum Cmd {
+        /// Nothing.
+        None,
+        /// `start` (switch-on).
+        Start,
+        /// `release` (switch-off).
+        Release,
+    }
+
+    /// One sequence from an idle state.
+    pub struct Case {
+        /// Thresholds.
+        pub config: MovementConfig,
+        /// Per tick: the command before the update, the current in µA, the host's verdict.
+        pub steps: &'static [(Cmd, i32, Motion)],
+    }
+
+    include!(concat!(env!("OUT_DIR"), "/cases_movement.rs"));
+}
+
+/// Speed estimator cases: `(duty or coast, supply mV, current µA, speed mrad/s)` per tick.
+pub mod speed {
+    use lenz::kernel::{SpeedEstimatorConfig, SpeedEstimatorRaw};
+
+    /// One sequence.
+    pub struct Case {
+        /// Coefficients.
+        pub config: SpeedEstimatorConfig,
+        /// Start current µA and speed mrad/s.
+        pub start: (i32, i32),
+        /// Per tick: duty Q16 (`None`: coasting, `hold`), supply mV, current µA, and the
+        /// host's estimate in mrad/s.
+        pub steps: &'static [(Option<i32>, i32, i32, i32)],
+    }
+
+    include!(concat!(env!("OUT_DIR"), "/cases_speed.rs"));
+}
+
+/// Jam detector cases: `(duty Q16, current µA, speed mrad/s, verdict)` per tick.
+pub mod jam {
+    use lenz::kernel::{JamConfig, JamRaw, JamStatus, MotorFault};
+
+    /// One sequence from a fresh state.
+    pub struct Case {
+        /// Thresholds.
+        pub config: JamConfig,
+        /// Per tick: duty, current, speed, and the host's verdict.
+        pub steps: &'static [(i32, i32, i32, JamStatus)],
+    }
+
+    include!(concat!(env!("OUT_DIR"), "/cases_jam.rs"));
+}
+
+/// Bridge guard cases: `(request Q16, speed mrad/s, command)` per tick.
+pub mod bridge {
+    use lenz::kernel::{BridgeCommand, BridgeGuardConfig, BridgeGuardRaw, BridgeMode};
+
+    /// One sequence from a fresh state.
+    pub struct Case {
+        /// Limits.
+        pub config: BridgeGuardConfig,
+        /// Per tick: request, speed, and the host's command.
+        pub steps: &'static [(i32, i32, BridgeCommand)],
+    }
+
+    include!(concat!(env!("OUT_DIR"), "/cases_bridge.rs"));
+}
+
+/// Boost loop cases: `((enable, output failing, vin counts, vout counts), returned duty,
+/// written duty)` per tick.
+pub mod boost_driver {
+    use lenz::drive::{BoostLoopConfig, BoostLoopRaw};
+    use lenz::kernel::DutyLimiterRaw;
+
+    /// One tick's inputs: enable, output failing, input and output readings (counts).
+    pub type Inputs = (bool, bool, u16, u16);
+
+    /// One sequence from a new loop.
+    pub struct Case {
+        /// Settings.
+        pub config: BoostLoopConfig,
+        /// Per tick: inputs, the host's returned duty (`None`: an output error) and the duty
+        /// written.
+        pub steps: &'static [(Inputs, Option<u16>, u16)],
+    }
+
+    include!(concat!(env!("OUT_DIR"), "/cases_boost_driver.rs"));
+}

@@ -36,10 +36,24 @@
 //! position is the value's own (or its table's, for checks across a table's values). Unknown
 //! keys, missing keys, values that are not numbers in the right unit and values out of range
 //! are all errors; nothing is silently ignored or clamped.
+//!
+//! # When events take effect
+//!
+//! A command takes effect at the first control tick at or after its time; a fault, supply
+//! change or load step at its exact time. An event that would have no effect (lost between
+//! ticks, at or after the end, setting the demand it already has) or a scenario that would
+//! simulate or measure nothing is an error at its position: see [`timing`].
+//!
+//! # Limits
+//!
+//! A file has at most 1 MiB, 1 000 scenarios and 10 000 events per scenario ([`limits`]), so
+//! reading, planning and running it take bounded memory.
 
+pub mod limits;
 pub mod quantity;
 pub mod run;
 pub mod schema;
+pub mod timing;
 
 use std::fmt;
 use std::path::Path;
@@ -96,14 +110,43 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
 /// The file cannot be read, or it has a problem (see the module docs).
 pub fn load(path: &Path) -> Result<File, ScenarioError> {
     let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| ScenarioError {
+    let bytes = read(path)?;
+    let text = String::from_utf8(bytes).map_err(|_| ScenarioError {
         file: name.clone(),
         line: 0,
         column: 0,
         key: String::new(),
-        problem: format!("cannot read the file: {e}"),
+        problem: "not UTF-8 text".into(),
     })?;
     parse(&name, &text)
+}
+
+/// The bytes of a scenario file, read no further than the size limit ([`limits`]).
+///
+/// # Errors
+///
+/// The file cannot be read, or it is longer than the limit.
+pub fn read(path: &Path) -> Result<Vec<u8>, ScenarioError> {
+    use std::io::Read as _;
+    let fail = |problem: String| ScenarioError {
+        file: path.display().to_string(),
+        line: 0,
+        column: 0,
+        key: String::new(),
+        problem,
+    };
+    let f = std::fs::File::open(path).map_err(|e| fail(format!("cannot read the file: {e}")))?;
+    let mut bytes = Vec::new();
+    f.take(limits::MAX_FILE_BYTES as u64 + 1)
+        .read_to_end(&mut bytes)
+        .map_err(|e| fail(format!("cannot read the file: {e}")))?;
+    if bytes.len() > limits::MAX_FILE_BYTES {
+        return Err(fail(format!(
+            "longer than {} bytes (1 MiB), the limit of a scenario file",
+            limits::MAX_FILE_BYTES
+        )));
+    }
+    Ok(bytes)
 }
 
 /// Parses and checks the text of a scenario file; `file` names it in errors.
@@ -122,6 +165,15 @@ pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
             problem,
         }
     };
+    if let Some(problem) = limits::size_problem(text) {
+        return Err(ScenarioError {
+            file: file.to_string(),
+            line: 0,
+            column: 0,
+            key: String::new(),
+            problem,
+        });
+    }
     let de = toml::Deserializer::parse(text).map_err(|e| {
         let start = e.span().map_or(0, |s| s.start);
         at(start, String::new(), e.message().trim().to_string())
@@ -134,9 +186,30 @@ pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
         let (key, problem) = tidy(key, inner.message().trim());
         at(start, key, problem)
     })?;
+    if let Some((key, scenario, problem)) = limits::count_problem(&parsed) {
+        let place = scenario
+            .and_then(|k| parsed.scenarios.get(k))
+            .map(|s| Place {
+                scenario: s.name.clone(),
+                table: None,
+                literal: None,
+            });
+        return Err(at(place.map_or(0, |p| locate(text, &p)), key, problem));
+    }
     check_consistency(&parsed).map_err(|(key, needle, problem)| {
         let offset = needle.map_or(0, |n| locate(text, &n));
         at(offset, key, problem)
+    })?;
+    timing::check(&parsed).map_err(|t| {
+        let place = Place {
+            scenario: parsed
+                .scenarios
+                .get(t.scenario)
+                .map_or_else(String::new, |s| s.name.clone()),
+            table: t.table,
+            literal: None,
+        };
+        at(locate(text, &place), t.key, t.problem)
     })?;
     Ok(parsed)
 }

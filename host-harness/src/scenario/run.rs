@@ -309,7 +309,9 @@ fn sensors(file: &File, p: &Params, actual: bool) -> Sensors {
     }
 }
 
-fn ns(t_s: f64) -> u64 {
+/// Seconds to whole nanoseconds, as the loop configuration is given its tick, PWM period and
+/// duration.
+pub(crate) fn ns(t_s: f64) -> u64 {
     (t_s * 1e9).round() as u64
 }
 
@@ -723,6 +725,9 @@ pub fn run(
         super::Controller::Coil(_) => {
             let mut plant = coil_plant(file, p, &pt)?;
             plant.set_record_events(false);
+            // Memory must not grow with the PWM periods of a long run: the properties need
+            // only the worst switch-off.
+            plant.set_keep_switch_offs(false);
             let mut ctrl = ValveDriver::new(coil_driver(file, pt.temp_c)?)
                 .map_err(|e| RunSetupError(format!("controller.coil: {e}")))?;
             closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
@@ -747,6 +752,33 @@ pub fn run(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_scenario_run_keeps_one_switch_off_and_the_same_worst_energies() {
+        let f = crate::scenario::parse("valve.toml", include_str!("../../scenarios/valve.toml"))
+            .expect("shipped file");
+        let p = Params::NOMINAL;
+        let bounded = run(&f, 0, &p, Record::None).expect("runs");
+        assert!(
+            bounded.switch_offs.len() <= 1,
+            "{}",
+            bounded.switch_offs.len()
+        );
+        // The same run, keeping every switch-off of the PWM hold.
+        let sc = &f.scenarios[0];
+        let pt = point(&f, sc, &p);
+        let cfg = loop_config(&f, sc, &p, &pt, Record::None);
+        let mut plant = coil_plant(&f, &p, &pt).expect("plant");
+        let mut ctrl =
+            ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
+        let all = closed_loop::run(&mut plant, &mut ctrl, &cfg).expect("runs");
+        assert!(all.switch_offs.len() > 100, "{}", all.switch_offs.len());
+        for name in ["clamp_energy_per_switch_off", "peak_switch_voltage"] {
+            let (a, b) = (all.property(name), bounded.property(name));
+            assert!(a.is_some(), "{name} is checked in the shipped scenario");
+            assert_eq!(a, b, "{name}");
+        }
+    }
 
     #[test]
     fn normal_cdf_and_inverse() {

@@ -9,7 +9,7 @@
 #![allow(unsafe_code)] // `no_mangle` on the entry point called by the runtime.
 
 use lenz_target::bench::{spin, start_timer, ticks};
-use lenz_target::kernels::KERNELS;
+use lenz_target::kernels::COSTS;
 use lenz_target::{check_kernel_table, println, semihosting};
 
 /// Calls per kernel and variant.
@@ -35,8 +35,8 @@ fn lenz_target_main() -> ! {
     let t1 = or_fail(ticks(|| spin(SPIN_1)), "calibration");
     let t2 = or_fail(ticks(|| spin(SPIN_2)), "calibration");
     println!("calib n1={SPIN_1} t1={t1} n2={SPIN_2} t2={t2}");
-    for k in KERNELS {
-        let [t, e, tn, en] = (k.cost)(CALLS);
+    for k in &COSTS {
+        let [t, e, tn, en] = (k.run)(CALLS);
         println!(
             "cost kernel={} calls={CALLS} kernel={} empty={} naive={} naive_empty={} state_bytes={} naive_state_bytes={}",
             k.name,

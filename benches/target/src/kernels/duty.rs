@@ -65,6 +65,12 @@ pub struct NaiveState {
     tripped: bool,
 }
 
+/// A fresh straightforward limiter.
+pub const NAIVE_STATE: NaiveState = NaiveState {
+    last: 0.0,
+    tripped: false,
+};
+
 include!(concat!(env!("OUT_DIR"), "/duty.rs"));
 
 /// The per-tick function as a distinct symbol.

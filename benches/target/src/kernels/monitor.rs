@@ -52,7 +52,8 @@ pub struct NaiveState {
     fault: Option<Fault>,
 }
 
-const NAIVE_STATE: NaiveState = NaiveState {
+/// A fresh straightforward monitor.
+pub const NAIVE_STATE: NaiveState = NaiveState {
     estimate_at_freeze_a: 0.0,
     range_count: 0,
     same_count: 0,

@@ -51,7 +51,7 @@ pub fn run(
 ) -> Result<ExitCode, CliError> {
     let figures = bound_all(r, eval)?;
     if r.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&Json {
                 ranged: r,
@@ -62,15 +62,15 @@ pub fn run(
         return Ok(ExitCode::SUCCESS);
     }
     print::table(r, &figures);
-    println!(
+    outln!(
         "Each figure's extremes over the ranges, with the values of the ranged flags where they \
          occur (corners, or an interior point where the figure peaks inside). Run `lenz {}` \
          with those values for the full report there.",
         r.command
     );
-    println!("{CAUTION}");
+    outln!("{CAUTION}");
     if r.command == "motor" {
-        println!("{MOTOR_CAUTION}");
+        outln!("{MOTOR_CAUTION}");
     }
     Ok(ExitCode::SUCCESS)
 }

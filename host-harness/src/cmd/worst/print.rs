@@ -133,7 +133,7 @@ pub fn table(r: &Ranged, figures: &[(String, Bounded)]) {
             )
         })
         .collect();
-    println!("lenz {}: worst case over {}", r.command, over.join(", "));
+    outln!("lenz {}: worst case over {}", r.command, over.join(", "));
     let mut t = new_table(&["Figure", "Min", "at", "Max", "at"]);
     for (key, b) in figures {
         let (name, unit) = name_and_unit(key);
@@ -159,7 +159,7 @@ pub fn table(r: &Ranged, figures: &[(String, Bounded)]) {
             ]),
         };
     }
-    println!("{t}");
+    outln!("{t}");
 }
 
 #[cfg(test)]
