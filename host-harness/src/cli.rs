@@ -8,7 +8,7 @@
 
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand, error::ErrorKind};
+use clap::{CommandFactory, Parser, Subcommand, error::ErrorKind};
 
 use crate::cmd;
 pub use crate::cmd::common::{
@@ -24,12 +24,20 @@ pub struct Cli {
     command: Command,
 }
 
+/// Said under the help of each quick calculation.
+const RANGES_HELP: &str = "Ranges: every numeric flag also takes MIN..MAX (--supply 10.8..13.2), \
+NOMINAL±TOL% (--inductance 45m±10%, or 45m+-10%) or NOMINAL±TOL; the figures are then reported \
+as min and max, each with the values of the ranged flags where it occurs (with --json: an object \
+with min, max, min_at, max_at).";
+
 #[derive(Debug, Subcommand)]
 enum Command {
     /// Quick coil calculation: time constant, steady current, step response, time to a target.
+    #[command(after_help = RANGES_HELP)]
     Coil(cmd::coil::Args),
     /// Brushed DC motor on an H-bridge: stall, steady state, time constants and the exact peak
     /// currents of start, reversal and short-circuit brake.
+    #[command(after_help = RANGES_HELP)]
     Motor(cmd::motor::Args),
     /// The worked example: worst-case plans of the greenhouse demo (invented values), its
     /// scenarios in the closed loop and a report folder.
@@ -43,15 +51,35 @@ enum Command {
     /// Combine the `--json` outputs of `lenz sweep --shard K/N` into one summary.
     SweepMerge(cmd::sweep::MergeArgs),
     /// Switch-off through a clamp: decay times, peak switch voltage, energy split, verdicts.
+    #[command(after_help = RANGES_HELP)]
     Turnoff(cmd::turnoff::Args),
     /// Inverse-time trip time at a constant current (IEC 60255-151, IEEE C37.112 curves).
+    #[command(after_help = RANGES_HELP)]
     TripTime(cmd::trip::TimeArgs),
     /// Highest safe instantaneous trip threshold from the switch limit, di/dt and delay.
+    #[command(after_help = RANGES_HELP)]
     TripThreshold(cmd::trip::ThresholdArgs),
     /// Boost stage: mode, duty, inductor currents, output ripple and duty limits with reasons.
+    #[command(after_help = RANGES_HELP)]
     Boost(cmd::boost::Args),
     /// Cost per kernel call on Cortex-M0/M3/M4F under emulation, beside the f32/libm version.
     Cost(cmd::cost::Args),
+}
+
+/// The figures of a quick calculation at single values (one point of a worst case over ranges).
+fn quick_figures(args: &[std::ffi::OsString]) -> Result<cmd::worst::Figures, CliError> {
+    let cli = Cli::try_parse_from(args).map_err(|e| CliError(one_line(&e.render().to_string())))?;
+    match cli.command {
+        Command::Coil(a) => cmd::coil::figures(&a),
+        Command::Motor(a) => cmd::motor::figures(&a),
+        Command::Turnoff(a) => cmd::turnoff::figures(&a),
+        Command::TripTime(a) => cmd::trip::time_figures(&a),
+        Command::TripThreshold(a) => cmd::trip::threshold_figures(&a),
+        Command::Boost(a) => cmd::boost::figures(&a),
+        _ => Err(CliError(
+            "ranges are taken by the quick calculations only".into(),
+        )),
+    }
 }
 
 /// Folds clap's multi-line message into one line: the text up to the usage section.
@@ -83,6 +111,19 @@ where
     I: IntoIterator<Item = T>,
     T: Into<std::ffi::OsString> + Clone,
 {
+    let args: Vec<std::ffi::OsString> = args.into_iter().map(Into::into).collect();
+    let ranged = match cmd::worst::find(&Cli::command(), &args) {
+        Ok(r) => r,
+        Err(e) => {
+            complain(&e.to_string());
+            return ExitCode::from(2);
+        }
+    };
+    if let Some(r) = ranged {
+        // Text a command printed before an earlier command in this thread failed is not ours.
+        let _ = crate::out::take();
+        return finish(cmd::worst::run(&r, &quick_figures));
+    }
     let cli = match Cli::try_parse_from(args) {
         Ok(cli) => cli,
         Err(e) => {
@@ -118,6 +159,12 @@ where
         Command::Boost(a) => cmd::boost::run(&a),
         Command::Cost(a) => cmd::cost::run(&a),
     };
+    finish(result)
+}
+
+/// The exit code of a command's result, its output written to stdout on success; an error is
+/// one line on stderr and exit code 2.
+fn finish(result: Result<ExitCode, CliError>) -> ExitCode {
     let text = crate::out::take();
     match result {
         // Printed only on success: a failed command leaves stdout empty.

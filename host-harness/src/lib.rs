@@ -144,6 +144,7 @@ pub mod faults;
 pub mod firmware;
 pub mod pil;
 pub mod plant;
+pub mod range_arg;
 pub mod report;
 pub mod scenario;
 pub mod si;

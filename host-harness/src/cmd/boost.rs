@@ -11,6 +11,7 @@ use serde::Serialize;
 
 use super::common::{CAUTION, CliError, ampere, farad, henry, hertz, ohm, second, volt};
 use super::table::{new_table, si};
+use super::worst::{Figures, figures_of};
 
 /// Arguments of `lenz boost`.
 #[derive(Debug, clap::Args)]
@@ -133,15 +134,18 @@ fn compute(a: &Args) -> Result<BoostPlan, CliError> {
     })
 }
 
-/// Runs `lenz boost`.
+/// The `--json` report at single values as ordered figures: the points of the worst case
+/// over ranges ([`super::worst`]).
 ///
 /// # Errors
 ///
-/// Bad or unreachable input, with the flag named and, for an unreachable output, the
-/// reachable output.
-pub fn run(a: &Args) -> Result<ExitCode, CliError> {
-    let p = compute(a)?;
-    let r = Report {
+/// As a single-value run.
+pub fn figures(a: &Args) -> Result<Figures, CliError> {
+    figures_of(&report(&compute(a)?))
+}
+
+fn report(p: &BoostPlan) -> Report {
+    Report {
         mode: p.mode.as_str(),
         duty: p.duty,
         average_inductor_current_a: p.average_inductor_current_a,
@@ -152,7 +156,18 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         duty_max: p.limits.duty_max,
         duty_max_reason: p.limits.duty_max_reason.as_str(),
         output_ripple_v: p.output_ripple.map(|o| o.total_v),
-    };
+    }
+}
+
+/// Runs `lenz boost`.
+///
+/// # Errors
+///
+/// Bad or unreachable input, with the flag named and, for an unreachable output, the
+/// reachable output.
+pub fn run(a: &Args) -> Result<ExitCode, CliError> {
+    let p = compute(a)?;
+    let r = report(&p);
     if a.json {
         outln!(
             "{}",

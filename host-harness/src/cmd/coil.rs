@@ -7,6 +7,7 @@ use serde::Serialize;
 
 use super::common::{CAUTION, CliError, ampere, celsius, henry, ohm, second, volt};
 use super::table::{new_table, si};
+use super::worst::{Figures, figures_of};
 
 /// Arguments of `lenz coil`.
 #[derive(Debug, clap::Args)]
@@ -116,13 +117,27 @@ fn error(a: &Args, e: lenz::Error) -> CliError {
     }
 }
 
+/// The `--json` report at single values as ordered figures: the points of the worst case
+/// over ranges ([`super::worst`]).
+///
+/// # Errors
+///
+/// As a single-value run.
+pub fn figures(a: &Args) -> Result<Figures, CliError> {
+    figures_of(&report(a)?)
+}
+
+fn report(a: &Args) -> Result<Report, CliError> {
+    compute(a).map_err(|e| error(a, e))
+}
+
 /// Runs `lenz coil`.
 ///
 /// # Errors
 ///
 /// Bad or unreachable input, with the flag named.
 pub fn run(a: &Args) -> Result<ExitCode, CliError> {
-    let r = compute(a).map_err(|e| error(a, e))?;
+    let r = report(a)?;
     if a.json {
         outln!(
             "{}",

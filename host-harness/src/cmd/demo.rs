@@ -1,6 +1,7 @@
 //! `lenz demo`: the worked example on the greenhouse demo system (invented values).
 //!
-//! 1. The worst-case coil plan table of the demo coils (also the whole `--json` output).
+//! 1. The worst-case coil plan table of the demo coils (also the whole `--json` output): the
+//!    coil figures of the valve and relay files' own plans, so one description gives both.
 //! 2. For each shipped scenario file (valve, relay, boost rail; built into the binary): its
 //!    plan with verdicts (`lenz plan`) and its scenarios in the closed loop (`lenz sim`).
 //! 3. A report folder (`--out`, default `lenz-report/` in the current directory): `index.html`
@@ -13,14 +14,12 @@
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-use lenz::{Bound, bounds::CoilCorner};
 use serde::Serialize;
 
 use super::common::{CAUTION, CliError};
 use super::outputs::Staged;
 use super::sim::Sink;
 use super::table::{new_table, si};
-use crate::demo::{self, DemoCoil};
 
 /// Arguments of `lenz demo`.
 #[derive(Debug, clap::Args)]
@@ -43,36 +42,69 @@ pub const SCENARIO_FILES: &[(&str, &str)] = &[
 /// One worst-case figure of a demo coil.
 #[derive(Debug, Serialize)]
 struct Figure {
-    coil: &'static str,
+    coil: String,
     figure: &'static str,
     unit: &'static str,
-    bound: Bound<CoilCorner>,
+    bound: Bound,
 }
 
-fn figures(c: &DemoCoil) -> Result<Vec<Figure>, lenz::Error> {
-    let s = &c.spread;
-    let f = |figure, unit, bound| Figure {
-        coil: c.name,
-        figure,
-        unit,
-        bound,
-    };
-    Ok(vec![
-        f("steady current", "A", s.steady_current_a()?),
-        f("time constant", "s", s.time_constant_s()?),
-        f("pull-in time", "s", s.pull_in_time_s(c.pull_in_a)?),
-        f("stored energy", "J", s.stored_energy_j()?),
-    ])
+/// A figure's bounds with the corners (supply, coil temperature, inductance, resistance at
+/// 20 °C) where they occur.
+#[derive(Debug, Serialize)]
+struct Bound {
+    min: f32,
+    max: f32,
+    min_at: serde_json::Value,
+    max_at: serde_json::Value,
+    #[serde(skip)]
+    min_text: String,
+    #[serde(skip)]
+    max_text: String,
 }
 
-fn corner(c: &CoilCorner) -> String {
-    format!(
-        "{}, {:.0} °C, {}, {}",
-        si(c.supply_v.into(), "V"),
-        c.temp_c,
-        si(c.inductance_h.into(), "H"),
-        si(c.resistance_ohm.into(), "Ω")
-    )
+/// The coil figures of the opening table.
+const COIL_FIGURES: [&str; 4] = [
+    "steady current",
+    "time constant",
+    "pull-in time",
+    "stored energy",
+];
+
+/// The opening table's figures, taken from the plans of the shipped coil files (valve and
+/// relay), so they are the very numbers of the per-file plans printed below them: one
+/// description per coil, with its whole loop resistance (winding, switch on-resistance, supply
+/// source resistance and shunt).
+fn coil_figures() -> Result<Vec<Figure>, CliError> {
+    let mut all = Vec::new();
+    for (name, text) in SCENARIO_FILES {
+        let f = crate::scenario::parse(name, text).map_err(|e| CliError(e.to_string()))?;
+        if f.system.coil.is_none() {
+            continue;
+        }
+        let rep = crate::system::plan::plan(&f)
+            .map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
+        for wanted in COIL_FIGURES {
+            let fig = rep
+                .figures
+                .iter()
+                .find(|g| g.figure == wanted)
+                .ok_or_else(|| CliError(format!("{name}: the plan has no {wanted}")))?;
+            all.push(Figure {
+                coil: rep.system.clone(),
+                figure: fig.figure,
+                unit: fig.unit,
+                bound: Bound {
+                    min: fig.min,
+                    max: fig.max,
+                    min_at: fig.min_at.clone(),
+                    max_at: fig.max_at.clone(),
+                    min_text: fig.min_text.clone(),
+                    max_text: fig.max_text.clone(),
+                },
+            });
+        }
+    }
+    Ok(all)
 }
 
 /// Runs `lenz demo`.
@@ -98,11 +130,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         sink.junit_into(k, "junit.xml");
         Some((sink, k))
     };
-    let mut all = Vec::new();
-    for c in [demo::valve(), demo::relay()] {
-        let c = c.map_err(|e| CliError(e.to_string()))?;
-        all.extend(figures(&c).map_err(|e| CliError(format!("{}: {e}", c.name)))?);
-    }
+    let all = coil_figures()?;
     let Some((sink, k)) = report else {
         outln!(
             "{}",
@@ -112,16 +140,20 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     };
     outln!("lenz demo: greenhouse controller (all values invented for the demo)");
     outln!("Worst-case coil plan over supply, coil temperature and part tolerances");
-    outln!("(corners: supply, coil temperature, inductance, resistance at 20 °C)\n");
+    outln!("(corners: supply, coil temperature, inductance, resistance at 20 °C)");
+    outln!(
+        "The coils of valve.toml and relay.toml with their whole loop (winding, switch \
+         on-resistance, supply source resistance, shunt): the same figures as their plans below.\n"
+    );
     let mut t = new_table(&["Coil", "Figure", "Min", "at", "Max", "at"]);
     for f in &all {
         t.add_row(vec![
             f.coil.to_string(),
             f.figure.to_string(),
             si(f.bound.min.into(), f.unit),
-            corner(&f.bound.min_at),
+            f.bound.min_text.clone(),
             si(f.bound.max.into(), f.unit),
-            corner(&f.bound.max_at),
+            f.bound.max_text.clone(),
         ]);
     }
     outln!("{t}");
@@ -129,7 +161,6 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         "\nThe longest pull-in sits at the lowest supply with the hottest coil; the highest \
          current and stored energy at the highest supply with the coldest coil."
     );
-    outln!("{CAUTION}");
     let passed = scenarios_and_report(&a.out, sink, k)?;
     Ok(if passed {
         ExitCode::SUCCESS
@@ -220,6 +251,7 @@ fn scenarios_and_report(out: &std::path::Path, mut sink: Sink, k: usize) -> Resu
             "A verdict or property fails (see the tables)."
         }
     );
+    outln!("{CAUTION}");
     outln!("Report written to {}", index.display());
     Ok(all_ok)
 }

@@ -13,3 +13,4 @@ pub mod sweep;
 pub mod table;
 pub mod trip;
 pub mod turnoff;
+pub mod worst;

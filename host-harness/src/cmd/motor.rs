@@ -10,6 +10,7 @@ use super::common::{
     newton_metre_per_ampere, newton_metre_second, ohm, volt,
 };
 use super::table::{new_table, si};
+use super::worst::{Figures, figures_of};
 
 /// Arguments of `lenz motor`.
 #[derive(Debug, clap::Args)]
@@ -140,12 +141,17 @@ fn peak_row(name: &str, current: Option<f32>, at: Option<f32>) -> Option<Vec<Str
     ])
 }
 
-/// Runs `lenz motor`.
+/// The `--json` report at single values as ordered figures: the points of the worst case
+/// over ranges ([`super::worst`]).
 ///
 /// # Errors
 ///
-/// Bad input, with the flag named; a load torque at or above the stall torque.
-pub fn run(a: &Args) -> Result<ExitCode, CliError> {
+/// As a single-value run.
+pub fn figures(a: &Args) -> Result<Figures, CliError> {
+    figures_of(&report(a)?)
+}
+
+fn report(a: &Args) -> Result<Report, CliError> {
     let mut p = MotorParams::new(
         a.inductance as f32,
         a.resistance as f32,
@@ -156,7 +162,16 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         p = p.with_inertia_kg_m2(j as f32);
     }
     let motor = p.validate().map_err(|e| cli_error(e, a))?;
-    let r = compute(a, &motor).map_err(|e| cli_error(e, a))?;
+    compute(a, &motor).map_err(|e| cli_error(e, a))
+}
+
+/// Runs `lenz motor`.
+///
+/// # Errors
+///
+/// Bad input, with the flag named; a load torque at or above the stall torque.
+pub fn run(a: &Args) -> Result<ExitCode, CliError> {
+    let r = report(a)?;
     if a.json {
         outln!(
             "{}",

@@ -7,6 +7,7 @@ use serde::Serialize;
 
 use super::common::{CAUTION, CliError, ampere, henry, plain, second, volt};
 use super::table::{new_table, si};
+use super::worst::{Figures, figures_of};
 
 /// Arguments of `lenz trip-time`.
 #[derive(Debug, clap::Args)]
@@ -59,6 +60,28 @@ const TIME_FLAGS: &[(&str, &str)] = &[
 ///
 /// Bad input with the flag named; a current at or below pickup (the element never trips).
 pub fn run_time(a: &TimeArgs) -> Result<ExitCode, CliError> {
+    let r = time_report(a)?;
+    if a.json {
+        outln!(
+            "{}",
+            serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
+        );
+        return Ok(ExitCode::SUCCESS);
+    }
+    print_time(a, &r)
+}
+
+/// The `--json` report of `lenz trip-time` at single values as ordered figures: the points of
+/// the worst case over ranges ([`super::worst`]).
+///
+/// # Errors
+///
+/// As a single-value run.
+pub fn time_figures(a: &TimeArgs) -> Result<Figures, CliError> {
+    figures_of(&time_report(a)?)
+}
+
+fn time_report(a: &TimeArgs) -> Result<TimeReport, CliError> {
     let el = InverseTime::new(a.curve, a.pickup as f32, a.multiplier as f32)
         .map_err(|e| CliError::from_lenz(e, TIME_FLAGS))?;
     let current = a.current as f32;
@@ -82,13 +105,10 @@ pub fn run_time(a: &TimeArgs) -> Result<ExitCode, CliError> {
         multiple: current.abs() / el.pickup_a(),
         trip_time_s: t,
     };
-    if a.json {
-        outln!(
-            "{}",
-            serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
-        );
-        return Ok(ExitCode::SUCCESS);
-    }
+    Ok(r)
+}
+
+fn print_time(a: &TimeArgs, r: &TimeReport) -> Result<ExitCode, CliError> {
     let k = a.curve.constants();
     let mut tab = new_table(&["Quantity", "Value"]);
     tab.add_row(vec![
@@ -212,6 +232,28 @@ fn no_fit(p: &ThresholdParams, e: lenz::Error) -> CliError {
 ///
 /// Bad input with the flag named; no threshold fits, with the reason and the remedy.
 pub fn run_threshold(a: &ThresholdArgs) -> Result<ExitCode, CliError> {
+    let r = threshold_report(a)?;
+    if a.json {
+        outln!(
+            "{}",
+            serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
+        );
+        return Ok(ExitCode::SUCCESS);
+    }
+    print_threshold(&r)
+}
+
+/// The `--json` report of `lenz trip-threshold` at single values as ordered figures: the points
+/// of the worst case over ranges ([`super::worst`]).
+///
+/// # Errors
+///
+/// As a single-value run.
+pub fn threshold_figures(a: &ThresholdArgs) -> Result<Figures, CliError> {
+    figures_of(&threshold_report(a)?)
+}
+
+fn threshold_report(a: &ThresholdArgs) -> Result<ThresholdReport, CliError> {
     let p = ThresholdParams {
         switch_limit_a: a.limit as f32,
         supply_max_v: a.supply as f32,
@@ -233,13 +275,10 @@ pub fn run_threshold(a: &ThresholdArgs) -> Result<ExitCode, CliError> {
         delay_s: plan.delay_s,
         di_dt_a_per_s: plan.di_dt_a_per_s,
     };
-    if a.json {
-        outln!(
-            "{}",
-            serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
-        );
-        return Ok(ExitCode::SUCCESS);
-    }
+    Ok(r)
+}
+
+fn print_threshold(r: &ThresholdReport) -> Result<ExitCode, CliError> {
     let mut tab = new_table(&["Quantity", "Value"]);
     tab.add_row(vec![
         "Worst-case di/dt (max supply / min inductance)".to_string(),

@@ -10,6 +10,7 @@ use serde::Serialize;
 
 use super::common::{CAUTION, CliError, ampere, henry, ohm, volt};
 use super::table::{new_table, si};
+use super::worst::{Figures, figures_of};
 use crate::si::{self, Unit};
 use crate::system::ClampKind;
 
@@ -272,15 +273,32 @@ fn verdict_lines(s: &SwitchOff, r: &Report) -> Result<Vec<String>, lenz::Error> 
     Ok(lines)
 }
 
+/// The `--json` report at single values as ordered figures: the points of the worst case
+/// over ranges ([`super::worst`]).
+///
+/// # Errors
+///
+/// As a single-value run.
+pub fn figures(a: &Args) -> Result<Figures, CliError> {
+    figures_of(&evaluate(a)?.1)
+}
+
+/// The switch-off of `a`, its report and how the decay ends.
+fn evaluate(a: &Args) -> Result<(SwitchOff, Report, DecayEnd), CliError> {
+    let s = plan(a)?;
+    let release = a.release_current.map(|r| r as f32);
+    let (r, end) = report(&s, release).map_err(|e| CliError::from_lenz(e, FLAGS))?;
+    Ok((s, r, end))
+}
+
 /// Runs `lenz turnoff`.
 ///
 /// # Errors
 ///
 /// Bad input (exit code 2), with the flag named.
 pub fn run(a: &Args) -> Result<ExitCode, CliError> {
-    let s = plan(a)?;
+    let (s, r, end) = evaluate(a)?;
     let release = a.release_current.map(|r| r as f32);
-    let (r, end) = report(&s, release).map_err(|e| CliError::from_lenz(e, FLAGS))?;
     if a.json {
         outln!(
             "{}",
