@@ -11,7 +11,10 @@
 //!   viewer.
 //! - [`junit`]: one `<testcase>` per scenario and property, for CI systems.
 //! - [`html`]: the index page of a report folder, with the [`summary`] at its top.
+//! - [`browser`]: the page opened in headless Chromium: every image and link resolves, and a
+//!   screenshot.
 
+pub mod browser;
 pub mod csv;
 pub mod html;
 pub mod junit;
