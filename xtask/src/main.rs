@@ -4,7 +4,9 @@
 //! 1. `cargo fmt --all -- --check`
 //! 2. `cargo clippy --workspace --all-targets -- -D warnings`
 //! 3. `cargo clippy -p lenz --features defmt,serde -- -D warnings` (the optional features)
-//! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe)
+//! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe, the demo report
+//!    opened in headless Chromium); before it, a missing `chromium` stops the run with the
+//!    command that installs it
 //! 5. `cargo doc --workspace --no-deps` with `RUSTDOCFLAGS="-D warnings"` (broken or private
 //!    intra-doc links fail)
 //! 6. the target checks ([`target`]): Cortex-M builds of lenz, the on-target test image under
@@ -57,6 +59,37 @@ fn step_env(name: &str, args: &[&str], env: &[(&str, &str)]) -> Result<(), Strin
     }
 }
 
+/// The host tests open the demo report in headless Chromium: without the browser they would
+/// fail one by one, so say what to install before they start.
+fn browser() -> Result<(), String> {
+    let hint = "install it with `apt-get install chromium chromium-driver` (or set \
+                LENZ_CHROMIUM to the browser's path)";
+    if let Some(p) = std::env::var_os("LENZ_CHROMIUM") {
+        return if Path::new(&p).is_file() {
+            Ok(())
+        } else {
+            Err(format!(
+                "LENZ_CHROMIUM={}: no such file; {hint}",
+                Path::new(&p).display()
+            ))
+        };
+    }
+    let path = std::env::var_os("PATH").unwrap_or_default();
+    let found = std::env::split_paths(&path).any(|d| {
+        ["chromium", "chromium-browser"]
+            .iter()
+            .any(|n| d.join(n).is_file())
+    });
+    if found {
+        println!("xtask: browser: chromium found");
+        Ok(())
+    } else {
+        Err(format!(
+            "browser: chromium not found: the report page is checked in a real browser; {hint}"
+        ))
+    }
+}
+
 fn test() -> Result<(), String> {
     step("format", &["fmt", "--all", "--", "--check"])?;
     step(
@@ -83,6 +116,7 @@ fn test() -> Result<(), String> {
             "warnings",
         ],
     )?;
+    browser()?;
     step("host tests", &["test", "--workspace"])?;
     step_env(
         "docs",

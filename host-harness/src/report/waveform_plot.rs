@@ -86,8 +86,8 @@ fn slice(v: &[f64], r: &std::ops::Range<usize>) -> Vec<f64> {
 fn cause_before(events: &[RunEvent], t_s: f64) -> Option<String> {
     events
         .iter()
-        .filter(|e| e.what.starts_with("fault") && e.t_s <= t_s + 1e-12)
-        .last()
+        .rev()
+        .find(|e| e.what.starts_with("fault") && e.t_s <= t_s + 1e-12)
         .map(|e| {
             let kind = e
                 .what
