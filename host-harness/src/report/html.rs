@@ -210,3 +210,65 @@ fn summary_block(h: &mut String, sections: &[Section<'_>]) {
         h.push_str("</ul>\n");
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::closed_loop::{Property, RunResult};
+
+    fn outcome(scenario: &str, value: f64) -> Outcome {
+        Outcome {
+            file: "valve.toml".into(),
+            system: "irrigation valve".into(),
+            scenario: scenario.into(),
+            result: RunResult {
+                properties: vec![Property {
+                    name: "peak_switch_voltage",
+                    value,
+                    limit: 60.0,
+                    unit: "V",
+                    pass: value <= 60.0,
+                }],
+                waveform: Default::default(),
+                events: vec![],
+                switch_offs: vec![],
+                ticks: 1,
+                simulated_s: 1e-4,
+            },
+        }
+    }
+
+    #[test]
+    fn failures_come_first_and_link_to_their_plot() {
+        let plan = Report {
+            file: "valve.toml".into(),
+            system: "irrigation valve".into(),
+            passed: true,
+            figures: vec![],
+            verdicts: vec![],
+        };
+        let runs = [outcome("cold coil", 27.1), outcome("no clamp", 75.0)];
+        let sections = [Section {
+            file: "valve.toml",
+            plan: &plan,
+            outcomes: &runs,
+        }];
+        let h = index("t", "invented", &sections, "plots", "csv", "junit.xml");
+        let summary = h.find("class=\"summary bad\"").expect("summary");
+        let failure = h
+            .find("<li><a href=\"#valve--no-clamp\">no clamp — peak switch voltage</a>")
+            .expect("the failure listed and linked");
+        let plan_table = h.find("Worst-case plan").expect("plan");
+        assert!(summary < failure && failure < plan_table);
+        assert!(h.contains("1 of 2 properties hold, 1 failed"));
+        assert!(h.contains("worst margin -25.0 %"));
+        // The failing scenario's row and plot come before the passing one's.
+        let (bad, good) = (
+            h.find("<h3 id=\"valve--no-clamp\">").expect("failing plot"),
+            h.find("<h3 id=\"valve--cold-coil\">")
+                .expect("passing plot"),
+        );
+        assert!(bad < good);
+        assert!(h.contains("<img src=\"plots/valve--no-clamp.svg\""));
+    }
+}
