@@ -221,6 +221,7 @@ mod tests {
             file: "valve.toml".into(),
             system: "irrigation valve".into(),
             scenario: scenario.into(),
+            stem: crate::report::base_stem("valve.toml", scenario),
             result: RunResult {
                 properties: vec![Property {
                     name: "peak_switch_voltage",

@@ -103,6 +103,7 @@ mod tests {
             file: "valve.toml".into(),
             system: "valve".into(),
             scenario: "s".into(),
+            stem: "valve--s".into(),
             result: RunResult {
                 properties: props,
                 waveform: Default::default(),
