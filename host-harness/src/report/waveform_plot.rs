@@ -339,7 +339,11 @@ pub fn waveform_svg(o: &Outcome) -> Result<String, String> {
         let (d, zoom_area) = rest.split_vertically(drive_h);
         let current = [
             Trace {
-                label: "coil current",
+                label: if cur_axis.starts_with("Coil") {
+                    "coil current"
+                } else {
+                    "inductor current"
+                },
                 values: &w.current_a,
                 band: Some((&w.current_min_a, &w.current_max_a)),
                 color: BLUE,
