@@ -119,7 +119,7 @@ pub fn run_all(
         let p = params(f);
         for (k, sc) in f.scenarios.iter().enumerate() {
             let result = scenario::run::run(f, k, &p, record)
-                .map_err(|e| CliError(format!("{name}: {e}")))?;
+                .map_err(|e| CliError(scenario::locate_problem(name, &e.0).to_string()))?;
             let mut o = Outcome {
                 file: name.clone(),
                 system: f.system.name.clone(),

@@ -116,7 +116,8 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     } else {
         sweep::sweep_summary
     };
-    let out = run(&plan, &|| bar.inc(1)).map_err(|e| CliError(format!("{name}: {e}")))?;
+    let out = run(&plan, &|| bar.inc(1))
+        .map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
     bar.finish_and_clear();
     report(&out, a.json, plot)
 }

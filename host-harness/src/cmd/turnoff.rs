@@ -122,6 +122,17 @@ fn parse_clamp(text: &str) -> Result<Clamp, CliError> {
     if parts.len() != n {
         return Err(bad_form());
     }
+    if let Clamp::Resistor { resistance_ohm, .. } = clamp
+        && resistance_ohm.is_finite()
+        && resistance_ohm <= 0.0
+    {
+        // As in a scenario file: a resistor clamp of 0 Ω is a freewheel diode.
+        return Err(CliError(format!(
+            "--clamp RS: '{}' is not a clamp resistor: must be above 0 Ω (for a plain diode \
+             use diode:VF)",
+            parts.get(1).copied().unwrap_or("")
+        )));
+    }
     Ok(clamp)
 }
 

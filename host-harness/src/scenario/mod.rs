@@ -35,7 +35,10 @@
 //! dotted key of the value (`system.coil.inductance`, `scenario[1].event[0].at`) and the
 //! position is the value's own (or its table's, for checks across a table's values). Unknown
 //! keys, missing keys, values that are not numbers in the right unit and values out of range
-//! are all errors; nothing is silently ignored or clamped.
+//! are all errors; nothing is silently ignored or clamped. Problems found later, when a plan or
+//! the plant rejects a value (`lenz plan`, `lenz sim`, `lenz sweep`), take the same form: the
+//! rejected parameter is mapped to the key it comes from ([`run`]) and placed at that key's
+//! value ([`position`]), so a message never names an internal parameter.
 //!
 //! # When events take effect
 //!
@@ -50,6 +53,7 @@
 //! reading, planning and running it take bounded memory.
 
 pub mod limits;
+pub mod position;
 pub mod quantity;
 pub mod run;
 pub mod schema;
@@ -101,6 +105,31 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
     let line = head.matches('\n').count() + 1;
     let col = head.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
     (line, col)
+}
+
+/// A problem found after parsing (a plan or the plant rejects a value), given as `key `K`:
+/// problem` (the form of [`run::RunSetupError`]), placed at the key's position in the file
+/// `file`, which is read again; without a key or a position, the file name alone.
+#[must_use]
+pub fn locate_problem(file: &str, message: &str) -> ScenarioError {
+    let (key, problem) = message
+        .strip_prefix("key `")
+        .and_then(|rest| rest.split_once("`: "))
+        .map_or((String::new(), message.to_string()), |(k, p)| {
+            (k.to_string(), p.to_string())
+        });
+    let (line, column) = std::fs::read_to_string(file)
+        .ok()
+        .filter(|_| !key.is_empty())
+        .and_then(|text| position::key_offset(&text, &key).map(|o| line_col(&text, o)))
+        .unwrap_or((0, 0));
+    ScenarioError {
+        file: file.to_string(),
+        line,
+        column,
+        key,
+        problem,
+    }
 }
 
 /// Reads and checks a scenario file.
@@ -298,6 +327,21 @@ impl Place {
 
 type Inconsistency = (String, Option<Place>, String);
 
+/// A supply a scenario or an event sets must lie within half the system's minimum and twice
+/// its maximum (the same check for both).
+fn supply_out_of_range(f: &File, v: f64) -> Option<String> {
+    let sup = &f.system.supply;
+    let (lo, hi) = (sup.min.get() * 0.5, sup.max.get() * 2.0);
+    (v < lo || v > hi).then(|| {
+        format!(
+            "{} is far outside the system's supply range (allowed {} to {})",
+            crate::cmd::table::si(v, "V"),
+            crate::cmd::table::si(lo, "V"),
+            crate::cmd::table::si(hi, "V"),
+        )
+    })
+}
+
 /// Checks across tables: controller and system kinds, scenario names, event times, checks
 /// that apply to the kind of system.
 fn check_consistency(f: &File) -> Result<(), Inconsistency> {
@@ -366,15 +410,10 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 "more than 2 000 000 control ticks".into(),
             ));
         }
-        if let Some(v) = s.supply {
-            let sup = &f.system.supply;
-            if v.get() < sup.min.get() * 0.5 || v.get() > sup.max.get() * 2.0 {
-                return Err((
-                    format!("scenario[{k}].supply"),
-                    needle,
-                    format!("{} V is far outside the system's supply range", v.get()),
-                ));
-            }
+        if let Some(v) = s.supply
+            && let Some(problem) = supply_out_of_range(f, v.get())
+        {
+            return Err((format!("scenario[{k}].supply"), needle, problem));
         }
         for (j, e) in s.events.iter().enumerate() {
             let key = format!("scenario[{k}].event[{j}]");
@@ -387,6 +426,15 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                         e.at.get(),
                         s.duration.get()
                     ),
+                ));
+            }
+            if let Action::Supply(v, _) = e.action
+                && let Some(problem) = supply_out_of_range(f, v)
+            {
+                return Err((
+                    format!("{key}.supply"),
+                    place(Some(("[[scenario.event]]", j))),
+                    problem,
                 ));
             }
             let bad = match e.action {
