@@ -55,7 +55,7 @@
 
 use super::inductance::{InductanceCurve, Magnetisation};
 use super::linalg::{Mat, expm, mul_vec};
-use super::rk::{MAX_EVENTS, Rk, StepUnderflow, Stop};
+use super::rk::{Rk, StepUnderflow, Stop};
 use super::thermal::Thermal;
 use super::{in_range, non_negative, positive};
 use lenz::Error;

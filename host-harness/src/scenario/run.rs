@@ -595,7 +595,7 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
         s.supply.min.get() as f32,
         s.supply.max.get() as f32,
     )
-    .map_err(lenz_err("system.supply"))?;
+    .map_err(lenz_err(file, "system.supply", None))?;
     let pull_in_min_s = c.pull_in_min_time.get() as f32;
     ValveDriverConfig::new(&ValvePlan {
         coil: model,
@@ -890,8 +890,9 @@ mod tests {
         let sc = &f.scenarios[0];
         let pt = point(&f, sc, &p);
         let cfg = loop_config(&f, sc, &p, &pt, Record::None);
-        let mut plant = coil_plant(&f, &p, &pt).expect("plant");
-        let mut ctrl = ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
+        let mut plant = coil_plant(&f, &p, &pt, None).expect("plant");
+        let mut ctrl =
+            ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
         let all = closed_loop::run(&mut plant, &mut ctrl, &cfg).expect("runs");
         assert!(all.switch_offs.len() > 100, "{}", all.switch_offs.len());
         for name in ["clamp_energy_per_switch_off", "peak_switch_voltage"] {
