@@ -891,8 +891,7 @@ mod tests {
         let pt = point(&f, sc, &p);
         let cfg = loop_config(&f, sc, &p, &pt, Record::None);
         let mut plant = coil_plant(&f, &p, &pt, None).expect("plant");
-        let mut ctrl =
-            ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
+        let mut ctrl = ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
         let all = closed_loop::run(&mut plant, &mut ctrl, &cfg).expect("runs");
         assert!(all.switch_offs.len() > 100, "{}", all.switch_offs.len());
         for name in ["clamp_energy_per_switch_off", "peak_switch_voltage"] {
