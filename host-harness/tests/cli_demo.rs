@@ -32,13 +32,28 @@ fn demo_writes_the_report_folder() {
     let last = text.trim_end().lines().last().expect("a last line");
     assert_eq!(last, format!("Report written to {}", index.display()));
     let html = std::fs::read_to_string(&index).expect("index.html");
-    // Every link of the page points at a file that exists.
-    let mut links = 0;
+    // Every link of the page points at a file that exists or at a section of the page.
+    let mut files = std::collections::BTreeSet::new();
     for part in html.split("href=\"").skip(1) {
         let target = part.split('"').next().expect("closing quote");
-        assert!(out_dir.join(target).is_file(), "{target} exists");
-        links += 1;
+        if let Some(id) = target.strip_prefix('#') {
+            assert!(
+                html.contains(&format!("id=\"{id}\"")),
+                "section {id} exists"
+            );
+        } else {
+            assert!(out_dir.join(target).is_file(), "{target} exists");
+            files.insert(target.to_string());
+        }
     }
+    // Every plot is also shown on the page.
+    let mut images = 0;
+    for part in html.split("<img src=\"").skip(1) {
+        let target = part.split('"').next().expect("closing quote");
+        assert!(out_dir.join(target).is_file(), "{target} exists");
+        images += 1;
+    }
+    let links = files.len();
     let plots = std::fs::read_dir(out_dir.join("plots"))
         .expect("plots")
         .count();
@@ -55,6 +70,7 @@ fn demo_writes_the_report_folder() {
     let results: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(out_dir.join("results.json")).expect("json"))
             .expect("valid JSON");
+    assert_eq!(images, plots, "every plot shown inline");
     assert_eq!(results["scenarios"].as_array().map(Vec::len), Some(plots));
     assert_eq!(results["plans"].as_array().map(Vec::len), Some(3));
     assert!(html.contains("Worst-case plan") && html.contains("invented"));

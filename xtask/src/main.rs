@@ -4,9 +4,11 @@
 //! 1. `cargo fmt --all -- --check`
 //! 2. `cargo clippy --workspace --all-targets -- -D warnings`
 //! 3. `cargo clippy -p lenz --features defmt,serde -- -D warnings` (the optional features)
-//! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe) with a fixed
-//!    proptest seed ([`PROPTEST_SEED`], or the caller's `PROPTEST_RNG_SEED`): the same draws on
-//!    every run, so an unrelated change cannot fail on an unlucky draw
+//! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe, the demo report
+//!    opened in headless Chromium) with a fixed proptest seed ([`PROPTEST_SEED`], or the
+//!    caller's `PROPTEST_RNG_SEED`): the same draws on every run, so an unrelated change cannot
+//!    fail on an unlucky draw; before it, a missing `chromium` stops the run with the command
+//!    that installs it
 //! 5. `cargo doc --workspace --no-deps` with `RUSTDOCFLAGS="-D warnings"` (broken or private
 //!    intra-doc links fail)
 //! 6. the target checks ([`target`]): Cortex-M builds of lenz, the on-target test image under
@@ -66,6 +68,37 @@ fn step_env(name: &str, args: &[&str], env: &[(&str, &str)]) -> Result<(), Strin
     }
 }
 
+/// The host tests open the demo report in headless Chromium: without the browser they would
+/// fail one by one, so say what to install before they start.
+fn browser() -> Result<(), String> {
+    let hint = "install it with `apt-get install chromium chromium-driver` (or set \
+                LENZ_CHROMIUM to the browser's path)";
+    if let Some(p) = std::env::var_os("LENZ_CHROMIUM") {
+        return if Path::new(&p).is_file() {
+            Ok(())
+        } else {
+            Err(format!(
+                "LENZ_CHROMIUM={}: no such file; {hint}",
+                Path::new(&p).display()
+            ))
+        };
+    }
+    let path = std::env::var_os("PATH").unwrap_or_default();
+    let found = std::env::split_paths(&path).any(|d| {
+        ["chromium", "chromium-browser"]
+            .iter()
+            .any(|n| d.join(n).is_file())
+    });
+    if found {
+        println!("xtask: browser: chromium found");
+        Ok(())
+    } else {
+        Err(format!(
+            "browser: chromium not found: the report page is checked in a real browser; {hint}"
+        ))
+    }
+}
+
 /// The proptest seed of the host tests in `cargo xtask test` (proptest reads
 /// `PROPTEST_RNG_SEED` in `Config::default()`; properties that fix their own seed keep it).
 pub const PROPTEST_SEED: &str = "20260711";
@@ -107,6 +140,7 @@ fn test() -> Result<(), String> {
             "warnings",
         ],
     )?;
+    browser()?;
     let env = host_test_env(std::env::var("PROPTEST_RNG_SEED").ok());
     let env: Vec<(&str, &str)> = env.iter().map(|(k, v)| (*k, v.as_str())).collect();
     step_env("host tests", &["test", "--workspace"], &env)?;

@@ -58,6 +58,7 @@
 pub mod adc;
 mod coil_watch;
 pub mod demo;
+mod envelope;
 
 pub use adc::AdcChannel;
 
@@ -247,6 +248,12 @@ pub trait Plant {
             (c.max(o.clamp_j), s.max(o.switch_j))
         })
     }
+    /// Lowest and highest switch voltage the plant located inside its own integration steps
+    /// since the last call (ring peaks between two stops of the loop), V; `None` when it does
+    /// not track them (the loop still sees the values at every edge).
+    fn take_switch_v_window(&mut self) -> Option<(f64, f64)> {
+        None
+    }
     /// The integration failure that stopped the plant, if any (a run reports it as an error).
     fn failure(&self) -> Option<StepUnderflow> {
         None
@@ -328,6 +335,9 @@ impl Plant for CoilDrive {
     }
     fn worst_switch_off_j(&self) -> (f64, f64) {
         CoilDrive::worst_switch_off_j(self)
+    }
+    fn take_switch_v_window(&mut self) -> Option<(f64, f64)> {
+        CoilDrive::take_switch_v_window(self)
     }
     fn failure(&self) -> Option<StepUnderflow> {
         CoilDrive::failure(self)
@@ -568,6 +578,19 @@ pub struct Waveform {
     pub supply_v: Vec<f64>,
     /// Commanded drive: 0 off, 1 on, the duty for PWM.
     pub drive: Vec<f64>,
+    /// Lowest switch voltage since the previous recorded point (the envelope between samples:
+    /// every edge the loop stopped the plant at, and the extremes the plant located), V.
+    #[serde(default)]
+    pub switch_v_min: Vec<f64>,
+    /// Highest switch voltage since the previous recorded point, V.
+    #[serde(default)]
+    pub switch_v_max: Vec<f64>,
+    /// Lowest coil (inductor) current since the previous recorded point, A.
+    #[serde(default)]
+    pub current_min_a: Vec<f64>,
+    /// Highest coil (inductor) current since the previous recorded point, A.
+    #[serde(default)]
+    pub current_max_a: Vec<f64>,
 }
 
 /// Something that happened during a run.
@@ -696,6 +719,7 @@ pub fn run<P: Plant, C: Controller>(
     let mut band_from = cfg.output_band_start();
     let mut band_worst = 0.0f64;
     let mut edges: Vec<(u64, Edge)> = Vec::with_capacity(128);
+    let mut env = envelope::Envelope::new();
     let mut direction = Direction::Forward;
     // A supply ramp in progress: (start s, end s, from V, to V).
     let mut ramp: Option<(f64, f64, f64, f64)> = None;
@@ -808,6 +832,7 @@ pub fn run<P: Plant, C: Controller>(
                 &mut release_from,
                 &mut release_worst,
             );
+            env.note(plant);
             if let Some((a, b, v0, v1)) = ramp {
                 let x = ((te_s - a) / (b - a)).clamp(0.0, 1.0);
                 plant.set_supply_v(v0 + (v1 - v0) * x);
@@ -818,7 +843,10 @@ pub fn run<P: Plant, C: Controller>(
             observe(plant, te_s, &band_from, &mut band_worst);
             watch.observe(plant, te_s);
             match edge {
-                Edge::Switch(on) => plant.set_switch(on),
+                Edge::Switch(on) => {
+                    plant.set_switch(on);
+                    env.note(plant);
+                }
                 Edge::Sample => {
                     readings = sample(plant, &cfg.sensors, &mut sense, &mut rng);
                     if cfg.record_every > 0 && k % cfg.record_every as u64 == 0 {
@@ -831,6 +859,11 @@ pub fn run<P: Plant, C: Controller>(
                         wave.output_v.push(pr.output_v);
                         wave.supply_v.push(pr.supply_v);
                         wave.drive.push(drive_now);
+                        let (v0, v1, i0, i1) = env.take();
+                        wave.switch_v_min.push(v0);
+                        wave.switch_v_max.push(v1);
+                        wave.current_min_a.push(i0);
+                        wave.current_max_a.push(i1);
                     }
                 }
                 Edge::Fault(idx) => {
@@ -880,6 +913,7 @@ pub fn run<P: Plant, C: Controller>(
             &mut release_from,
             &mut release_worst,
         );
+        env.note(plant);
         observe(plant, t1_s, &band_from, &mut band_worst);
         watch.observe(plant, t1_s);
     }

@@ -346,6 +346,8 @@ pub struct CoilDrive {
     charge_c: f64,
     peak_switch_v: f64,
     peak_current_a: f64,
+    /// Lowest and highest switch voltage since [`CoilDrive::take_switch_v_window`] last ran.
+    window_v: (f64, f64),
     offs: Vec<SwitchOff>,
     open_off: Option<(usize, Energies)>,
     /// Keep every switch-off in `offs` (else only the latest; the others' energies are in
@@ -480,6 +482,7 @@ impl CoilDrive {
             charge_c: 0.0,
             peak_switch_v: 0.0,
             peak_current_a: 0.0,
+            window_v: (f64::INFINITY, f64::NEG_INFINITY),
             offs: Vec::new(),
             open_off: None,
             keep_offs: true,
@@ -622,6 +625,14 @@ impl CoilDrive {
     #[must_use]
     pub fn peak_switch_v(&self) -> f64 {
         self.peak_switch_v
+    }
+
+    /// Lowest and highest switch voltage the plant met since the last call (at the end of every
+    /// integration segment and at every located extreme of a ring), V; `None` when it has not
+    /// advanced since. Starts a new window.
+    pub fn take_switch_v_window(&mut self) -> Option<(f64, f64)> {
+        let w = std::mem::replace(&mut self.window_v, (f64::INFINITY, f64::NEG_INFINITY));
+        (w.0 <= w.1).then_some(w)
     }
 
     /// Highest current magnitude so far, A.
@@ -797,6 +808,7 @@ impl CoilDrive {
 
     fn note_peaks(&mut self, v: f64) {
         self.peak_switch_v = self.peak_switch_v.max(v);
+        self.window_v = (self.window_v.0.min(v), self.window_v.1.max(v));
         self.peak_current_a = self.peak_current_a.max(self.current_a().abs());
         self.update_off_record(v);
     }

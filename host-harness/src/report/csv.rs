@@ -62,6 +62,7 @@ mod tests {
             output_v: vec![24.0, 0.1],
             supply_v: vec![24.0, 23.9],
             drive: vec![0.0, 1.0],
+            ..Waveform::default()
         };
         let csv = to_csv(&w);
         let lines: Vec<&str> = csv.lines().collect();

@@ -2,19 +2,27 @@
 //! results.
 //!
 //! - [`csv`]: one file per scenario, one row per recorded tick.
-//! - [`svg`]: coil (inductor) current with the firmware's estimate, switch voltage and output
-//!   voltage in three panels, with demand changes, faults and trips marked; histograms. Drawn
-//!   with `plotters`' SVG backend and its built-in text metrics, so no system font library is
-//!   needed: text is written as SVG `<text>` and rendered by the viewer.
+//! - [`svg`]: shared plot helpers and histograms; [`waveform_plot`]: coil (inductor) current
+//!   with the firmware's estimate, switch voltage, output voltage and the drive over the whole
+//!   run, a zoomed panel around each switch-off and fault, the switch voltage and current as
+//!   their min..max envelope between samples, demand changes, faults and trips (time and the
+//!   fault before) marked. Drawn with `plotters`' SVG backend and its built-in text metrics,
+//!   so no system font library is needed: text is written as SVG `<text>` and rendered by the
+//!   viewer.
 //! - [`junit`]: one `<testcase>` per scenario and property, for CI systems.
-//! - [`html`]: the index page of a report folder.
 //! - [`text`]: numbers in engineering notation and tables for people.
+//! - [`html`]: the index page of a report folder, with the [`summary`] at its top.
+//! - [`browser`]: the page opened in headless Chromium: every image and link resolves, and a
+//!   screenshot.
 
+pub mod browser;
 pub mod csv;
 pub mod html;
 pub mod junit;
+pub mod summary;
 pub mod svg;
 pub mod text;
+pub mod waveform_plot;
 
 use crate::closed_loop::RunResult;
 

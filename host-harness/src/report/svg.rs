@@ -1,20 +1,19 @@
 //! SVG plots with `plotters` (SVG backend only; its built-in text metrics need no font
 //! library, and the text is rendered by whatever displays the SVG).
 
-use plotters::coord::Shift;
 use plotters::prelude::*;
 
 use super::Outcome;
 use crate::closed_loop::RunEvent;
 
-const FONT: &str = "sans-serif";
+pub(super) const FONT: &str = "sans-serif";
 
-fn err<E: std::fmt::Debug>(e: E) -> String {
+pub(super) fn err<E: std::fmt::Debug>(e: E) -> String {
     format!("plot: {e:?}")
 }
 
 /// `lo..hi` with a margin, never empty.
-fn span(values: impl Iterator<Item = f64>) -> (f64, f64) {
+pub(super) fn span(values: impl Iterator<Item = f64>) -> (f64, f64) {
     let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
     for v in values.filter(|v| v.is_finite()) {
         lo = lo.min(v);
@@ -29,7 +28,7 @@ fn span(values: impl Iterator<Item = f64>) -> (f64, f64) {
     (lo.min(0.0) - pad * f64::from(u8::from(lo < 0.0)), hi + pad)
 }
 
-fn mark_color(e: &RunEvent) -> RGBColor {
+pub(super) fn mark_color(e: &RunEvent) -> RGBColor {
     if e.what.starts_with("trip") {
         RED
     } else if e.what.starts_with("fault") {
@@ -41,7 +40,7 @@ fn mark_color(e: &RunEvent) -> RGBColor {
 
 /// Short label of a closed-loop event: load and supply steps are injected like faults but
 /// are operating conditions.
-fn event_label(what: &str) -> &'static str {
+pub(super) fn event_label(what: &str) -> &'static str {
     if what.contains("LoadStep") {
         "load step"
     } else if what.contains("SupplySag") || what.contains("SupplySurge") {
@@ -52,14 +51,14 @@ fn event_label(what: &str) -> &'static str {
 }
 
 /// Points per panel at most: two per pixel column of the 960-pixel-wide plot.
-const MAX_POINTS: usize = 2 * 960;
+pub(super) const MAX_POINTS: usize = 2 * 960;
 
 /// At most about `max` points that draw the same line as `pts` at the plot's resolution:
 /// `pts` (in time order) is cut into `max / 2` runs of equal length, and each run gives its
 /// lowest and highest point, in time order (the envelope a line through every point would
 /// fill). Short series are returned whole. So an SVG stays small and quick to draw whatever
 /// the scenario's length.
-fn envelope(pts: Vec<(f64, f64)>, max: usize) -> Vec<(f64, f64)> {
+pub(super) fn envelope(pts: Vec<(f64, f64)>, max: usize) -> Vec<(f64, f64)> {
     let runs = (max / 2).max(1);
     if pts.len() <= max {
         return pts;
@@ -86,182 +85,13 @@ fn envelope(pts: Vec<(f64, f64)>, max: usize) -> Vec<(f64, f64)> {
     out
 }
 
-struct Series<'a> {
-    label: &'a str,
-    values: &'a [f64],
-    color: RGBColor,
-}
-
-fn panel(
-    area: &DrawingArea<SVGBackend<'_>, Shift>,
-    title: &str,
-    unit: &str,
-    t_ms: &[f64],
-    series: &[Series<'_>],
-    events: &[RunEvent],
-) -> Result<(), String> {
-    let (x0, x1) = (
-        t_ms.first().copied().unwrap_or(0.0),
-        t_ms.last().copied().unwrap_or(1.0).max(1e-6),
-    );
-    let (y0, y1) = span(series.iter().flat_map(|s| s.values.iter().copied()));
-    let mut chart = ChartBuilder::on(area)
-        .margin(6)
-        .caption(title, (FONT, 15))
-        .x_label_area_size(28)
-        .y_label_area_size(56)
-        .build_cartesian_2d(x0..x1, y0..y1)
-        .map_err(err)?;
-    chart
-        .configure_mesh()
-        .x_desc("time (ms)")
-        .y_desc(unit)
-        .label_style((FONT, 11))
-        .draw()
-        .map_err(err)?;
-    for e in events {
-        let t = e.t_s * 1e3;
-        let c = mark_color(e);
-        chart
-            .draw_series(std::iter::once(PathElement::new(
-                vec![(t, y0), (t, y1)],
-                c.stroke_width(1),
-            )))
-            .map_err(err)?;
-        if e.what.starts_with("trip") || e.what.starts_with("fault") {
-            // Trip labels sit lower than the others, so the two never overlap.
-            let (label, y) = if e.what.starts_with("trip") {
-                ("trip", y0 + 0.9 * (y1 - y0))
-            } else {
-                (event_label(&e.what), y1)
-            };
-            chart
-                .draw_series(std::iter::once(Text::new(
-                    label,
-                    (t, y),
-                    (FONT, 11).into_font().color(&c),
-                )))
-                .map_err(err)?;
-        }
-    }
-    for s in series {
-        let pts: Vec<(f64, f64)> = t_ms
-            .iter()
-            .zip(s.values)
-            .filter(|(_, v)| v.is_finite())
-            .map(|(t, v)| (*t, *v))
-            .collect();
-        if pts.is_empty() {
-            continue;
-        }
-        let pts = envelope(pts, MAX_POINTS);
-        let c = s.color;
-        chart
-            .draw_series(LineSeries::new(pts, c.stroke_width(1)))
-            .map_err(err)?
-            .label(s.label)
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], c.stroke_width(2)));
-    }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .label_font((FONT, 11))
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .draw()
-        .map_err(err)?;
-    Ok(())
-}
-
-/// The waveform plot of one scenario: current and estimate, switch voltage, output voltage;
-/// demand changes (grey), faults and load or supply steps (orange) and trips (red) marked.
+/// The waveform plot of one scenario (see [`super::waveform_plot`]).
 ///
 /// # Errors
 ///
 /// Drawing failed (a message).
 pub fn waveform_svg(o: &Outcome) -> Result<String, String> {
-    let w = &o.result.waveform;
-    let t_ms: Vec<f64> = w.t_s.iter().map(|t| t * 1e3).collect();
-    let mut buf = String::new();
-    {
-        let root = SVGBackend::with_string(&mut buf, (960, 820)).into_drawing_area();
-        root.fill(&WHITE).map_err(err)?;
-        let verdict = if o.result.passed() {
-            "all properties hold"
-        } else {
-            "PROPERTY VIOLATED"
-        };
-        let (top, rest) = root.split_vertically(34);
-        top.draw(&Text::new(
-            format!("{} — {} ({verdict})", o.system, o.scenario),
-            (10, 8),
-            (FONT, 18).into_font(),
-        ))
-        .map_err(err)?;
-        let areas = rest.split_evenly((3, 1));
-        let blue = RGBColor(31, 90, 180);
-        let green = RGBColor(20, 150, 60);
-        let ev = &o.result.events;
-        if let [a, b, c] = areas.as_slice() {
-            let has_estimate = w.estimate_a.iter().any(|v| v.is_finite());
-            panel(
-                a,
-                if has_estimate {
-                    "coil current and the firmware's estimate"
-                } else {
-                    "inductor current"
-                },
-                "A",
-                &t_ms,
-                &[
-                    Series {
-                        label: "plant current",
-                        values: &w.current_a,
-                        color: blue,
-                    },
-                    Series {
-                        label: "estimate",
-                        values: &w.estimate_a,
-                        color: RGBColor(220, 60, 40),
-                    },
-                ],
-                ev,
-            )?;
-            panel(
-                b,
-                "switch voltage (at the sampling instants)",
-                "V",
-                &t_ms,
-                &[Series {
-                    label: "switch",
-                    values: &w.switch_v,
-                    color: RGBColor(120, 40, 160),
-                }],
-                ev,
-            )?;
-            panel(
-                c,
-                "output voltage and supply",
-                "V",
-                &t_ms,
-                &[
-                    Series {
-                        label: "output",
-                        values: &w.output_v,
-                        color: green,
-                    },
-                    Series {
-                        label: "supply",
-                        values: &w.supply_v,
-                        color: RGBColor(100, 100, 100),
-                    },
-                ],
-                ev,
-            )?;
-        }
-        root.present().map_err(err)?;
-    }
-    Ok(buf)
+    super::waveform_plot::waveform_svg(o)
 }
 
 /// A histogram of `counts` over `[lo, hi]` (equal bins), with the limit marked.
