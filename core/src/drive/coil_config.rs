@@ -490,14 +490,10 @@ impl CoilDriverConfig {
     #[inline]
     #[must_use]
     pub fn supply_mv(&self, counts: u16) -> i32 {
-        let d = counts as i32 - self.supply_zero_counts as i32;
-        let mv = crate::kernel::q::mul_wide(d, self.supply_mv_per_count_q16) >> 16;
-        if mv < 0 {
-            0
-        } else if mv > i32::MAX as i64 {
-            i32::MAX
-        } else {
-            mv as i32
-        }
+        super::supply::supply_mv(
+            counts,
+            self.supply_zero_counts,
+            self.supply_mv_per_count_q16,
+        )
     }
 }

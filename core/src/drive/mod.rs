@@ -119,6 +119,10 @@ mod coil_status;
 mod duty;
 mod error;
 mod hold;
+mod motor;
+mod motor_config;
+mod motor_status;
+mod supply;
 mod switch;
 
 #[cfg(test)]
@@ -134,4 +138,7 @@ pub use coil_status::{CoilFault, CoilPhase};
 pub use duty::DUTY_ONE_Q16;
 pub use error::{DriveError, DriveErrorKind};
 pub use hold::{HOLD_LOOP_BIAS_MV, HoldEstimatorConfig, HoldEstimatorRaw};
+pub use motor::{MotorDriveError, MotorDriver, MotorDriverState, MotorSense};
+pub use motor_config::{MotorDriverConfig, MotorDriverParams, MotorDriverRaw};
+pub use motor_status::{BridgeError, MotorDriverFault};
 pub use switch::{OnOffSwitch, PinError};

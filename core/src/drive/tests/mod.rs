@@ -4,6 +4,8 @@
 mod boost;
 mod faults;
 mod hold_accuracy;
+mod motor_support;
+mod motor_transactions;
 mod props;
 mod support;
 mod transactions;
