@@ -144,7 +144,7 @@ pub type MotorDriveError<P, A, B> = DriveError<
 /// # Memory
 ///
 /// RAM per channel: the state ([`MotorDriverState`], 56 bytes), the configuration handle `C`
-/// (a reference: one pointer; or the configuration itself, 92 bytes), the outputs (the PWM
+/// (a reference: one pointer; or the configuration itself, 84 bytes), the outputs (the PWM
 /// and the two pins, zero-sized for most HALs' typed pins) and 8 bytes of PWM resolution,
 /// padded to 4: 68 bytes in all with a reference and zero-sized outputs on a 32-bit target
 /// (asserted by the unit tests).

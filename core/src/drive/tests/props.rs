@@ -10,7 +10,8 @@ use proptest::prelude::*;
 use super::support::*;
 use crate::drive::{
     BoostLoopConfig, BoostLoopState, CoilDriver, CoilDriverConfig, CoilDriverRaw, CoilDriverState,
-    CoilPhase, CoilSense, HoldEstimatorRaw, HoldMode, PullInSource,
+    CoilPhase, CoilSense, HoldEstimatorRaw, HoldMode, MotorDriver, MotorDriverConfig,
+    MotorDriverState, PullInSource,
 };
 use crate::kernel::CURRENT_LIMIT_UA;
 
@@ -28,6 +29,15 @@ fn ram_per_channel() {
     assert_eq!(
         size_of::<CoilDriver<&CoilDriverConfig, Nothing>>(),
         (112 + size_of::<usize>() + 10).next_multiple_of(8)
+    );
+    // The bridge motor driver: its state, the configuration, and a driver with zero-sized
+    // outputs and a borrowed configuration (state, reference and the 8-byte PWM resolution,
+    // 4-byte aligned: 68 bytes on a 32-bit target, 72 on a 64-bit host).
+    assert_eq!(size_of::<MotorDriverState>(), 56);
+    assert_eq!(size_of::<MotorDriverConfig>(), 84);
+    assert_eq!(
+        size_of::<MotorDriver<&MotorDriverConfig, Nothing, Nothing, Nothing>>(),
+        56 + size_of::<usize>() + 8
     );
 }
 
