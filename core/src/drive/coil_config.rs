@@ -5,8 +5,9 @@ use crate::bounds::Range;
 use crate::coil::Coil;
 use crate::error::{Error, in_range, non_negative, positive};
 use crate::kernel::{
-    CURRENT_LIMIT_UA, EstimatorConfig, MonitorConfig, MonitorParams, MonitorRaw, SenseScale,
-    TrackingOffTimerConfig, TrackingOffTimerRaw, TripConfig, TripParams, TripRaw,
+    CURRENT_LIMIT_UA, EstimatorConfig, MonitorConfig, MonitorParams, MonitorRaw, MovementConfig,
+    MovementRaw, SenseScale, TrackingOffTimerConfig, TrackingOffTimerRaw, TripConfig, TripParams,
+    TripRaw,
 };
 use crate::turnoff::Clamp;
 
@@ -139,6 +140,9 @@ pub struct CoilDriverRaw {
     pub hold_kp_q32: i32,
     /// Integral gain of the regulation, Q32 duty per µA per tick.
     pub hold_ki_q32: i32,
+    /// The armature movement detector, if the pull-in ends on the seating
+    /// ([`CoilDriverConfig::with_movement`]).
+    pub movement: Option<MovementRaw>,
 }
 
 /// The coil driver's configuration (shared by channels with the same coil and settings; can
@@ -166,6 +170,7 @@ pub struct CoilDriverConfig {
     hold_current_ua: i32,
     hold_kp_q32: i32,
     hold_ki_q32: i32,
+    movement: Option<MovementConfig>,
 }
 
 fn ticks(param: &'static str, s: f32, tick: f32) -> Result<u32, Error> {
@@ -335,6 +340,7 @@ impl CoilDriverConfig {
             hold_current_ua,
             hold_kp_q32: kp,
             hold_ki_q32: ki,
+            movement: None,
         })
     }
 
@@ -357,6 +363,10 @@ impl CoilDriverConfig {
             hold_current_ua: raw.hold_current_ua,
             hold_kp_q32: raw.hold_kp_q32,
             hold_ki_q32: raw.hold_ki_q32,
+            movement: match raw.movement {
+                Some(m) => Some(MovementConfig::from_raw(m)),
+                None => None,
+            },
         }
     }
 
@@ -378,7 +388,34 @@ impl CoilDriverConfig {
             hold_current_ua: self.hold_current_ua,
             hold_kp_q32: self.hold_kp_q32,
             hold_ki_q32: self.hold_ki_q32,
+            movement: match &self.movement {
+                Some(m) => Some(m.raw()),
+                None => None,
+            },
         }
+    }
+
+    /// The same configuration with the armature movement detector: the pull-in then ends when
+    /// the detector reports the armature seated ([`Motion::Seated`](crate::kernel::Motion)),
+    /// with the maximum pull-in time as the fallback (switch to hold, flagged as timed out), and
+    /// [`Motion::NoMotion`](crate::kernel::Motion) at the detector's deadline latches
+    /// [`CoilFault::Stuck`](super::CoilFault::Stuck). The pull-in current, its source and the
+    /// minimum pull-in time are then not used. The detector needs full drive during the pull-in
+    /// (the driver gives it) and a dip deeper than its hysteresis (see [`MovementConfig`]);
+    /// plan its deadline below the maximum pull-in time, or the fallback comes first.
+    ///
+    /// Without it the driver behaves exactly as before.
+    #[must_use]
+    pub const fn with_movement(mut self, movement: MovementConfig) -> Self {
+        self.movement = Some(movement);
+        self
+    }
+
+    /// The armature movement detector, if configured.
+    #[inline]
+    #[must_use]
+    pub const fn movement(&self) -> Option<&MovementConfig> {
+        self.movement.as_ref()
     }
 
     /// The off-timer (with the coil's estimator).

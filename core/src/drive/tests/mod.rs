@@ -7,6 +7,7 @@ mod hold_accuracy;
 mod motor_physics;
 mod motor_support;
 mod motor_transactions;
+mod movement;
 mod props;
 mod support;
 mod transactions;
