@@ -1,6 +1,6 @@
 //! The bridge motor driver in a loop with an f64 simulation of the motor equations
-//! (`V = R·i + L·di/dt + k·ω`, `J·dω/dt = k·i − b·ω − T`, the textbook DC motor model, see
-//! `docs/references.md`), solved exactly per tick by the independent reference
+//! (`V = R·i + L·di/dt + k·ω`, `J·dω/dt = k·i − b·ω − T`, the DC machine equations of
+//! [FKU] ch. 7 in `docs/references.md`), solved exactly per tick by the independent reference
 //! `testing::motor64` (eigenvalue form of the 2×2 linear system).
 
 extern crate std;
