@@ -348,3 +348,15 @@ fn a_broken_sense_latches_off() {
     assert_eq!(drv.fault(), Some(MotorDriverFault::Sense));
     finish(drv, &log, &exp);
 }
+
+/// The raw values round-trip, and a plan whose kernels tick at another rate is refused,
+/// naming the tick.
+#[test]
+fn raw_round_trip_and_tick_mismatch() {
+    let cfg = vent_config();
+    assert_eq!(MotorDriverConfig::from_raw(cfg.raw()), cfg);
+    let mut p = vent_params();
+    p.jam.tick_s = 1e-3;
+    let e = MotorDriverConfig::new(&p).unwrap_err();
+    assert_eq!(e.param(), "tick_s");
+}

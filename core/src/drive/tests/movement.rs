@@ -147,3 +147,14 @@ fn the_maximum_pull_in_time_is_the_fallback() {
         .unwrap();
     assert_eq!(first, 35);
 }
+
+/// The detector travels with the raw values; without it the raw values say so.
+#[test]
+fn raw_round_trip_with_and_without_the_detector() {
+    let with = with_detector(0.02);
+    assert!(with.raw().movement.is_some());
+    assert_eq!(CoilDriverConfig::from_raw(with.raw()), with);
+    let plain = config(ZENER, duty_hold(&ZENER));
+    assert_eq!(plain.raw().movement, None);
+    assert_eq!(plain.movement(), None);
+}
