@@ -10,7 +10,8 @@ use lenz::kernel::{
     MonitorParams, SenseScale, SpeedErrorTerms, SpeedEstimatorConfig,
 };
 use lenz::motor::{MotorParams, MotorSpread, Rail, ReturnPath};
-use lenz::{CoilParams, Range};
+use lenz::trip::{Curve, InverseTime, SenseChain, SenseParams, Thermal};
+use lenz::{CoilParams, Error, Range};
 use proptest::prelude::*;
 
 /// Arbitrary f32 with the edge cases drawn often.
@@ -167,6 +168,7 @@ proptest! {
         let _ = Range::exact("x", a);
         let _ = Range::tolerance("x", a, tol);
         if let Ok(r) = Range::new("x", a, b) {
+            prop_assert!(r.mid().is_finite() && r.min() <= r.mid() && r.mid() <= r.max(), "mid of {r:?}");
             let w = worst_case(&[r], |p| Ok(p[0] * 2.0));
             if let Ok(bound) = w {
                 prop_assert!(bound.min <= bound.max);
@@ -197,6 +199,104 @@ proptest! {
             });
         }
     }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 2000, ..ProptestConfig::default() })]
+
+    #[test]
+    fn trip_routines(ci in 0usize..Curve::ALL.len(), v in proptest::array::uniform8(wild()), bits in any::<u8>()) {
+        let [pickup, tms, i, t_min, tau, k, base, x] = v;
+        let curve = Curve::ALL[ci];
+        for el in [InverseTime::new(curve, pickup, tms), InverseTime::new(curve, 2.5, 0.05)]
+            .into_iter()
+            .flatten()
+        {
+            ok_finite(el.trip_time_s(i))?;
+            if let Ok(Some(r)) = el.rate_per_s(i) {
+                prop_assert!(r.is_finite(), "rate Ok({r}) at {i} A");
+            }
+            if let Ok(Some(r)) = el.reset_time_s(i) {
+                prop_assert!(r.is_finite(), "reset Ok({r}) at {i} A");
+            }
+            if let Ok(el) = el.with_definite_min_s(t_min) {
+                ok_finite(el.trip_time_s(i))?;
+            }
+        }
+        for th in [Thermal::new(tau, k, base), Thermal::new(100.0, 1.1, 2.0)].into_iter().flatten() {
+            ok_finite(th.steady_state(i))?;
+            ok_finite(th.trip_time_s(i, x))?;
+            ok_finite(th.state_after(x, i, t_min))?;
+            ok_finite(th.adiabatic_trip_time_s(i))?;
+            ok_finite(th.decay_factor(x))?;
+        }
+        let params = SenseParams {
+            shunt_ohm: pickup, shunt_tol: tms, gain: k, gain_tol: 0.01, offset_v: x,
+            vref_v: base, vref_tol: 0.005, bits,
+        };
+        let nominal = SenseParams {
+            shunt_ohm: 0.01, shunt_tol: 0.01, gain: 20.0, gain_tol: 0.005, offset_v: 0.002,
+            vref_v: 3.3, vref_tol: 0.005, bits: 12,
+        };
+        for sc in [SenseChain::new(&params), SenseChain::new(&nominal)].into_iter().flatten() {
+            ok_finite(sc.tolerance_rss(i))?;
+            ok_finite(sc.tolerance_linear_sum(i))?;
+        }
+    }
+}
+
+/// The four routines that returned `Ok(inf)` at the ends of the f32 range: now each names the
+/// parameter instead (the values are the reproductions).
+#[test]
+fn extreme_currents_are_errors_not_infinite() {
+    let el = InverseTime::new(Curve::IecExtremelyInverse, 1.0, 0.05).unwrap();
+    match el.rate_per_s(f32::MAX) {
+        Err(Error::OutOfRange { param, max, .. }) => {
+            assert_eq!(param, "current_a");
+            // The largest current with a finite rate, and the next float above has none.
+            assert!(el.rate_per_s(max).unwrap().unwrap().is_finite());
+            let above = f32::from_bits(max.to_bits() + 1);
+            assert!(el.rate_per_s(above).is_err(), "{max} {above}");
+        }
+        other => panic!("rate at f32::MAX: {other:?}"),
+    }
+    let sc = SenseChain::new(&SenseParams {
+        shunt_ohm: 0.01,
+        shunt_tol: 0.01,
+        gain: 20.0,
+        gain_tol: 0.005,
+        offset_v: 0.002,
+        vref_v: 3.3,
+        vref_tol: 0.005,
+        bits: 12,
+    })
+    .unwrap();
+    assert_eq!(sc.tolerance_rss(1e-40).unwrap_err().param(), "current_a");
+    assert_eq!(
+        sc.tolerance_linear_sum(1e-44).unwrap_err().param(),
+        "current_a"
+    );
+    // Just above the square-root limit the scaled form keeps a finite answer: the offset term.
+    let rss = sc.tolerance_rss(1e-20).unwrap();
+    let offset_term = 0.002f32 / (1e-20 * 0.01);
+    assert!(
+        (rss / offset_term - 1.0).abs() < 1e-6,
+        "{rss} {offset_term}"
+    );
+    let th = Thermal::new(100.0, 1.1, 2.0).unwrap();
+    match th.steady_state(1e30) {
+        Err(Error::OutOfRange { param, max, .. }) => {
+            assert_eq!(param, "current_a");
+            assert!(th.steady_state(max * 0.999_999).unwrap().is_finite());
+        }
+        other => panic!("steady state at 1e30 A: {other:?}"),
+    }
+    let r = Range::new("x", 3.0e38, f32::MAX).unwrap();
+    let mid = r.mid();
+    assert!(
+        mid.is_finite() && (3.0e38..=f32::MAX).contains(&mid),
+        "{mid}"
+    );
 }
 
 proptest! {

@@ -87,11 +87,23 @@ impl Range {
     /// Midpoint.
     #[must_use]
     pub fn mid(&self) -> f32 {
-        0.5 * (self.min + self.max)
+        // The sum overflows near f32::MAX; the halves never do (and halving is exact there).
+        let sum = self.min + self.max;
+        if sum.is_finite() {
+            0.5 * sum
+        } else {
+            0.5 * self.min + 0.5 * self.max
+        }
     }
 
     fn at(&self, frac: f32) -> f32 {
-        self.min + (self.max - self.min) * frac
+        let span = self.max - self.min;
+        if span.is_finite() {
+            self.min + span * frac
+        } else {
+            // Ends of opposite sign near ±f32::MAX: the weighted sum cannot overflow.
+            self.min * (1.0 - frac) + self.max * frac
+        }
     }
 }
 

@@ -6,6 +6,8 @@
 
 use core::fmt;
 
+use crate::message::{Num, unit_of};
+
 /// What was wrong with a plan input, and which input it was.
 ///
 /// `param` is the parameter's name as written in this crate's API (for example
@@ -68,7 +70,7 @@ impl Error {
 
 impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        match self {
+        match *self {
             Error::NotFinite { param } => write!(f, "{param}: must be a finite number"),
             Error::NotPositive { param } => write!(f, "{param}: must be greater than zero"),
             Error::Negative { param } => write!(f, "{param}: must not be negative"),
@@ -77,18 +79,33 @@ impl fmt::Display for Error {
                 value,
                 min,
                 max,
-            } => write!(
-                f,
-                "{param}: {value} is out of range, allowed {min} ..= {max}"
-            ),
+            } => {
+                let unit = unit_of(param);
+                let num = |value| Num { value, unit };
+                write!(f, "{param}: {} is out of range, ", num(value))?;
+                match (min.is_finite(), max.is_finite()) {
+                    (true, true) => write!(f, "allowed {} ..= {}", num(min), num(max)),
+                    (true, false) => write!(f, "allowed from {}", num(min)),
+                    (false, true) => write!(f, "allowed up to {}", num(max)),
+                    (false, false) => f.write_str("no value is allowed"),
+                }
+            }
             Error::Unreachable {
                 param,
                 target,
                 limit,
-            } => write!(
-                f,
-                "{param}: target {target} cannot be reached, the reachable limit is {limit}"
-            ),
+            } => {
+                let unit = unit_of(param);
+                write!(
+                    f,
+                    "{param}: target {} cannot be reached, the reachable limit is {}",
+                    Num {
+                        value: target,
+                        unit
+                    },
+                    Num { value: limit, unit }
+                )
+            }
         }
     }
 }
@@ -156,6 +173,18 @@ mod tests {
         let e = in_range("duty", 1.5, 0.0, 1.0).unwrap_err();
         assert_eq!(e.param(), "duty");
         assert_eq!(e.to_string(), "duty: 1.5 is out of range, allowed 0 ..= 1");
+        let e = in_range("current_a", f32::MAX, 0.0, 1.0e5).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "current_a: 3.4028e38 A is out of range, allowed 0 A ..= 100000 A"
+        );
+        let e = Error::OutOfRange {
+            param: "x",
+            value: 2.0,
+            min: f32::NEG_INFINITY,
+            max: 1.0,
+        };
+        assert_eq!(e.to_string(), "x: 2 is out of range, allowed up to 1");
         assert_eq!(
             positive("inductance_h", 0.0).unwrap_err().to_string(),
             "inductance_h: must be greater than zero"

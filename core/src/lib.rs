@@ -8,6 +8,7 @@ pub mod coil;
 pub mod drive;
 mod error;
 pub mod kernel;
+mod message;
 pub mod motor;
 #[cfg(test)]
 mod testing;

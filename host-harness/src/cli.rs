@@ -2,7 +2,9 @@
 //!
 //! Exit codes: 0 success; 1 a checked property failed (simulation commands); 2 bad or
 //! unreachable input, reported as one line on stderr naming the parameter and the problem,
-//! with nothing on stdout.
+//! with nothing on stdout. A command's stdout is written once it has finished (see
+//! `out.rs`): when the reader has gone (a closed pipe) the rest is dropped quietly and the
+//! exit code stays the command's; any other write error is exit 2 with a message.
 
 use std::fmt;
 use std::process::ExitCode;
@@ -151,17 +153,23 @@ where
         Ok(cli) => cli,
         Err(e) => {
             return match e.kind() {
-                ErrorKind::DisplayHelp | ErrorKind::DisplayVersion => {
-                    let _ = e.print();
-                    ExitCode::SUCCESS
-                }
+                ErrorKind::DisplayHelp | ErrorKind::DisplayVersion => match e.print() {
+                    Ok(()) => ExitCode::SUCCESS,
+                    Err(w) if w.kind() == std::io::ErrorKind::BrokenPipe => ExitCode::SUCCESS,
+                    Err(w) => {
+                        complain(&format!("cannot write to standard output: {w}"));
+                        ExitCode::from(2)
+                    }
+                },
                 _ => {
-                    eprintln!("lenz: {}", one_line(&e.render().to_string()));
+                    complain(&one_line(&e.render().to_string()));
                     ExitCode::from(2)
                 }
             };
         }
     };
+    // Text a command printed before an earlier command in this thread failed is not ours.
+    let _ = crate::out::take();
     let result = match cli.command {
         Command::Coil(a) => cmd::coil::run(&a),
         Command::Motor(a) => cmd::motor::run(&a),
@@ -176,11 +184,26 @@ where
         Command::Boost(a) => cmd::boost::run(&a),
         Command::Cost(a) => cmd::cost::run(&a),
     };
+    let text = crate::out::take();
     match result {
-        Ok(code) => code,
+        // Printed only on success: a failed command leaves stdout empty.
+        Ok(code) => match crate::out::write_to(&mut std::io::stdout().lock(), &text) {
+            Ok(_) => code,
+            Err(e) => {
+                complain(&format!("cannot write to standard output: {e}"));
+                ExitCode::from(2)
+            }
+        },
         Err(e) => {
-            eprintln!("lenz: {e}");
+            complain(&e.to_string());
             ExitCode::from(2)
         }
     }
+}
+
+/// One line on stderr; a stderr that cannot be written is ignored (the exit code still
+/// tells).
+fn complain(text: &str) {
+    use std::io::Write as _;
+    let _ = writeln!(std::io::stderr().lock(), "lenz: {text}");
 }

@@ -6,6 +6,9 @@
 
 pub mod cli;
 pub mod closed_loop;
+// `outln!` is defined here and used by the commands: textual macro scope, so before `cmd`.
+#[macro_use]
+mod out;
 mod cmd;
 pub mod controllers;
 pub mod demo;

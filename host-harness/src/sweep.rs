@@ -9,16 +9,23 @@
 //!
 //! `--shard K/N` runs the contiguous slice `[(K−1)·R/N, K·R/N)` of the `R` runs. Every output
 //! carries its run records; [`merge`] checks that the shards belong to one sweep (same file
-//! contents, seed, run count and shard count, each shard exactly once), puts the records back
-//! in order and summarises them with the same code as an unsharded run, so the merged JSON is
-//! byte-for-byte the unsharded one.
+//! contents, whatever the path's spelling; seed, run count and shard count; each shard exactly
+//! once), puts the records back in order and summarises them with the same code as an
+//! unsharded run, so the merged JSON is byte-for-byte the unsharded one.
 //!
 //! # Summary
 //!
 //! Per scenario and property: the pass rate, the worst run (largest value; ties go to the
 //! lowest index) with its part values and the command that replays it, the value range, the
 //! mean, and a histogram of 20 equal bins over the finite values (infinite values, a trip that
-//! never came, are counted apart).
+//! never came, are counted apart). The range and mean are exact; a value is put in its bin at
+//! `f32` precision (kept that way to hold memory at 4 bytes per run and property), so a value
+//! within 1e-7 (relative) of a bin edge may land in the neighbouring bin.
+//!
+//! # Memory
+//!
+//! A run's results are reduced to its property values on the worker thread and folded into
+//! the summary in index order; the full results of a run are never kept. See [`sweep`].
 
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -175,7 +182,7 @@ pub struct Output {
     pub all_passed: u64,
     /// Per property.
     pub summary: Vec<PropertySummary>,
-    /// The runs (of this shard), in index order.
+    /// The runs (of this shard), in index order (empty from [`sweep_summary`]).
     pub records: Vec<RunRecord>,
     /// The properties, in the order of the record values.
     pub keys: Vec<Key>,
@@ -228,65 +235,228 @@ pub fn run_one(
     Ok((p, results))
 }
 
-/// Runs the sweep; `tick` is called after every run (for a progress bar).
+/// The properties of a run, in [`Key`] order.
+fn keys_of(file: &File, results: &[RunResult]) -> Vec<Key> {
+    let mut keys = Vec::new();
+    for (sc, r) in file.scenarios.iter().zip(results) {
+        for p in &r.properties {
+            keys.push(Key {
+                scenario: sc.name.clone(),
+                property: p.name.to_string(),
+                unit: p.unit.to_string(),
+                limit: p.limit,
+            });
+        }
+    }
+    keys
+}
+
+/// Runs in flight at once: results are folded into the summary in index order one batch at a
+/// time, so the summary does not depend on the thread count and memory on the batch only.
+const BATCH: u64 = 1024;
+
+/// Runs the sweep and keeps every run's record in the output (as `--json` prints them);
+/// `tick` is called after every run (for a progress bar).
+///
+/// Memory: each run is reduced to its record (part values, one value and one pass flag per
+/// property) on the worker thread, so its waveforms, events and switch-offs are freed as soon
+/// as it ends, and folded into the running summary ([`Summary`]) in index order.
 ///
 /// # Errors
 ///
 /// A value the plans or the plant reject, or the thread pool cannot start.
 pub fn sweep(plan: &Plan<'_>, tick: &(dyn Fn() + Sync)) -> Result<Output, RunSetupError> {
+    sweep_with(plan, true, tick)
+}
+
+/// [`sweep`] without the run records (`records` is empty): what grows with the number of runs
+/// is then 4 bytes per property and run, for the histogram.
+///
+/// # Errors
+///
+/// As [`sweep`].
+pub fn sweep_summary(plan: &Plan<'_>, tick: &(dyn Fn() + Sync)) -> Result<Output, RunSetupError> {
+    sweep_with(plan, false, tick)
+}
+
+fn sweep_with(
+    plan: &Plan<'_>,
+    keep_records: bool,
+    tick: &(dyn Fn() + Sync),
+) -> Result<Output, RunSetupError> {
     let range = plan.shard.map_or(0..plan.runs, |s| s.range(plan.runs));
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(plan.jobs.max(1))
         .build()
         .map_err(|e| RunSetupError(format!("--jobs: cannot start the threads: {e}")))?;
-    let runs: Vec<(u64, Params, Vec<RunResult>)> = pool.install(|| {
-        range
-            .into_par_iter()
-            .map(|i| {
-                let r = run_one(plan.file, plan.seed, i).map(|(p, res)| (i, p, res));
-                tick();
-                r
-            })
-            .collect::<Result<Vec<_>, _>>()
-    })?;
-    let mut keys: Vec<Key> = Vec::new();
-    if let Some((_, _, res)) = runs.first() {
-        for (sc, r) in plan.file.scenarios.iter().zip(res) {
-            for p in &r.properties {
-                keys.push(Key {
-                    scenario: sc.name.clone(),
-                    property: p.name.to_string(),
-                    unit: p.unit.to_string(),
-                    limit: p.limit,
-                });
+    let mut keys: Option<Vec<Key>> = None;
+    let mut summary = Summary::default();
+    let mut records = Vec::new();
+    let mut start = range.start;
+    while start < range.end {
+        let end = range.end.min(start.saturating_add(BATCH));
+        let batch: Vec<(RunRecord, Option<Vec<Key>>)> = pool.install(|| {
+            (start..end)
+                .into_par_iter()
+                .map(|index| {
+                    let r = run_one(plan.file, plan.seed, index).map(|(params, res)| {
+                        let props = || res.iter().flat_map(|r| r.properties.iter());
+                        let record = RunRecord {
+                            index,
+                            params,
+                            values: props()
+                                .map(|p| Some(p.value).filter(|v| v.is_finite()))
+                                .collect(),
+                            pass: props().map(|p| p.pass).collect(),
+                        };
+                        let k = (index == range.start).then(|| keys_of(plan.file, &res));
+                        (record, k)
+                    });
+                    tick();
+                    r
+                })
+                .collect::<Result<Vec<_>, _>>()
+        })?;
+        for (record, k) in batch {
+            if let Some(k) = k {
+                keys = Some(k);
+            }
+            summary.push(&record.values, &record.pass, record.index);
+            if keep_records {
+                records.push(record);
             }
         }
+        start = end;
     }
-    let records = runs
-        .into_iter()
-        .map(|(index, params, res)| {
-            let props: Vec<_> = res.iter().flat_map(|r| r.properties.iter()).collect();
-            RunRecord {
-                index,
-                params,
-                values: props
-                    .iter()
-                    .map(|p| Some(p.value).filter(|v| v.is_finite()))
-                    .collect(),
-                pass: props.iter().map(|p| p.pass).collect(),
-            }
-        })
-        .collect();
-    Ok(summarise(
-        plan.file_name,
-        plan.file_hash,
-        &plan.file.system.name,
-        plan.seed,
-        plan.runs,
-        plan.shard,
-        keys,
+    let keys = keys.unwrap_or_default();
+    let seed = plan.seed;
+    let file = plan.file;
+    Ok(Output {
+        file: plan.file_name.to_string(),
+        file_hash: plan.file_hash.to_string(),
+        system: plan.file.system.name.clone(),
+        seed,
+        runs: plan.runs,
+        shard: plan.shard,
+        all_passed: summary.all_passed,
+        summary: summary.finish(&keys, plan.file_name, seed, &|i| {
+            Params::draw(file, seed, i)
+        }),
         records,
-    ))
+        keys,
+    })
+}
+
+/// The running summary of a sweep, fed run by run in index order (the same code for a sweep
+/// and for merged shards, so both give the same numbers to the last bit).
+#[derive(Debug, Default)]
+pub struct Summary {
+    props: Vec<Acc>,
+    /// Runs in which every property held.
+    pub all_passed: u64,
+}
+
+/// One property's running figures.
+#[derive(Debug, Default)]
+struct Acc {
+    runs: u64,
+    passed: u64,
+    /// Worst so far: index and value (`None`: not finite, which ranks first).
+    worst: Option<(u64, Option<f64>)>,
+    min: Option<f64>,
+    max: Option<f64>,
+    sum: f64,
+    /// The finite values, as `f32`, for the histogram's bins once the range is known.
+    finite: Vec<f32>,
+}
+
+impl Summary {
+    /// Adds run `index` (which must follow the previous one).
+    pub fn push(&mut self, values: &[Option<f64>], pass: &[bool], index: u64) {
+        if self.props.len() < values.len() {
+            self.props.resize_with(values.len(), Acc::default);
+        }
+        for (j, a) in self.props.iter_mut().enumerate() {
+            let v = values.get(j).copied().flatten();
+            let ok = pass.get(j).copied().unwrap_or(false);
+            a.runs += 1;
+            a.passed += u64::from(ok);
+            // Worst: a non-finite value first, then the largest; ties to the lowest index.
+            let rank = |v: Option<f64>| v.unwrap_or(f64::INFINITY);
+            if a.worst.is_none_or(|(_, w)| rank(v) > rank(w)) {
+                a.worst = Some((index, v));
+            }
+            if let Some(v) = v {
+                a.min = Some(a.min.map_or(v, |m| m.min(v)));
+                a.max = Some(a.max.map_or(v, |m| m.max(v)));
+                a.sum += v;
+                a.finite.push(v as f32);
+            }
+        }
+        if pass.iter().all(|p| *p) {
+            self.all_passed += 1;
+        }
+    }
+
+    /// The summary of every property of `keys`; `params_of` gives a run's part values (for
+    /// the worst runs), `file` names the file in the replay commands.
+    #[must_use]
+    pub fn finish(
+        self,
+        keys: &[Key],
+        file: &str,
+        seed: u64,
+        params_of: &dyn Fn(u64) -> Params,
+    ) -> Vec<PropertySummary> {
+        let mut props = self.props.into_iter();
+        keys.iter()
+            .map(|key| {
+                let a = props.next().unwrap_or_default();
+                let n = a.runs;
+                let (lo, hi) = (a.min.unwrap_or(0.0), a.max.unwrap_or(0.0));
+                let mut counts = vec![0u64; BINS];
+                for &v in &a.finite {
+                    let b = if hi > lo {
+                        (((f64::from(v) - lo) / (hi - lo)) * BINS as f64).floor() as usize
+                    } else {
+                        0
+                    };
+                    if let Some(c) = counts.get_mut(b.min(BINS - 1)) {
+                        *c += 1;
+                    }
+                }
+                let n_finite = a.finite.len() as u64;
+                PropertySummary {
+                    scenario: key.scenario.clone(),
+                    property: key.property.clone(),
+                    unit: key.unit.clone(),
+                    limit: key.limit,
+                    runs: n,
+                    passed: a.passed,
+                    pass_rate: if n == 0 {
+                        0.0
+                    } else {
+                        a.passed as f64 / n as f64
+                    },
+                    worst: a.worst.map(|(index, value)| Worst {
+                        index,
+                        value,
+                        params: params_of(index),
+                        replay: format!("lenz sim {file} --replay {seed}:{index}"),
+                    }),
+                    min: a.min,
+                    max: a.max,
+                    mean: (n_finite > 0).then(|| a.sum / n_finite as f64),
+                    histogram: Histogram {
+                        lo,
+                        hi,
+                        counts,
+                        not_finite: n - n_finite,
+                    },
+                }
+            })
+            .collect()
+    }
 }
 
 /// Builds the output from records (sorted here by index).
@@ -303,83 +473,19 @@ pub fn summarise(
     mut records: Vec<RunRecord>,
 ) -> Output {
     records.sort_by_key(|r| r.index);
-    let summary = keys
-        .iter()
-        .enumerate()
-        .map(|(j, key)| {
-            let vals: Vec<(u64, Option<f64>, bool, &Params)> = records
-                .iter()
-                .map(|r| {
-                    (
-                        r.index,
-                        r.values.get(j).copied().flatten(),
-                        r.pass.get(j).copied().unwrap_or(false),
-                        &r.params,
-                    )
-                })
-                .collect();
-            let n = vals.len() as u64;
-            let passed = vals.iter().filter(|v| v.2).count() as u64;
-            // Worst: a non-finite value first, then the largest; ties to the lowest index.
-            let rank = |v: Option<f64>| v.unwrap_or(f64::INFINITY);
-            let worst = vals
-                .iter()
-                .fold(None::<&(u64, Option<f64>, bool, &Params)>, |w, v| match w {
-                    Some(w) if rank(w.1) >= rank(v.1) => Some(w),
-                    _ => Some(v),
-                })
-                .map(|w| Worst {
-                    index: w.0,
-                    value: w.1,
-                    params: *w.3,
-                    replay: format!("lenz sim {file} --replay {seed}:{}", w.0),
-                });
-            let finite: Vec<f64> = vals.iter().filter_map(|v| v.1).collect();
-            let min = finite.iter().copied().reduce(f64::min);
-            let max = finite.iter().copied().reduce(f64::max);
-            let mean = if finite.is_empty() {
-                None
-            } else {
-                Some(finite.iter().sum::<f64>() / finite.len() as f64)
-            };
-            let (lo, hi) = (min.unwrap_or(0.0), max.unwrap_or(0.0));
-            let mut counts = vec![0u64; BINS];
-            for v in &finite {
-                let b = if hi > lo {
-                    (((v - lo) / (hi - lo)) * BINS as f64).floor() as usize
-                } else {
-                    0
-                };
-                if let Some(c) = counts.get_mut(b.min(BINS - 1)) {
-                    *c += 1;
-                }
-            }
-            PropertySummary {
-                scenario: key.scenario.clone(),
-                property: key.property.clone(),
-                unit: key.unit.clone(),
-                limit: key.limit,
-                runs: n,
-                passed,
-                pass_rate: if n == 0 {
-                    0.0
-                } else {
-                    passed as f64 / n as f64
-                },
-                worst,
-                min,
-                max,
-                mean,
-                histogram: Histogram {
-                    lo,
-                    hi,
-                    counts,
-                    not_finite: n - finite.len() as u64,
-                },
-            }
-        })
-        .collect();
-    let all_passed = records.iter().filter(|r| r.pass.iter().all(|p| *p)).count() as u64;
+    let mut s = Summary::default();
+    for r in &records {
+        s.push(&r.values, &r.pass, r.index);
+    }
+    let all_passed = s.all_passed;
+    let params_of = |i: u64| {
+        records
+            .binary_search_by_key(&i, |r| r.index)
+            .ok()
+            .and_then(|k| records.get(k))
+            .map_or(Params::NOMINAL, |r| r.params)
+    };
+    let summary = s.finish(&keys, file, seed, &params_of);
     Output {
         file: file.to_string(),
         file_hash: file_hash.to_string(),
@@ -426,9 +532,12 @@ pub fn merge(parts: Vec<Output>) -> Result<Output, String> {
         if s.k == 0 || s.k > s.n {
             return Err(format!("shard {}/{}: needs 1 ≤ K ≤ N", s.k, s.n));
         }
-        if p.file_hash != hash || p.file != file {
+        // The file's contents decide, not how its path was spelled (`./a.toml`, `a.toml`, a
+        // CI runner's own checkout folder); the merged output names it as the first shard does.
+        if p.file_hash != hash {
             return Err(format!(
-                "shard {}/{} is of another file ({} {}) than the first ({file} {hash})",
+                "shard {}/{} is of another file ({}, contents {}) than the first ({file}, \
+                 contents {hash})",
                 s.k, s.n, p.file, p.file_hash
             ));
         }

@@ -103,11 +103,27 @@ fn bad_and_unreachable_input() {
     let with = |extra: &[&'static str]| -> Vec<&'static str> {
         base.iter().copied().chain(extra.iter().copied()).collect()
     };
-    // Unreachable target: names the flag and reports the steady current 0.5.
+    // Unreachable target: names the flag and reports the steady current 0.5 A with its unit
+    // and four significant digits.
     let args = with(&["--target-current", "0.6"]);
     assert_bad(&args, "--target-current");
     let err = String::from_utf8_lossy(&lenz(&args).stderr).to_string();
-    assert!(err.contains("0.5"), "{err}");
+    assert!(err.contains("500.0 mA"), "{err}");
+    // A resistance that gives a steady current beyond the plan's range names the flags typed,
+    // never the internal `current_a`.
+    let args = [
+        "coil",
+        "--inductance",
+        "120m",
+        "--resistance",
+        "1µ",
+        "--supply",
+        "24",
+    ];
+    assert_bad(&args, "--resistance");
+    let err = String::from_utf8_lossy(&lenz(&args).stderr).to_string();
+    assert!(!err.contains("current_a"), "{err}");
+    assert!(err.contains("--supply 24.00 V"), "{err}");
     assert_bad(
         &[
             "coil",

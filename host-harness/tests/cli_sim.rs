@@ -84,9 +84,12 @@ fn a_failing_property_exits_1_and_shows_in_junit() {
     let xml = std::fs::read_to_string(&junit).expect("junit written");
     assert!(xml.starts_with("<?xml"));
     assert!(xml.contains("failures=\"1\""), "{xml}");
-    assert!(xml.contains(
-        "<testcase classname=\"two open-close cycles\" name=\"peak_switch_voltage\" time=\"0\">"
-    ));
+    assert!(xml.contains(&format!(
+        "<testcase classname=\"{}: two open-close cycles\" name=\"peak_switch_voltage\" \
+         file=\"{}\" time=\"0\">",
+        s(&file),
+        s(&file)
+    )));
     assert!(
         xml.contains("<failure message=\"peak_switch_voltage = 24.7"),
         "{xml}"

@@ -233,3 +233,69 @@ fn histograms_as_svg() {
     assert!(svg.starts_with("<svg"));
     assert!(svg.contains("12 runs") && svg.contains("\nlimit\n") && svg.contains("<rect"));
 }
+
+#[test]
+fn shards_of_one_file_merge_however_its_path_was_spelled() {
+    let dir = tmp("sweep-spelling");
+    let text = std::fs::read_to_string(valve()).expect("valve");
+    std::fs::write(dir.join("valve.toml"), &text).expect("copy");
+    let run = |file: &str, shard: &str| {
+        let out = Command::new(env!("CARGO_BIN_EXE_lenz"))
+            .current_dir(&dir)
+            .args([
+                "sweep", file, "--runs", "6", "--seed", "3", "--shard", shard, "--json",
+            ])
+            .output()
+            .expect("lenz runs");
+        assert!(matches!(out.status.code(), Some(0 | 1)));
+        out.stdout
+    };
+    // The same file as `valve.toml`, `./valve.toml` and by its full path.
+    let full = dir.join("valve.toml");
+    let shards = [
+        run("valve.toml", "1/3"),
+        run("./valve.toml", "2/3"),
+        run(full.to_str().expect("utf-8"), "3/3"),
+    ];
+    let mut files = Vec::new();
+    for (k, s) in shards.iter().enumerate() {
+        let p = dir.join(format!("shard{k}.json"));
+        std::fs::write(&p, s).expect("write");
+        files.push(p.to_str().expect("utf-8").to_string());
+    }
+    let merged = lenz(&["sweep-merge", &files[0], &files[1], &files[2], "--json"]);
+    assert!(
+        matches!(merged.status.code(), Some(0 | 1)),
+        "{}",
+        String::from_utf8_lossy(&merged.stderr)
+    );
+    let whole = Command::new(env!("CARGO_BIN_EXE_lenz"))
+        .current_dir(&dir)
+        .args([
+            "sweep",
+            "valve.toml",
+            "--runs",
+            "6",
+            "--seed",
+            "3",
+            "--json",
+        ])
+        .output()
+        .expect("lenz runs");
+    assert_eq!(
+        String::from_utf8_lossy(&merged.stdout),
+        String::from_utf8_lossy(&whole.stdout),
+        "named as the first shard names it, byte for byte"
+    );
+    // Another file's contents under the same name is still refused.
+    std::fs::write(dir.join("valve.toml"), format!("{text}\n# changed\n")).expect("edit");
+    let changed = run("valve.toml", "3/3");
+    std::fs::write(dir.join("shard2.json"), changed).expect("write");
+    let out = lenz(&["sweep-merge", &files[0], &files[1], &files[2]]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        String::from_utf8_lossy(&out.stderr).contains("is of another file"),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}

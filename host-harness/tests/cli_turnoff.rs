@@ -256,6 +256,9 @@ fn bad_input_exits_2_with_one_line() {
     expect_exit_2(&with(&["--clamp", "spark:1"]), "--clamp");
     expect_exit_2(&with(&["--clamp", "diode:-0.7"]), "--clamp");
     expect_exit_2(&with(&["--clamp", "resistor:abc:0.7"]), "--clamp");
+    // A zero or negative clamp resistor, as in a scenario file.
+    expect_exit_2(&with(&["--clamp", "resistor:0:0.7"]), "--clamp RS");
+    expect_exit_2(&with(&["--clamp", "resistor:-1:0.7"]), "--clamp");
     expect_exit_2(&with(&["--clamp", "none:0", "--supply", "24"]), "--clamp");
     expect_exit_2(
         &with(&["--clamp", "diode:0.7", "--supply", "-5"]),

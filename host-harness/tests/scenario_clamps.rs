@@ -79,7 +79,7 @@ fn holds_the_driver_cannot_average_are_errors_in_the_files_keys() {
     let file = scenario::parse("zener.toml", &zener).unwrap();
     let e = run::run(&file, 0, &run::Params::NOMINAL, run::Record::None).unwrap_err();
     assert!(
-        e.0.starts_with("controller.coil.hold_duty: 0.45 does not keep the current flowing"),
+        e.0.starts_with("key `controller.coil.hold_duty`: 0.45 does not keep the current flowing"),
         "{e}"
     );
     // At the lowest supply: (0.45·21.6 V − 0.55·24.7 V)/(0.45·32.11 Ω + 0.55·32 Ω) =
@@ -95,7 +95,7 @@ fn holds_the_driver_cannot_average_are_errors_in_the_files_keys() {
     let file = scenario::parse("tight.toml", &tight).unwrap();
     let e = run::run(&file, 0, &run::Params::NOMINAL, run::Record::None).unwrap_err();
     assert!(
-        e.0.starts_with("controller.coil.monitor.abs_tol: 1.000 mA is below"),
+        e.0.starts_with("key `controller.coil.monitor.abs_tol`: 1.000 mA is below"),
         "{e}"
     );
 }

@@ -159,3 +159,47 @@ fn unreadable_file() {
         "{e}"
     );
 }
+
+#[test]
+fn values_beyond_the_f32_core_are_errors_at_their_position() {
+    // Before: accepted, and the plans ran with an infinite value.
+    let text = edit("thermal_resistance = 25", "thermal_resistance = 2e307");
+    let e = err(&text);
+    assert_eq!(e.key, "system.coil.thermal_resistance");
+    assert!(e.problem.contains("'2e307' is too large"), "{e}");
+    assert_eq!((e.line, e.column), pos(&text, "2e307"));
+    let text = edit("switch_voltage = \"60V\"", "switch_voltage = 1e308");
+    let e = err(&text);
+    assert_eq!(e.key, "system.ratings.switch_voltage");
+    assert!(e.problem.contains("too large"), "{e}");
+    assert_eq!((e.line, e.column), pos(&text, "1e308"));
+    let text = edit("release_time = \"12ms\"", "release_time = \"1e-40s\"");
+    let e = err(&text);
+    assert_eq!(e.key, "system.requirements.release_time");
+    assert!(e.problem.contains("too small"), "{e}");
+}
+
+#[test]
+fn an_events_supply_gets_the_scenarios_range_check() {
+    let text = edit(
+        "at = \"100ms\"\ncommand = \"off\"",
+        "at = \"100ms\"\nsupply = \"200V\"",
+    );
+    let e = err(&text);
+    assert!(
+        e.key.starts_with("scenario[") && e.key.ends_with("].supply") && e.key.contains("event["),
+        "{e}"
+    );
+    assert!(e.problem.contains("200.0 V is far outside"), "{e}");
+    assert!(!e.problem.contains("inf"), "{e}");
+}
+
+#[test]
+fn counts_beyond_16_bits_are_errors_not_clamped() {
+    // Before: 70000 became 65535 without a word.
+    let text = edit("persistence = 3", "persistence = 70000");
+    let e = err(&text);
+    assert_eq!(e.key, "controller.coil.monitor.persistence");
+    assert!(e.problem.contains("70000 is out of range"), "{e}");
+    assert_eq!((e.line, e.column), pos(&text, "70000"));
+}

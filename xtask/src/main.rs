@@ -4,7 +4,9 @@
 //! 1. `cargo fmt --all -- --check`
 //! 2. `cargo clippy --workspace --all-targets -- -D warnings`
 //! 3. `cargo clippy -p lenz --features defmt,serde -- -D warnings` (the optional features)
-//! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe)
+//! 4. `cargo test --workspace` (host tests, doctests, the no_std link probe) with a fixed
+//!    proptest seed ([`PROPTEST_SEED`], or the caller's `PROPTEST_RNG_SEED`): the same draws on
+//!    every run, so an unrelated change cannot fail on an unlucky draw
 //! 5. `cargo doc --workspace --no-deps` with `RUSTDOCFLAGS="-D warnings"` (broken or private
 //!    intra-doc links fail)
 //! 6. the target checks ([`target`]): Cortex-M builds of lenz, the on-target test image under
@@ -14,6 +16,10 @@
 //!
 //! `cargo test --workspace` alone stays the quick host-only run; `cargo xtask target` runs step 6
 //! alone and `cargo xtask ffi` step 7.
+//!
+//! `cargo test --workspace` explores: proptest draws a
+//! fresh seed each time (a failure is saved in the test's `.proptest-regressions` file, to be
+//! committed, and is replayed first by every later run, this one included).
 
 mod ffi;
 mod target;
@@ -57,6 +63,21 @@ fn step_env(name: &str, args: &[&str], env: &[(&str, &str)]) -> Result<(), Strin
     }
 }
 
+/// The proptest seed of the host tests in `cargo xtask test` (proptest reads
+/// `PROPTEST_RNG_SEED` in `Config::default()`; properties that fix their own seed keep it).
+pub const PROPTEST_SEED: &str = "20260711";
+
+/// The environment of the host tests: the caller's `PROPTEST_RNG_SEED` if set (to reproduce or
+/// vary a run), else [`PROPTEST_SEED`].
+fn host_test_env(caller_seed: Option<String>) -> [(&'static str, String); 1] {
+    [(
+        "PROPTEST_RNG_SEED",
+        caller_seed
+            .filter(|s| !s.is_empty())
+            .unwrap_or_else(|| PROPTEST_SEED.to_string()),
+    )]
+}
+
 fn test() -> Result<(), String> {
     step("format", &["fmt", "--all", "--", "--check"])?;
     step(
@@ -83,7 +104,9 @@ fn test() -> Result<(), String> {
             "warnings",
         ],
     )?;
-    step("host tests", &["test", "--workspace"])?;
+    let env = host_test_env(std::env::var("PROPTEST_RNG_SEED").ok());
+    let env: Vec<(&str, &str)> = env.iter().map(|(k, v)| (*k, v.as_str())).collect();
+    step_env("host tests", &["test", "--workspace"], &env)?;
     step_env(
         "docs",
         &["doc", "--workspace", "--no-deps"],
@@ -120,5 +143,20 @@ fn main() -> ExitCode {
             eprintln!("xtask: {e}");
             ExitCode::FAILURE
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn host_tests_run_with_a_fixed_proptest_seed() {
+        let [(key, seed)] = host_test_env(None);
+        assert_eq!(key, "PROPTEST_RNG_SEED");
+        // proptest parses the variable as a u64; anything else would be ignored with a warning.
+        assert!(seed.parse::<u64>().is_ok(), "{seed}");
+        assert_eq!(host_test_env(Some(String::new()))[0].1, seed);
+        assert_eq!(host_test_env(Some("7".into()))[0].1, "7");
     }
 }

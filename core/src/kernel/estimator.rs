@@ -155,7 +155,16 @@ impl EstimatorState {
 
 fn step_q31(tick_s: f32, r_ohm: f32, l_h: f32, param: &'static str) -> Result<i32, Error> {
     let x = tick_s * r_ohm / l_h;
-    in_range(param, x, STEP_RATIO_MIN, STEP_RATIO_MAX)?;
+    if in_range(param, x, STEP_RATIO_MIN, STEP_RATIO_MAX).is_err() {
+        // Reported in seconds: the ticks this coil's time constant admits.
+        let tau = l_h / r_ohm;
+        return Err(Error::OutOfRange {
+            param,
+            value: tick_s,
+            min: STEP_RATIO_MIN * tau,
+            max: STEP_RATIO_MAX * tau,
+        });
+    }
     Ok(q31_from_f32(-libm::expm1f(-x)))
 }
 

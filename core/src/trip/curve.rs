@@ -302,11 +302,21 @@ impl InverseTime {
     ///
     /// # Errors
     ///
-    /// `current_a` not finite.
+    /// `current_a` not finite; a current so far above pickup that the rate does not fit an
+    /// `f32` ([`Error::OutOfRange`] on `current_a`, the maximum being the largest current
+    /// whose rate is finite).
     pub fn rate_per_s(&self, current_a: f32) -> Result<Option<f32>, Error> {
         let i = finite("current_a", current_a)?.abs();
         match self.trip_time_s(i) {
-            Ok(t) => Ok(Some(1.0 / t)),
+            Ok(t) => match 1.0 / t {
+                r if r.is_finite() => Ok(Some(r)),
+                _ => Err(Error::OutOfRange {
+                    param: "current_a",
+                    value: i,
+                    min: 0.0,
+                    max: self.rate_current_max_a(i),
+                }),
+            },
             Err(Error::Unreachable { .. }) => match self.reset_time_s(i)? {
                 None => Ok(Some(0.0)),
                 Some(tr) if tr > 0.0 => Ok(Some(-1.0 / tr)),
@@ -314,6 +324,23 @@ impl InverseTime {
             },
             Err(e) => Err(e),
         }
+    }
+
+    /// The largest current below `beyond_a` (a current whose rate is not finite) whose rate is
+    /// finite: bisection on the bit patterns of the positive floats between pickup (rate zero)
+    /// and `beyond_a`, the trip time falling as the current rises.
+    fn rate_current_max_a(&self, beyond_a: f32) -> f32 {
+        let finite_rate = |i: f32| self.trip_time_s(i).is_ok_and(|t| (1.0 / t).is_finite());
+        let (mut lo, mut hi) = (self.pickup_a.to_bits(), beyond_a.to_bits());
+        while hi > lo.saturating_add(1) {
+            let mid = lo + (hi - lo) / 2;
+            if finite_rate(f32::from_bits(mid)) {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        f32::from_bits(lo)
     }
 
     /// Trip time under a piecewise-constant current by the integral form (module docs): the

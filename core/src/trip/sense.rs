@@ -203,20 +203,26 @@ impl SenseChain {
     ///
     /// # Errors
     ///
-    /// `current_a` not positive.
+    /// `current_a` not positive, or so small that the offset term does not fit an `f32`.
     pub fn tolerance_linear_sum(&self, current_a: f32) -> Result<f32, Error> {
-        Ok(self.rel_terms(current_a)?.iter().sum())
+        finite_result("current_a", self.rel_terms(current_a)?.iter().sum())
     }
 
     /// Probable relative tolerance at `current_a`: root-sum-square of the part tolerances.
     ///
     /// # Errors
     ///
-    /// `current_a` not positive.
+    /// `current_a` not positive, or so small that the offset term does not fit an `f32`.
     pub fn tolerance_rss(&self, current_a: f32) -> Result<f32, Error> {
-        Ok(libm::sqrtf(
-            self.rel_terms(current_a)?.iter().map(|x| x * x).sum(),
-        ))
+        let terms = self.rel_terms(current_a)?;
+        // Scaled by the largest term, so the squares cannot overflow (at a tiny current the
+        // offset term alone can exceed the square root of f32::MAX).
+        let big = terms.iter().fold(0.0f32, |m, x| m.max(x.abs()));
+        if big == 0.0 {
+            return Ok(0.0);
+        }
+        let sum: f32 = terms.iter().map(|x| (x / big) * (x / big)).sum();
+        finite_result("current_a", big * libm::sqrtf(sum))
     }
 
     /// Binary search for the boundary code: the smallest code where `above(band)` holds, given

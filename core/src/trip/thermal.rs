@@ -97,10 +97,24 @@ impl Thermal {
     ///
     /// # Errors
     ///
-    /// `current_a` not finite.
+    /// `current_a` not finite, or so large that the state does not fit an `f32`
+    /// ([`Error::OutOfRange`], the maximum being `k·I_B·√f32::MAX`).
     pub fn steady_state(&self, current_a: f32) -> Result<f32, Error> {
-        let x = finite("current_a", current_a)?.abs() / self.trip_level_a();
-        Ok(x * x)
+        let i = finite("current_a", current_a)?.abs();
+        let x = i / self.trip_level_a();
+        let theta = x * x;
+        if theta.is_finite() {
+            Ok(theta)
+        } else {
+            // √f32::MAX = 1.8446743e19 (2^64 within rounding).
+            let max = self.trip_level_a() * 1.844_674_3e19;
+            Err(Error::OutOfRange {
+                param: "current_a",
+                value: i,
+                min: 0.0,
+                max: if max.is_finite() { max } else { f32::MAX },
+            })
+        }
     }
 
     /// Trip time at a constant `current_a` after a long prior load `prior_a` (0 for a cold

@@ -154,7 +154,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         output_ripple_v: p.output_ripple.map(|o| o.total_v),
     };
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -220,7 +220,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         "Duty max (reason)",
         format!("{:.5} ({})", r.duty_max, r.duty_max_reason),
     );
-    println!("{t}");
-    println!("{CAUTION}");
+    outln!("{t}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

@@ -85,15 +85,46 @@ fn compute(a: &Args) -> Result<Report, lenz::Error> {
     })
 }
 
+/// A plan error in terms of the flags: the derived steady current (`current_a`) is blamed on
+/// the flags it comes from, an unreachable target gives the current the coil settles at.
+fn error(a: &Args, e: lenz::Error) -> CliError {
+    match e {
+        lenz::Error::OutOfRange {
+            param: "current_a",
+            value,
+            max,
+            ..
+        } => CliError(format!(
+            "--resistance: {} at --supply {} gives a steady current of {}, above the {} \
+             the plan routines accept",
+            si(a.resistance, "Ω"),
+            si(a.supply, "V"),
+            si(value.into(), "A"),
+            si(max.into(), "A"),
+        )),
+        lenz::Error::Unreachable {
+            param: "target_current_a",
+            target,
+            limit,
+        } => CliError(format!(
+            "--target-current: {} cannot be reached: the current settles at {} (the \
+             reachable limit)",
+            si(target.into(), "A"),
+            si(limit.into(), "A"),
+        )),
+        other => CliError::from_lenz(other, FLAGS),
+    }
+}
+
 /// Runs `lenz coil`.
 ///
 /// # Errors
 ///
 /// Bad or unreachable input, with the flag named.
 pub fn run(a: &Args) -> Result<ExitCode, CliError> {
-    let r = compute(a).map_err(|e| CliError::from_lenz(e, FLAGS))?;
+    let r = compute(a).map_err(|e| error(a, e))?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -125,7 +156,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             si(ts.into(), "s"),
         ]);
     }
-    println!("{t}");
-    println!("{CAUTION}");
+    outln!("{t}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

@@ -82,22 +82,22 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             targets: &costs,
             budget_violations: violations.clone(),
         };
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
     } else {
-        println!("{}", cost::table(&costs));
-        println!("{METHOD}");
+        outln!("{}", cost::table(&costs));
+        outln!("{METHOD}");
         if a.write_budget {
-            println!("Budget written to {}.", budget::path().display());
+            outln!("Budget written to {}.", budget::path().display());
         }
         if let Some(v) = &violations {
             if v.is_empty() {
-                println!("Within the budget of {}.", budget::path().display());
+                outln!("Within the budget of {}.", budget::path().display());
             }
             for line in v {
-                println!("OVER BUDGET: {line}");
+                outln!("OVER BUDGET: {line}");
             }
         }
     }

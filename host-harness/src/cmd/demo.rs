@@ -16,6 +16,8 @@ use std::process::ExitCode;
 use lenz::{Bound, bounds::CoilCorner};
 use serde::Serialize;
 
+use super::outputs::Staged;
+use super::sim::Sink;
 use super::table::{new_table, si};
 use crate::cli::{CAUTION, CliError};
 use crate::demo::{self, DemoCoil};
@@ -79,21 +81,38 @@ fn corner(c: &CoilCorner) -> String {
 ///
 /// Only if the shipped demo values fail validation.
 pub fn run(a: &Args) -> Result<ExitCode, CliError> {
+    // The report folder is checked before any work (`--json` writes none).
+    let report = if a.json {
+        None
+    } else {
+        let mut sink = Sink::default();
+        let mut stage = Staged::prepare("--out", &a.out)?;
+        stage.sub_folder("plots")?;
+        stage.sub_folder("csv")?;
+        for name in ["junit.xml", "results.json", "index.html"] {
+            stage.check_name(std::path::Path::new(name))?;
+        }
+        let k = sink.add_stage(stage);
+        sink.csv_into(k, "csv/");
+        sink.plot_into(k, "plots/");
+        sink.junit_into(k, "junit.xml");
+        Some((sink, k))
+    };
     let mut all = Vec::new();
     for c in [demo::valve(), demo::relay()] {
         let c = c.map_err(|e| CliError(e.to_string()))?;
         all.extend(figures(&c).map_err(|e| CliError(format!("{}: {e}", c.name)))?);
     }
-    if a.json {
-        println!(
+    let Some((sink, k)) = report else {
+        outln!(
             "{}",
             serde_json::to_string_pretty(&all).map_err(|e| CliError(e.to_string()))?
         );
         return Ok(ExitCode::SUCCESS);
-    }
-    println!("lenz demo: greenhouse controller (all values invented for the demo)");
-    println!("Worst-case coil plan over supply, coil temperature and part tolerances");
-    println!("(corners: supply, coil temperature, inductance, resistance at 20 °C)\n");
+    };
+    outln!("lenz demo: greenhouse controller (all values invented for the demo)");
+    outln!("Worst-case coil plan over supply, coil temperature and part tolerances");
+    outln!("(corners: supply, coil temperature, inductance, resistance at 20 °C)\n");
     let mut t = new_table(&["Coil", "Figure", "Min", "at", "Max", "at"]);
     for f in &all {
         t.add_row(vec![
@@ -105,13 +124,13 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
             corner(&f.bound.max_at),
         ]);
     }
-    println!("{t}");
-    println!(
+    outln!("{t}");
+    outln!(
         "\nThe longest pull-in sits at the lowest supply with the hottest coil; the highest \
          current and stored energy at the highest supply with the coldest coil."
     );
-    println!("{CAUTION}");
-    let passed = scenarios_and_report(&a.out)?;
+    outln!("{CAUTION}");
+    let passed = scenarios_and_report(&a.out, sink, k)?;
     Ok(if passed {
         ExitCode::SUCCESS
     } else {
@@ -120,8 +139,9 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
 }
 
 /// Runs the demo scenario files, prints their plans and results, and writes the report folder
-/// `out`; returns whether every verdict and property holds.
-fn scenarios_and_report(out: &std::path::Path) -> Result<bool, CliError> {
+/// `out` through `sink` (its staged folder `k`); returns whether every verdict and property
+/// holds.
+fn scenarios_and_report(out: &std::path::Path, mut sink: Sink, k: usize) -> Result<bool, CliError> {
     use crate::report::{Outcome, html};
     use crate::scenario::run::{Params, Record};
 
@@ -134,7 +154,7 @@ fn scenarios_and_report(out: &std::path::Path) -> Result<bool, CliError> {
     let mut plans = Vec::new();
     let mut outcomes: Vec<Outcome> = Vec::new();
     for (name, f) in &loaded {
-        println!();
+        outln!();
         all_ok &= super::plan::print_tables(name, f)?;
         let rep = super::plan::plan(f)?;
         plans.push(rep);
@@ -142,16 +162,13 @@ fn scenarios_and_report(out: &std::path::Path) -> Result<bool, CliError> {
             std::slice::from_ref(&(name.clone(), f.clone())),
             |_| Params::NOMINAL,
             Record::Every,
+            &mut sink,
         )?;
-        println!("{name}: demo scenarios in the closed loop");
-        println!("{}", super::sim::table(&runs, false));
+        outln!("{name}: demo scenarios in the closed loop");
+        outln!("{}", super::sim::table(&runs, false));
         all_ok &= runs.iter().all(|o| o.result.passed());
         outcomes.extend(runs);
     }
-    let plots = out.join("plots");
-    let csv = out.join("csv");
-    let junit = out.join("junit.xml");
-    super::sim::write_outputs(&outcomes, Some(&csv), Some(&plots), Some(&junit))?;
     let sections: Vec<html::Section<'_>> = loaded
         .iter()
         .zip(&plans)
@@ -189,18 +206,13 @@ fn scenarios_and_report(out: &std::path::Path) -> Result<bool, CliError> {
             }))
             .collect::<Vec<_>>(),
     });
-    let results_path = out.join("results.json");
     let text = serde_json::to_string_pretty(&results).map_err(|e| CliError(e.to_string()))?;
-    std::fs::write(&results_path, text).map_err(|e| {
-        CliError(format!(
-            "--out: cannot write {}: {e}",
-            results_path.display()
-        ))
-    })?;
+    let stage = sink.staged(k)?;
+    stage.write("results.json", &text)?;
+    stage.write("index.html", &page)?;
+    sink.finish(&outcomes)?;
     let index = out.join("index.html");
-    std::fs::write(&index, page)
-        .map_err(|e| CliError(format!("--out: cannot write {}: {e}", index.display())))?;
-    println!(
+    outln!(
         "\n{}",
         if all_ok {
             "Every verdict and property holds."
@@ -208,6 +220,6 @@ fn scenarios_and_report(out: &std::path::Path) -> Result<bool, CliError> {
             "A verdict or property fails (see the tables)."
         }
     );
-    println!("Report written to {}", index.display());
+    outln!("Report written to {}", index.display());
     Ok(all_ok)
 }

@@ -5,6 +5,7 @@ pub mod coil;
 pub mod cost;
 pub mod demo;
 pub mod motor;
+pub mod outputs;
 pub mod plan;
 pub mod sim;
 pub mod sweep;

@@ -158,7 +158,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let motor = p.validate().map_err(|e| cli_error(e, a))?;
     let r = compute(a, &motor).map_err(|e| cli_error(e, a))?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -218,11 +218,11 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     for row in rows.into_iter().flatten() {
         t.add_row(row);
     }
-    println!("{t}");
+    outln!("{t}");
     if r.mechanical_time_constant_s.is_none() {
-        println!("Give --inertia for the mechanical time constant and the peak currents.");
+        outln!("Give --inertia for the mechanical time constant and the peak currents.");
     }
-    println!("{CAUTION}");
-    println!("{MOTOR_CAUTION}");
+    outln!("{CAUTION}");
+    outln!("{MOTOR_CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

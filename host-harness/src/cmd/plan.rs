@@ -21,6 +21,7 @@ use serde::Serialize;
 
 use super::table::{new_table, si};
 use crate::cli::{CAUTION, CliError};
+use crate::scenario::run::file_key;
 use crate::scenario::{self, BoostStage, ClampSpec, Coil, File};
 
 /// Arguments of `lenz plan`.
@@ -129,8 +130,30 @@ fn figure<C: Serialize>(
     }
 }
 
-fn err(what: &str) -> impl Fn(lenz::Error) -> CliError + '_ {
-    move |e| CliError(format!("{what}: {e}"))
+/// A plan error as a problem of the file (`key `K`: problem`, placed in the file by
+/// [`crate::scenario::locate_problem`]): `K` is the key the rejected parameter comes from, else
+/// `key`; the plan's internal parameter name is left out.
+fn err<'a>(f: &'a File, key: &'a str) -> impl Fn(lenz::Error) -> CliError + 'a {
+    move |e| {
+        let k = file_key(f, None, e.param()).unwrap_or_else(|| key.to_string());
+        CliError(format!("key `{k}`: {}", without_param(&e)))
+    }
+}
+
+/// A figure that cannot be evaluated over the ranges (at one corner): `figure` names it.
+fn fig_err<'a>(f: &'a File, figure: &'a str) -> impl Fn(lenz::Error) -> CliError + 'a {
+    move |e| {
+        let k = file_key(f, None, e.param()).unwrap_or_else(|| "system.coil".to_string());
+        CliError(format!("key `{k}`: {figure}: {}", without_param(&e)))
+    }
+}
+
+/// The message of `e` without its leading `param: `.
+fn without_param(e: &lenz::Error) -> String {
+    let text = e.to_string();
+    text.strip_prefix(e.param())
+        .and_then(|t| t.strip_prefix(": "))
+        .map_or(text.clone(), str::to_string)
 }
 
 fn max_verdict(check: &str, fig: Option<&Figure>, limit: f64, unit: &'static str) -> Verdict {
@@ -156,13 +179,13 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
         s.supply.min.get() as f32,
         s.supply.max.get() as f32,
     )
-    .map_err(err("system.supply"))?;
+    .map_err(err(f, "system.supply"))?;
     let temp = Range::new(
         "temp_c",
         s.temperature.min.get() as f32,
         s.temperature.max.get() as f32,
     )
-    .map_err(err("system.temperature"))?;
+    .map_err(err(f, "system.temperature"))?;
     let spread = CoilSpread::new(
         params,
         supply,
@@ -170,7 +193,7 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
         coil.inductance_tolerance.get() as f32,
         coil.resistance_tolerance.get() as f32,
     )
-    .map_err(err("system.coil"))?;
+    .map_err(err(f, "system.coil"))?;
     let off = TurnOffSpread {
         spread,
         clamp: crate::scenario::run::turnoff_clamp(clamp),
@@ -184,25 +207,27 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
         }
         Err(e) => Err(e),
     };
-    add("steady current", "A", spread.steady_current_a()).map_err(err("steady current"))?;
-    add("time constant", "s", spread.time_constant_s()).map_err(err("time constant"))?;
-    add("stored energy", "J", spread.stored_energy_j()).map_err(err("stored energy"))?;
+    add("steady current", "A", spread.steady_current_a()).map_err(fig_err(f, "steady current"))?;
+    add("time constant", "s", spread.time_constant_s()).map_err(fig_err(f, "time constant"))?;
+    add("stored energy", "J", spread.stored_energy_j()).map_err(fig_err(f, "stored energy"))?;
     let pull_in = add(
         "pull-in time",
         "s",
         spread.pull_in_time_s(coil.pull_in_current.get() as f32),
     );
     add("peak switch voltage", "V", off.peak_switch_voltage_v())
-        .map_err(err("peak switch voltage"))?;
-    add("clamp energy per switch-off", "J", off.clamp_energy_j()).map_err(err("clamp energy"))?;
-    add("peak clamp power", "W", off.peak_clamp_power_w()).map_err(err("peak clamp power"))?;
-    add("decay time", "s", off.decay_time_s()).map_err(err("decay time"))?;
+        .map_err(fig_err(f, "peak switch voltage"))?;
+    add("clamp energy per switch-off", "J", off.clamp_energy_j())
+        .map_err(fig_err(f, "clamp energy"))?;
+    add("peak clamp power", "W", off.peak_clamp_power_w())
+        .map_err(fig_err(f, "peak clamp power"))?;
+    add("decay time", "s", off.decay_time_s()).map_err(fig_err(f, "decay time"))?;
     add(
         "release time (current part)",
         "s",
         off.release_time_s(Some(coil.release_current.get() as f32)),
     )
-    .map_err(err("release time"))?;
+    .map_err(fig_err(f, "release time"))?;
     // The controller's instantaneous trip: the code it compares against, and the band of true
     // currents that trip at that code over the sense chain's gain and offset errors (the
     // chain's own worst-case corner search, lenz::trip::SenseChain).
@@ -218,13 +243,13 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, CliErro
             vref_tol: 0.0,
             bits: sense.adc_bits as u8,
         })
-        .map_err(err("system.sense"))?;
+        .map_err(err(f, "system.sense"))?;
         let code = chain
             .code_for_a(c.trip_current.get() as f32)
-            .map_err(err("controller.coil.trip_current"))?;
+            .map_err(err(f, "controller.coil.trip_current"))?;
         let band = chain
             .band(code)
-            .map_err(err("controller.coil.trip_current"))?;
+            .map_err(err(f, "controller.coil.trip_current"))?;
         figures.push(figure(
             "trip current (sense tolerance band)",
             "A",
@@ -358,21 +383,24 @@ fn boost_plan(f: &File, b: &BoostStage) -> Result<Report, CliError> {
             s.supply.min.get() as f32,
             s.supply.max.get() as f32,
         )
-        .map_err(err("system.supply"))?,
+        .map_err(err(f, "system.supply"))?,
         Range::new(
             "load_current_a",
             (io * (1.0 - lt)) as f32,
             (io * (1.0 + lt)) as f32,
         )
-        .map_err(err("system.boost.load_tolerance"))?,
+        .map_err(err(f, "system.boost.load_tolerance"))?,
         b.inductance_tolerance.get() as f32,
         b.resistance_tolerance.get() as f32,
     )
-    .map_err(err("system.boost"))?;
+    .map_err(err(f, "system.boost"))?;
     let mut figures = Vec::new();
     let mut add =
         |name, unit, r: Result<Bound<BoostCorner>, lenz::Error>| -> Result<(), CliError> {
-            let b = r.map_err(|e| CliError(format!("{name}: {e}")))?;
+            let b = r.map_err(|e| {
+                let k = file_key(f, None, e.param()).unwrap_or_else(|| "system.boost".into());
+                CliError(format!("key `{k}`: {name}: {}", without_param(&e)))
+            })?;
             figures.push(figure(name, unit, &b, boost_corner));
             Ok(())
         };
@@ -478,8 +506,9 @@ pub fn num(v: f32, unit: &str) -> String {
 ///
 /// A plan routine rejects a value of the file.
 pub fn print_tables(name: &str, f: &File) -> Result<bool, CliError> {
-    let rep = plan(f).map_err(|e| CliError(format!("{name}: {}", e.0)))?;
-    println!("{}: worst-case plan of {}", name, rep.system);
+    let rep =
+        plan(f).map_err(|e| CliError(crate::scenario::locate_problem(name, &e.0).to_string()))?;
+    outln!("{}: worst-case plan of {}", name, rep.system);
     let mut t = new_table(&["Figure", "Min", "at", "Max", "at"]);
     for fig in &rep.figures {
         t.add_row(vec![
@@ -490,7 +519,7 @@ pub fn print_tables(name: &str, f: &File) -> Result<bool, CliError> {
             fig.max_text.clone(),
         ]);
     }
-    println!("{t}");
+    outln!("{t}");
     let mut v = new_table(&["Verdict", "Worst", "Limit", "Result", "Note"]);
     for x in &rep.verdicts {
         v.add_row(vec![
@@ -501,7 +530,7 @@ pub fn print_tables(name: &str, f: &File) -> Result<bool, CliError> {
             x.note.clone().unwrap_or_default(),
         ]);
     }
-    println!("{v}");
+    outln!("{v}");
     Ok(rep.passed)
 }
 
@@ -514,16 +543,17 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let name = a.file.display().to_string();
     let f = scenario::load(&a.file).map_err(|e| CliError(e.to_string()))?;
     let passed = if a.json {
-        let mut rep = plan(&f).map_err(|e| CliError(format!("{name}: {}", e.0)))?;
+        let mut rep = plan(&f)
+            .map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
         rep.file = name;
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&rep).map_err(|e| CliError(e.to_string()))?
         );
         rep.passed
     } else {
         let passed = print_tables(&name, &f)?;
-        println!(
+        outln!(
             "{}",
             if passed {
                 "Every verdict passes."
@@ -531,7 +561,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
                 "A verdict fails."
             }
         );
-        println!("{CAUTION}");
+        outln!("{CAUTION}");
         passed
     };
     Ok(if passed {

@@ -6,10 +6,11 @@ use std::process::ExitCode;
 
 use serde::Serialize;
 
+use super::outputs::Staged;
 use super::table::{new_table, si};
 use crate::cli::{CAUTION, CliError};
-use crate::closed_loop::Property;
-use crate::report::{self, Outcome};
+use crate::closed_loop::{Property, Waveform};
+use crate::report::{self, Names, Outcome};
 use crate::scenario::{
     self, File,
     run::{Params, Record},
@@ -100,81 +101,177 @@ pub fn load_all(files: &[PathBuf]) -> Result<Vec<(String, File)>, CliError> {
         .collect()
 }
 
-/// Runs every scenario of `files` with part values `params` (per file).
+/// Runs every scenario of `files` with part values `params` (per file); each outcome goes
+/// through `sink` (which writes its files) as soon as it is made, and is kept without its
+/// waveform, so memory holds one scenario's waveform at a time.
 ///
 /// # Errors
 ///
-/// A value the plans or the plant reject.
+/// A value the plans or the plant reject, or a file `sink` cannot write.
 pub fn run_all(
     files: &[(String, File)],
     params: impl Fn(&File) -> Params,
     record: Record,
+    sink: &mut Sink,
 ) -> Result<Vec<Outcome>, CliError> {
     let mut out = Vec::new();
     for (name, f) in files {
         let p = params(f);
         for (k, sc) in f.scenarios.iter().enumerate() {
             let result = scenario::run::run(f, k, &p, record)
-                .map_err(|e| CliError(format!("{name}: {e}")))?;
-            out.push(Outcome {
+                .map_err(|e| CliError(scenario::locate_problem(name, &e.0).to_string()))?;
+            let mut o = Outcome {
                 file: name.clone(),
                 system: f.system.name.clone(),
                 scenario: sc.name.clone(),
+                stem: sink.names.unique(&report::base_stem(name, &sc.name)),
                 result,
-            });
+            };
+            sink.scenario(&o)?;
+            o.result.waveform = Waveform::default();
+            out.push(o);
         }
     }
     Ok(out)
 }
 
-fn write(path: &Path, text: &str) -> Result<(), CliError> {
-    std::fs::write(path, text)
-        .map_err(|e| CliError(format!("cannot write {}: {e}", path.display())))
+/// Where the files of a run go: CSV waveforms, SVG plots, the JUnit report, each in a staged
+/// folder ([`Staged`]) checked before the run.
+#[derive(Debug, Default)]
+pub struct Sink {
+    stages: Vec<Staged>,
+    /// Stage index and name prefix of the CSV files.
+    csv: Option<(usize, String)>,
+    /// Stage index and name prefix of the SVG plots.
+    plot: Option<(usize, String)>,
+    /// Stage index and file name of the JUnit report.
+    junit: Option<(usize, String)>,
+    names: Names,
 }
 
-fn make_dir(dir: &Path, flag: &str) -> Result<(), CliError> {
-    std::fs::create_dir_all(dir)
-        .map_err(|e| CliError(format!("{flag}: cannot create {}: {e}", dir.display())))
-}
-
-/// Writes the CSV waveforms, SVG plots and JUnit report that were asked for; returns the
-/// files written.
-///
-/// # Errors
-///
-/// A folder or file cannot be written.
-pub fn write_outputs(
-    outcomes: &[Outcome],
-    csv: Option<&Path>,
-    plot: Option<&Path>,
-    junit: Option<&Path>,
-) -> Result<Vec<PathBuf>, CliError> {
-    let mut written = Vec::new();
-    if let Some(dir) = csv {
-        make_dir(dir, "--csv")?;
-        for o in outcomes {
-            let p = dir.join(format!("{}.csv", report::stem(o)));
-            write(&p, &report::csv::to_csv(&o.result.waveform))?;
-            written.push(p);
-        }
+impl Sink {
+    /// Adds a staged folder; returns its index.
+    pub fn add_stage(&mut self, s: Staged) -> usize {
+        self.stages.push(s);
+        self.stages.len() - 1
     }
-    if let Some(dir) = plot {
-        make_dir(dir, "--plot")?;
-        for o in outcomes {
-            let p = dir.join(format!("{}.svg", report::stem(o)));
+
+    /// Writes the CSV files as `PREFIX<stem>.csv` into stage `k`.
+    pub fn csv_into(&mut self, k: usize, prefix: &str) {
+        self.csv = Some((k, prefix.to_string()));
+    }
+
+    /// Writes the SVG plots as `PREFIX<stem>.svg` into stage `k`.
+    pub fn plot_into(&mut self, k: usize, prefix: &str) {
+        self.plot = Some((k, prefix.to_string()));
+    }
+
+    /// Writes the JUnit report as `name` into stage `k`.
+    pub fn junit_into(&mut self, k: usize, name: &str) {
+        self.junit = Some((k, name.to_string()));
+    }
+
+    /// The outputs of `lenz sim`'s flags, each checked (and its folder created) now.
+    ///
+    /// # Errors
+    ///
+    /// A folder or file that cannot be written, naming the flag.
+    pub fn for_flags(
+        csv: Option<&Path>,
+        plot: Option<&Path>,
+        junit: Option<&Path>,
+    ) -> Result<Sink, CliError> {
+        let mut s = Sink::default();
+        if let Some(dir) = csv {
+            let k = s.add_stage(Staged::prepare("--csv", dir)?);
+            s.csv_into(k, "");
+        }
+        if let Some(dir) = plot {
+            let k = s.add_stage(Staged::prepare("--plot", dir)?);
+            s.plot_into(k, "");
+        }
+        if let Some(p) = junit {
+            let name = p
+                .file_name()
+                .and_then(|n| n.to_str())
+                .filter(|n| !n.is_empty())
+                .ok_or_else(|| CliError(format!("--junit {}: not a file name", p.display())))?
+                .to_string();
+            let parent = p
+                .parent()
+                .filter(|d| !d.as_os_str().is_empty())
+                .unwrap_or(Path::new("."));
+            let stage = Staged::prepare("--junit", parent)?;
+            stage.check_name(Path::new(&name))?;
+            let k = s.add_stage(stage);
+            s.junit_into(k, &name);
+        }
+        Ok(s)
+    }
+
+    /// Whether the run must record waveforms.
+    #[must_use]
+    pub fn wants_waveforms(&self) -> bool {
+        self.csv.is_some() || self.plot.is_some()
+    }
+
+    /// The staged folder `k` (for a command's own files).
+    ///
+    /// # Errors
+    ///
+    /// There is no folder `k`.
+    pub fn staged(&mut self, k: usize) -> Result<&mut Staged, CliError> {
+        self.stages
+            .get_mut(k)
+            .ok_or_else(|| CliError(format!("no output folder number {k}")))
+    }
+
+    /// Writes the CSV and SVG files of one scenario.
+    ///
+    /// # Errors
+    ///
+    /// A file cannot be written or drawn.
+    pub fn scenario(&mut self, o: &Outcome) -> Result<(), CliError> {
+        if let Some((k, prefix)) = self.csv.clone() {
+            self.staged(k)?
+                .write_with(&format!("{prefix}{}.csv", o.stem), |w| {
+                    report::csv::write_csv(w, &o.result.waveform)
+                })?;
+        }
+        if let Some((k, prefix)) = self.plot.clone() {
             let svg = report::svg::waveform_svg(o).map_err(CliError)?;
-            write(&p, &svg)?;
-            written.push(p);
+            self.staged(k)?
+                .write(&format!("{prefix}{}.svg", o.stem), &svg)?;
+        }
+        Ok(())
+    }
+
+    /// Writes the JUnit report and moves every file into place; returns the files.
+    ///
+    /// # Errors
+    ///
+    /// A file cannot be written or moved.
+    pub fn finish(mut self, outcomes: &[Outcome]) -> Result<Vec<PathBuf>, CliError> {
+        if let Some((k, name)) = self.junit.clone() {
+            self.staged(k)?
+                .write(&name, &report::junit::to_junit(outcomes))?;
+        }
+        let mut written = Vec::new();
+        for s in std::mem::take(&mut self.stages) {
+            written.extend(s.commit()?);
+        }
+        Ok(written)
+    }
+}
+
+impl Drop for Sink {
+    fn drop(&mut self) {
+        // Last prepared first: a folder an earlier flag created is empty only once the later
+        // flags' staging folders in it are gone.
+        while let Some(s) = self.stages.pop() {
+            drop(s);
         }
     }
-    if let Some(p) = junit {
-        if let Some(parent) = p.parent().filter(|d| !d.as_os_str().is_empty()) {
-            make_dir(parent, "--junit")?;
-        }
-        write(p, &report::junit::to_junit(outcomes))?;
-        written.push(p.to_path_buf());
-    }
-    Ok(written)
 }
 
 /// A value in engineering notation, or "never" for an infinite time.
@@ -225,18 +322,15 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         Some((seed, index)) => Params::draw(f, seed, index),
         None => Params::NOMINAL,
     };
-    let record = if a.csv.is_some() || a.plot.is_some() {
+    // Every output path is checked before the first scenario runs.
+    let mut sink = Sink::for_flags(a.csv.as_deref(), a.plot.as_deref(), a.junit.as_deref())?;
+    let record = if sink.wants_waveforms() {
         Record::Every
     } else {
         Record::None
     };
-    let outcomes = run_all(&files, params, record)?;
-    write_outputs(
-        &outcomes,
-        a.csv.as_deref(),
-        a.plot.as_deref(),
-        a.junit.as_deref(),
-    )?;
+    let outcomes = run_all(&files, params, record, &mut sink)?;
+    sink.finish(&outcomes)?;
     let passed = outcomes.iter().all(|o| o.result.passed());
     if a.json {
         let rep = Report {
@@ -260,27 +354,24 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
                 })
                 .collect(),
         };
-        println!(
-            "{}",
-            serde_json::to_string_pretty(&rep).map_err(|e| CliError(e.to_string()))?
-        );
+        crate::out::json(&rep).map_err(|e| CliError(e.to_string()))?;
     } else {
         if let Some((seed, index)) = a.replay {
             for (name, f) in &files {
-                println!(
+                outln!(
                     "{name}: replaying sweep run {index} of seed {seed}: {}",
                     describe(&Params::draw(f, seed, index))
                 );
             }
         }
-        println!("{}", table(&outcomes, files.len() > 1));
+        outln!("{}", table(&outcomes, files.len() > 1));
         let failed: usize = outcomes.iter().map(|o| o.result.violations().len()).sum();
         if passed {
-            println!("\nAll properties hold ({} scenarios).", outcomes.len());
+            outln!("\nAll properties hold ({} scenarios).", outcomes.len());
         } else {
-            println!("\n{failed} properties do not hold.");
+            outln!("\n{failed} properties do not hold.");
         }
-        println!("{CAUTION}");
+        outln!("{CAUTION}");
     }
     Ok(if passed {
         ExitCode::SUCCESS

@@ -4,15 +4,16 @@
 //! Exit code 0 when every property held in every run, 1 when any failed, 2 on bad input.
 
 use std::io::IsTerminal as _;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::process::ExitCode;
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
+use super::outputs::Staged;
 use super::sim::{describe, value};
 use super::table::new_table;
 use crate::cli::{CAUTION, CliError};
-use crate::report::slug;
+use crate::report::{Names, slug};
 use crate::sweep::{self, Output, Plan, Shard};
 
 /// Arguments of `lenz sweep`.
@@ -73,9 +74,14 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         Some(j) => j,
         None => std::thread::available_parallelism().map_or(1, usize::from),
     };
+    // The plot folder is checked before any work.
+    let plot = a
+        .plot
+        .as_deref()
+        .map(|d| Staged::prepare("--plot", d))
+        .transpose()?;
     let name = a.file.display().to_string();
-    let bytes = std::fs::read(&a.file)
-        .map_err(|e| CliError(format!("{name}: cannot read the file: {e}")))?;
+    let bytes = crate::scenario::read(&a.file).map_err(|e| CliError(e.to_string()))?;
     let text = String::from_utf8(bytes.clone())
         .map_err(|_| CliError(format!("{name}: not UTF-8 text")))?;
     let file = crate::scenario::parse(&name, &text).map_err(|e| CliError(e.to_string()))?;
@@ -104,9 +110,15 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     } else {
         ProgressBar::hidden()
     };
-    let out = sweep::sweep(&plan, &|| bar.inc(1)).map_err(|e| CliError(format!("{name}: {e}")))?;
+    // The run records are printed only with --json; without, memory does not keep them.
+    let run = if a.json {
+        sweep::sweep
+    } else {
+        sweep::sweep_summary
+    };
+    let out = run(&plan, &|| bar.inc(1)).map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
     bar.finish_and_clear();
-    report(&out, a.json, a.plot.as_deref())
+    report(&out, a.json, plot)
 }
 
 /// Runs `lenz sweep-merge`.
@@ -115,6 +127,11 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
 ///
 /// Bad input (exit 2).
 pub fn merge(a: &MergeArgs) -> Result<ExitCode, CliError> {
+    let plot = a
+        .plot
+        .as_deref()
+        .map(|d| Staged::prepare("--plot", d))
+        .transpose()?;
     let mut parts = Vec::new();
     for p in &a.files {
         let text = std::fs::read_to_string(p)
@@ -130,7 +147,7 @@ pub fn merge(a: &MergeArgs) -> Result<ExitCode, CliError> {
         parts.push(o);
     }
     let out = sweep::merge(parts).map_err(CliError)?;
-    report(&out, a.json, a.plot.as_deref())
+    report(&out, a.json, plot)
 }
 
 const SPARK: [char; 8] = ['▁', '▂', '▃', '▄', '▅', '▆', '▇', '█'];
@@ -155,10 +172,9 @@ fn opt(v: Option<f64>, unit: &str) -> String {
     v.map_or_else(|| "never".to_string(), |v| value(v, unit))
 }
 
-fn report(out: &Output, json: bool, plot: Option<&Path>) -> Result<ExitCode, CliError> {
-    if let Some(dir) = plot {
-        std::fs::create_dir_all(dir)
-            .map_err(|e| CliError(format!("--plot: cannot create {}: {e}", dir.display())))?;
+fn report(out: &Output, json: bool, plot: Option<Staged>) -> Result<ExitCode, CliError> {
+    if let Some(mut stage) = plot {
+        let mut names = Names::default();
         for s in &out.summary {
             let svg = crate::report::svg::histogram_svg(
                 &format!(
@@ -175,26 +191,26 @@ fn report(out: &Output, json: bool, plot: Option<&Path>) -> Result<ExitCode, Cli
                 s.limit,
             )
             .map_err(CliError)?;
-            let p = dir.join(format!("{}--{}.svg", slug(&s.scenario), slug(&s.property)));
-            std::fs::write(&p, svg)
-                .map_err(|e| CliError(format!("cannot write {}: {e}", p.display())))?;
+            let stem = names.unique(&format!("{}--{}", slug(&s.scenario), slug(&s.property)));
+            stage.write(&format!("{stem}.svg"), &svg)?;
         }
+        stage.commit()?;
     }
-    let done = out.records.len() as u64;
+    let done = out.summary.first().map_or(0, |s| s.runs);
     let ok = out.all_passed == done;
     if json {
-        println!(
-            "{}",
-            serde_json::to_string_pretty(out).map_err(|e| CliError(e.to_string()))?
-        );
+        crate::out::json(out).map_err(|e| CliError(e.to_string()))?;
     } else {
         let slice = out
             .shard
             .map(|s| format!(" (shard {}/{}: {done} runs)", s.k, s.n))
             .unwrap_or_default();
-        println!(
+        outln!(
             "lenz sweep: {} ({}), seed {}, {} runs{slice}",
-            out.file, out.system, out.seed, out.runs
+            out.file,
+            out.system,
+            out.seed,
+            out.runs
         );
         let mut t = new_table(&[
             "Scenario",
@@ -230,13 +246,13 @@ fn report(out: &Output, json: bool, plot: Option<&Path>) -> Result<ExitCode, Cli
                 ),
             ]);
         }
-        println!("{t}");
-        println!("\n{} of {done} runs passed every property.", out.all_passed);
+        outln!("{t}");
+        outln!("\n{} of {done} runs passed every property.", out.all_passed);
         let mut shown = Vec::new();
         for s in out.summary.iter().filter(|s| s.passed < s.runs) {
             if let Some(w) = s.worst.as_ref().filter(|w| !shown.contains(&w.index)) {
                 shown.push(w.index);
-                println!(
+                outln!(
                     "worst run {} ({} {}): {}\n  replay: {}",
                     w.index,
                     s.scenario,
@@ -246,7 +262,7 @@ fn report(out: &Output, json: bool, plot: Option<&Path>) -> Result<ExitCode, Cli
                 );
             }
         }
-        println!("{CAUTION}");
+        outln!("{CAUTION}");
     }
     Ok(if ok {
         ExitCode::SUCCESS

@@ -34,6 +34,10 @@ pub fn si(value: f64, unit: &str) -> String {
         (1e-15, "f"),
     ];
     let mag = value.abs();
+    if !(0.999_95e-15..999.95e9).contains(&mag) {
+        // Beyond the prefixes: scientific notation, four significant digits.
+        return format!("{value:.3e} {unit}");
+    }
     let (scale, prefix) = PREFIXES
         .iter()
         .copied()
@@ -63,5 +67,8 @@ mod tests {
         assert_eq!(si(0.0, "J"), "0 J");
         assert_eq!(si(-0.7, "V"), "-700.0 mV");
         assert_eq!(si(999.99, "V"), "1.000 kV");
+        // Beyond the prefixes: scientific notation, not `0.000 fA` or a 20-digit number.
+        assert_eq!(si(1e-30, "A"), "1.000e-30 A");
+        assert_eq!(si(3e38, "H"), "3.000e38 H");
     }
 }

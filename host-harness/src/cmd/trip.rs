@@ -83,7 +83,7 @@ pub fn run_time(a: &TimeArgs) -> Result<ExitCode, CliError> {
         trip_time_s: t,
     };
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -105,14 +105,14 @@ pub fn run_time(a: &TimeArgs) -> Result<ExitCode, CliError> {
         format!("{} ({:.4})", si(r.current_a.into(), "A"), r.multiple),
     ]);
     tab.add_row(vec!["Trip time".to_string(), si(r.trip_time_s.into(), "s")]);
-    println!("{tab}");
+    outln!("{tab}");
     if a.curve == Curve::LongTimeInverse {
-        println!(
+        outln!(
             "Note: long-time inverse (k 120, α 1) is a relay-practice curve, not one of the six \
              IEC 60255-151 curve types."
         );
     }
-    println!("{CAUTION}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }
 
@@ -234,7 +234,7 @@ pub fn run_threshold(a: &ThresholdArgs) -> Result<ExitCode, CliError> {
         di_dt_a_per_s: plan.di_dt_a_per_s,
     };
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -267,7 +267,7 @@ pub fn run_threshold(a: &ThresholdArgs) -> Result<ExitCode, CliError> {
             si(m.into(), "A"),
         ]);
     }
-    println!("{tab}");
-    println!("{CAUTION}");
+    outln!("{tab}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

@@ -122,6 +122,17 @@ fn parse_clamp(text: &str) -> Result<Clamp, CliError> {
     if parts.len() != n {
         return Err(bad_form());
     }
+    if let Clamp::Resistor { resistance_ohm, .. } = clamp
+        && resistance_ohm.is_finite()
+        && resistance_ohm <= 0.0
+    {
+        // As in a scenario file: a resistor clamp of 0 Ω is a freewheel diode.
+        return Err(CliError(format!(
+            "--clamp RS: '{}' is not a clamp resistor: must be above 0 Ω (for a plain diode \
+             use diode:VF)",
+            parts.get(1).copied().unwrap_or("")
+        )));
+    }
     Ok(clamp)
 }
 
@@ -269,7 +280,7 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let release = a.release_current.map(|r| r as f32);
     let (r, end) = report(&s, release).map_err(|e| CliError::from_lenz(e, FLAGS))?;
     if a.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string(&r).map_err(|e| CliError(e.to_string()))?
         );
@@ -354,15 +365,15 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         "Energy from the supply".to_string(),
         si(r.supply_energy_j.into(), "J"),
     ]);
-    println!("{t}");
+    outln!("{t}");
     if a.supply.is_none() {
-        println!(
+        outln!(
             "No --supply given: 0 V assumed, so the switch voltages above are relative to the \
              supply (add the supply voltage)."
         );
     }
     if common.is_some() {
-        println!(
+        outln!(
             "No --release-current given: the drop-out current is taken as {:.0} % of the current \
              at switch-off, the relay datasheet convention for must-release (common practice, \
              not a standard; a real relay releases at a higher current, so this is the slow \
@@ -371,8 +382,8 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
         );
     }
     for l in lines {
-        println!("{l}");
+        outln!("{l}");
     }
-    println!("{CAUTION}");
+    outln!("{CAUTION}");
     Ok(ExitCode::SUCCESS)
 }

@@ -52,7 +52,7 @@
 //! `host-harness/tests/plant_armature.rs`).
 
 use super::gap_magnet::{GapCurve, GapMagnet};
-use super::rk::{Rk, Stop};
+use super::rk::{Rk, StepUnderflow, Stop};
 use super::{in_range, non_negative, positive};
 use lenz::Error;
 use serde::{Deserialize, Serialize};
@@ -232,6 +232,7 @@ pub struct ArmatureDrive {
     events: Vec<ArmatureEvent>,
     strokes: Vec<Stroke>,
     rk: Rk<6>,
+    failure: Option<StepUnderflow>,
     lam_scale: f64,
     /// Supply energy at the switch-on that began the present stroke, J.
     stroke_supply_j: f64,
@@ -326,6 +327,7 @@ impl ArmatureDrive {
                 [1e-15 * lam_scale, 1e-16 * open, V_ATOL, 1e-18, 1e-18, 1e-18],
                 1e-7,
             ),
+            failure: None,
             lam_scale,
             stroke_supply_j: 0.0,
             mag,
@@ -391,6 +393,13 @@ impl ArmatureDrive {
     #[must_use]
     pub fn strokes(&self) -> &[Stroke] {
         &self.strokes
+    }
+
+    /// The integrator's step underflow, if one stopped the plant (the state after it is not
+    /// a solution).
+    #[must_use]
+    pub fn failure(&self) -> Option<StepUnderflow> {
+        self.failure
     }
 
     /// Energies booked so far.
@@ -611,6 +620,13 @@ impl ArmatureDrive {
         let (dt, ev) = match stop {
             Stop::End => (span, None),
             Stop::Event { index, dt } => (dt, Some(index)),
+            Stop::Stalled { dt, h } => {
+                self.failure.get_or_insert(StepUnderflow {
+                    t_s: self.t + dt,
+                    step_s: h,
+                });
+                (span, None)
+            }
         };
         self.lam = y[0];
         if seg.moving {
@@ -666,7 +682,7 @@ impl ArmatureDrive {
             return;
         }
         let mut guard = 0u32;
-        while self.t < t_s && guard < 10_000_000 {
+        while self.t < t_s && guard < 10_000_000 && self.failure.is_none() {
             guard += 1;
             let span = t_s - self.t;
             let frozen = self.topo == Topology::Idle && self.mode != ArmatureMode::Moving;

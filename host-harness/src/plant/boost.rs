@@ -22,7 +22,7 @@
 
 use super::inductance::{InductanceCurve, Magnetisation};
 use super::linalg::{Mat, expm, mul_vec};
-use super::rk::{MAX_EVENTS, Rk, Stop};
+use super::rk::{MAX_EVENTS, Rk, StepUnderflow, Stop};
 use super::{in_range, non_negative, positive};
 use lenz::Error;
 use serde::{Deserialize, Serialize};
@@ -73,6 +73,7 @@ pub struct Boost {
     cmd_on: bool,
     stuck_on: bool,
     rk: Rk<2>,
+    failure: Option<StepUnderflow>,
     cache: [(BoostMode, f64, f64, f64, Mat<3>); 4],
     cache_next: usize,
     peak_current_a: f64,
@@ -111,6 +112,7 @@ impl Boost {
             cmd_on: false,
             stuck_on: false,
             rk: Rk::new(1e-10, [1e-16, 1e-12], 1e-8),
+            failure: None,
             cache: [(BoostMode::Idle, f64::NAN, 0.0, 0.0, [[0.0; 3]; 3]); 4],
             cache_next: 0,
             peak_current_a: 0.0,
@@ -175,6 +177,13 @@ impl Boost {
     #[must_use]
     pub fn mode(&self) -> BoostMode {
         self.mode
+    }
+
+    /// The integrator's step underflow, if one stopped the stage (the state after it is not
+    /// a solution; a closed-loop run reports it as an error).
+    #[must_use]
+    pub fn failure(&self) -> Option<StepUnderflow> {
+        self.failure
     }
 
     /// Highest inductor current so far, A.
@@ -334,13 +343,14 @@ impl Boost {
     }
 
     /// Advances to `t_s` with the switch as commanded. A time not after the present one, or
-    /// not finite, leaves the stage unchanged.
+    /// not finite, leaves the stage unchanged. After a [`StepUnderflow`] the stage stops (its
+    /// time moves on, its state does not): see [`Boost::failure`].
     pub fn advance_to(&mut self, t_s: f64) {
         if !t_s.is_finite() {
             return;
         }
         let mut guard = 0u32;
-        while self.t < t_s && guard < 1_000_000 {
+        while self.t < t_s && guard < 1_000_000 && self.failure.is_none() {
             guard += 1;
             let span = t_s - self.t;
             let mode = self.mode;
@@ -481,6 +491,15 @@ impl Boost {
                 self.lam = if mode == BoostMode::Diode { 0.0 } else { y[0] };
                 self.v_c = y[1];
                 (dt, true)
+            }
+            Stop::Stalled { dt, h } => {
+                self.lam = y[0];
+                self.v_c = y[1];
+                self.failure.get_or_insert(StepUnderflow {
+                    t_s: self.t + dt,
+                    step_s: h,
+                });
+                (span, false)
             }
         }
     }

@@ -212,7 +212,18 @@ impl Magnetisation {
 
     /// Current at flux linkage `lam` (inverse of [`Magnetisation::flux`]), A.
     #[must_use]
+    #[inline]
     pub fn current(&self, lam: f64) -> f64 {
+        // The linear case is on every probe of the plant: kept inline, the rest out of line.
+        if let InductanceCurve::Linear { l_h } = self.curve {
+            return (lam.abs() / l_h).copysign(lam);
+        }
+        self.current_nonlinear(lam)
+    }
+
+    /// [`Magnetisation::current`] of a saturating curve.
+    #[inline(never)]
+    fn current_nonlinear(&self, lam: f64) -> f64 {
         let a = lam.abs();
         let i = match &self.curve {
             InductanceCurve::Linear { l_h } => a / l_h,

@@ -65,6 +65,7 @@ pub use coil_drive::{
 pub use gap_magnet::{GapCurve, GapMagnet};
 pub use inductance::{InductanceCurve, Magnetisation};
 pub use motor::{Decay, LoadProfile, MotorEvent, MotorEventKind, MotorPlant, MotorSpec};
+pub use rk::StepUnderflow;
 pub use thermal::Thermal;
 
 use lenz::Error;

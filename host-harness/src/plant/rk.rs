@@ -12,12 +12,21 @@
 //!
 //! # Events
 //!
-//! Every segment carries up to [`MAX_EVENTS`] event functions `g_j(y)`, positive while the
+//! Every segment carries `M` event functions `g_j(y)` (the plants use [`MAX_EVENTS`], the coil
+//! drive one more while it watches for a current level), positive while the
 //! segment's topology holds. When an accepted step starts with `g_j ≥ 0` and ends with `g_j < 0`, the step length is
 //! refined by the Illinois variant of regula falsi on `h ↦ g_j(step(y, h))`, each trial being a
 //! fresh fifth-order step from the start of the step (so the located state is as accurate as any
 //! accepted step), until the bracket is below `1e-14` of the step or `|g_j|` is below the
 //! event's absolute tolerance. The integrator stops exactly there and reports which event fired.
+//!
+//! # Step underflow
+//!
+//! A right-hand side that turns NaN or grows without bound makes every trial step fail, and
+//! the step shrinks by 0.2 each time; once it is no longer than [`MIN_STEP_REL`] of the span
+//! (below the span's time resolution, or exactly zero) no further step can make progress. The
+//! integration then stops with [`Stop::Stalled`] instead of retrying forever, and the plant
+//! reports a [`StepUnderflow`].
 //!
 //! No allocation: states are fixed-size arrays.
 
@@ -54,6 +63,33 @@ const E5: f64 = -17253.0 / 339200.0;
 const E6: f64 = 22.0 / 525.0;
 const E7: f64 = -1.0 / 40.0;
 
+/// Shortest useful step, relative to the span: 16 ulp of the span. A step this short adds
+/// nothing that the span's own rounding keeps.
+pub(crate) const MIN_STEP_REL: f64 = 16.0 * f64::EPSILON;
+
+/// The adaptive integrator could not make progress (module docs, "Step underflow"): the
+/// plant's equations gave no usable step at `t_s`.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct StepUnderflow {
+    /// Plant time at which the step underflowed, s.
+    pub t_s: f64,
+    /// The last step tried, s.
+    pub step_s: f64,
+}
+
+impl std::fmt::Display for StepUnderflow {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "the plant's integrator stopped at t = {:.6e} s: step {:.3e} s is too short to \
+             make progress (the state or its derivative is not finite)",
+            self.t_s, self.step_s
+        )
+    }
+}
+
+impl std::error::Error for StepUnderflow {}
+
 /// Tolerances and the step-size memory of one integration.
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct Rk<const N: usize> {
@@ -72,6 +108,9 @@ pub(crate) enum Stop {
     End,
     /// Event `index` fired after `dt` seconds.
     Event { index: usize, dt: f64 },
+    /// No step could make progress after `dt` seconds (module docs, "Step underflow"); `h` is
+    /// the last step tried.
+    Stalled { dt: f64, h: f64 },
 }
 
 fn axpy<const N: usize>(y: &[f64; N], h: f64, terms: &[(f64, &[f64; N])]) -> [f64; N] {
@@ -137,17 +176,17 @@ impl<const N: usize> Rk<N> {
 
     /// Integrates the autonomous system `ẏ = f(y)` for at most `span` seconds, stopping at the
     /// first event `g_j(y) ≤ 0` (module docs). `y` holds the final state.
-    pub(crate) fn integrate<F, G>(
+    pub(crate) fn integrate<const M: usize, F, G>(
         &mut self,
         f: &F,
         g: &G,
-        g_tol: &[f64; MAX_EVENTS],
+        g_tol: &[f64; M],
         y: &mut [f64; N],
         span: f64,
     ) -> Stop
     where
         F: Fn(&[f64; N]) -> [f64; N],
-        G: Fn(&[f64; N]) -> [f64; MAX_EVENTS],
+        G: Fn(&[f64; N]) -> [f64; M],
     {
         let mut done = 0.0;
         let mut h = self.h.min(span).max(span * 1e-12);
@@ -159,6 +198,10 @@ impl<const N: usize> Rk<N> {
             }
             let last = h >= remaining;
             let h_try = if last { remaining } else { h };
+            // Also catches a NaN step (no comparison holds).
+            if h_try.partial_cmp(&(MIN_STEP_REL * span)) != Some(std::cmp::Ordering::Greater) {
+                return Stop::Stalled { dt: done, h: h_try };
+            }
             let (y1, err) = Self::step(f, y, h_try);
             let en = self.error_norm(y, &y1, &err);
             if en.is_nan() || en > 1.0 {
@@ -172,7 +215,7 @@ impl<const N: usize> Rk<N> {
             }
             // Accepted: check the events at the end of the step.
             let g1 = g(&y1);
-            let fired = (0..MAX_EVENTS)
+            let fired = (0..M)
                 .filter(|&j| g0[j] >= 0.0 && g1[j] < 0.0)
                 .min_by(|&a, &b| g1[a].total_cmp(&g1[b]));
             if let Some(j) = fired {
@@ -181,7 +224,7 @@ impl<const N: usize> Rk<N> {
                 self.steps += 1;
                 // Another event may fire earlier inside the located step; check them too.
                 let gj = g(y);
-                let earliest = (0..MAX_EVENTS)
+                let earliest = (0..M)
                     .filter(|&k| g0[k] >= 0.0 && gj[k] <= 0.0)
                     .min_by(|&a, &b| gj[a].total_cmp(&gj[b]))
                     .unwrap_or(j);
@@ -211,7 +254,7 @@ impl<const N: usize> Rk<N> {
 
     /// Illinois regula falsi on the step length for event `j` (module docs).
     #[allow(clippy::too_many_arguments)] // the bracket's two ends and their values belong together
-    fn locate<F, G>(
+    fn locate<const M: usize, F, G>(
         &self,
         f: &F,
         g: &G,
@@ -225,7 +268,7 @@ impl<const N: usize> Rk<N> {
     ) -> (f64, [f64; N])
     where
         F: Fn(&[f64; N]) -> [f64; N],
-        G: Fn(&[f64; N]) -> [f64; MAX_EVENTS],
+        G: Fn(&[f64; N]) -> [f64; M],
     {
         let (mut a, mut fa) = (0.0, g_lo);
         let (mut b, mut fb) = (h, g_hi);
@@ -291,5 +334,41 @@ mod tests {
         );
         let want = 2.0 * (-2e-3f64 / tau).exp() - 1.0;
         assert!((y[0] - want).abs() < 1e-10);
+    }
+
+    /// A right-hand side that is NaN from some state on: every trial step is rejected and the
+    /// step shrinks to zero. Without the underflow guard the integrator retried a zero step
+    /// forever; the evaluation counter turns that into a failure instead of a hang.
+    #[test]
+    fn a_step_that_underflows_stops_the_integration() {
+        let calls = std::cell::Cell::new(0u64);
+        let f = |y: &[f64; 1]| {
+            calls.set(calls.get() + 1);
+            assert!(calls.get() < 1_000_000, "the integrator did not stop");
+            // Finite up to y = 0.5, NaN beyond: the solution y = t reaches it at t = 0.5.
+            [if y[0] < 0.5 { 1.0 } else { f64::NAN }]
+        };
+        let g = |_: &[f64; 1]| [1.0; MAX_EVENTS];
+        let mut rk = Rk::new(1e-10, [1e-12], 1e-3);
+        let mut y = [0.0];
+        match rk.integrate(&f, &g, &[0.0; MAX_EVENTS], &mut y, 1.0) {
+            Stop::Stalled { dt, h } => {
+                assert!((0.4..=0.5).contains(&dt), "stalled at {dt}");
+                assert!(h <= MIN_STEP_REL, "last step {h}");
+                assert!(
+                    y[0].is_finite() && y[0] <= 0.5,
+                    "state kept finite: {}",
+                    y[0]
+                );
+            }
+            other => panic!("expected a stall, got {other:?}"),
+        }
+        // A NaN from the start stalls at once, before any step is accepted.
+        let nan = |_: &[f64; 1]| [f64::NAN];
+        let mut y = [0.0];
+        assert!(matches!(
+            rk.integrate(&nan, &g, &[0.0; MAX_EVENTS], &mut y, 1e-3),
+            Stop::Stalled { dt: 0.0, .. }
+        ));
     }
 }

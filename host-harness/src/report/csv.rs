@@ -1,41 +1,51 @@
 //! CSV waveforms: a header row, then one row per recorded tick (the sampling instant).
 //! Numbers are written in Rust's shortest round-trip form; a missing estimate is empty.
 
-use std::fmt::Write as _;
+use std::io::{self, Write};
 
 use crate::closed_loop::Waveform;
 
 /// The column names, in order.
 pub const HEADER: &str = "t_s,current_a,estimate_a,switch_v,output_v,supply_v,drive";
 
-/// The waveform as CSV text.
-#[must_use]
-pub fn to_csv(w: &Waveform) -> String {
-    let mut s = String::with_capacity(64 * (w.t_s.len() + 1));
-    s.push_str(HEADER);
-    s.push('\n');
+/// Writes the waveform as CSV to `w`, row by row (nothing is built in memory).
+///
+/// # Errors
+///
+/// What `w` reports.
+pub fn write_csv(w: &mut impl Write, wave: &Waveform) -> io::Result<()> {
+    writeln!(w, "{HEADER}")?;
     let get = |v: &[f64], k: usize| v.get(k).copied().unwrap_or(f64::NAN);
-    for k in 0..w.t_s.len() {
+    for k in 0..wave.t_s.len() {
         let cols = [
-            get(&w.t_s, k),
-            get(&w.current_a, k),
-            get(&w.estimate_a, k),
-            get(&w.switch_v, k),
-            get(&w.output_v, k),
-            get(&w.supply_v, k),
-            get(&w.drive, k),
+            get(&wave.t_s, k),
+            get(&wave.current_a, k),
+            get(&wave.estimate_a, k),
+            get(&wave.switch_v, k),
+            get(&wave.output_v, k),
+            get(&wave.supply_v, k),
+            get(&wave.drive, k),
         ];
         for (j, v) in cols.iter().enumerate() {
             if j > 0 {
-                s.push(',');
+                w.write_all(b",")?;
             }
             if v.is_finite() {
-                let _ = write!(s, "{v}");
+                write!(w, "{v}")?;
             }
         }
-        s.push('\n');
+        w.write_all(b"\n")?;
     }
-    s
+    Ok(())
+}
+
+/// The waveform as CSV text.
+#[must_use]
+pub fn to_csv(w: &Waveform) -> String {
+    let mut v = Vec::with_capacity(64 * (w.t_s.len() + 1));
+    // Writing into a `Vec` cannot fail, and every byte written is UTF-8.
+    let _ = write_csv(&mut v, w);
+    String::from_utf8_lossy(&v).into_owned()
 }
 
 #[cfg(test)]

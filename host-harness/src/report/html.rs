@@ -4,8 +4,8 @@
 
 use std::fmt::Write as _;
 
+use super::Outcome;
 use super::junit::escape;
-use super::{Outcome, stem};
 use crate::cmd::plan::{Report, num};
 use crate::cmd::sim::value;
 
@@ -86,7 +86,7 @@ pub fn index(
         }
         h.push_str("</table>\n<h3>Scenarios in the closed loop</h3>\n<table>\n<tr><th>Scenario</th><th>Property</th><th>Value</th><th>Limit</th><th>Result</th><th>Plot</th><th>Waveform</th></tr>\n");
         for o in s.outcomes {
-            let st = stem(o);
+            let st = &o.stem;
             for (k, p) in o.result.properties.iter().enumerate() {
                 let (plot, wave) = if k == 0 {
                     (

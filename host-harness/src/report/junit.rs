@@ -1,7 +1,8 @@
 //! JUnit XML: one `<testsuite>` per scenario file, one `<testcase>` per scenario and property
-//! (`classname` = the scenario, `name` = the property). A property that does not hold gets a
-//! `<failure>` with the measured value and the limit. Written by hand: the format needs five
-//! elements and attribute escaping.
+//! (`classname` = `FILE: SCENARIO`, so scenarios of one name in two files stay apart,
+//! `name` = the property, `file` = the scenario file as given). A property that does not hold
+//! gets a `<failure>` with the measured value and the limit. Written by hand: the format needs
+//! five elements and attribute escaping.
 
 use std::fmt::Write as _;
 
@@ -63,9 +64,10 @@ pub fn to_junit(outcomes: &[Outcome]) -> String {
             for p in &o.result.properties {
                 let _ = write!(
                     x,
-                    "    <testcase classname=\"{}\" name=\"{}\" time=\"0\"",
-                    escape(&o.scenario),
-                    escape(p.name)
+                    "    <testcase classname=\"{}\" name=\"{}\" file=\"{}\" time=\"0\"",
+                    escape(&format!("{}: {}", o.file, o.scenario)),
+                    escape(p.name),
+                    escape(&o.file)
                 );
                 if p.pass {
                     x.push_str("/>\n");

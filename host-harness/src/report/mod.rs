@@ -25,7 +25,10 @@ pub struct Outcome {
     pub system: String,
     /// The scenario's name.
     pub scenario: String,
-    /// The run.
+    /// The base name of its CSV and SVG files, unique within the command's output
+    /// ([`Names`]).
+    pub stem: String,
+    /// The run (its waveform is dropped once written, to keep memory bounded).
     pub result: RunResult,
 }
 
@@ -49,18 +52,62 @@ pub fn slug(name: &str) -> String {
     out
 }
 
-/// The base name (without extension) of the files of one scenario.
+/// The readable base name (without extension) of the files of scenario `scenario` of `file`:
+/// `FILE-STEM--SCENARIO`, both as [`slug`]s. Two scenarios can share it (names that differ in
+/// case, punctuation or non-ASCII letters, files of one name in two folders): [`Names`] makes
+/// it unique.
 #[must_use]
-pub fn stem(o: &Outcome) -> String {
-    let f = std::path::Path::new(&o.file)
+pub fn base_stem(file: &str, scenario: &str) -> String {
+    let f = std::path::Path::new(file)
         .file_stem()
         .map_or_else(|| "file".to_string(), |s| s.to_string_lossy().into_owned());
-    format!("{}--{}", slug(&f), slug(&o.scenario))
+    format!("{}--{}", slug(&f), slug(scenario))
+}
+
+/// Hands out file names that are unique within one command's output: the first to ask for a
+/// base name gets it, later ones get `BASE-2`, `BASE-3`… (in the order asked, which is the
+/// order of the files and scenarios on the command line). Names are compared in lowercase, as
+/// a case-insensitive file system would.
+#[derive(Debug, Default)]
+pub struct Names {
+    used: std::collections::HashSet<String>,
+}
+
+impl Names {
+    /// A name not handed out before, from `base`.
+    pub fn unique(&mut self, base: &str) -> String {
+        let mut name = base.to_string();
+        let mut n = 2u64;
+        while !self.used.insert(name.to_lowercase()) {
+            name = format!("{base}-{n}");
+            n += 1;
+        }
+        name
+    }
 }
 
 #[cfg(test)]
 mod tests {
-    use super::slug;
+    use super::{Names, base_stem, slug};
+
+    #[test]
+    fn names_that_slug_alike_get_their_own_files() {
+        let mut n = Names::default();
+        let a = n.unique(&base_stem("a/valve.toml", "Cold coil"));
+        let b = n.unique(&base_stem("b/valve.toml", "cold-coil"));
+        let c = n.unique(&base_stem("valve.toml", "Ventil ä"));
+        let d = n.unique(&base_stem("valve.toml", "Ventil ö"));
+        let e = n.unique("valve--cold-coil-2");
+        assert_eq!(a, "valve--cold-coil");
+        assert_eq!(b, "valve--cold-coil-2");
+        assert_eq!(
+            (c.as_str(), d.as_str()),
+            ("valve--ventil", "valve--ventil-2")
+        );
+        assert_eq!(e, "valve--cold-coil-2-2");
+        assert_eq!(n.unique("X"), "X");
+        assert_eq!(n.unique("x"), "x-2", "case-insensitive file systems");
+    }
 
     #[test]
     fn slugs() {

@@ -51,6 +51,41 @@ fn event_label(what: &str) -> &'static str {
     }
 }
 
+/// Points per panel at most: two per pixel column of the 960-pixel-wide plot.
+const MAX_POINTS: usize = 2 * 960;
+
+/// At most about `max` points that draw the same line as `pts` at the plot's resolution:
+/// `pts` (in time order) is cut into `max / 2` runs of equal length, and each run gives its
+/// lowest and highest point, in time order (the envelope a line through every point would
+/// fill). Short series are returned whole. So an SVG stays small and quick to draw whatever
+/// the scenario's length.
+fn envelope(pts: Vec<(f64, f64)>, max: usize) -> Vec<(f64, f64)> {
+    let runs = (max / 2).max(1);
+    if pts.len() <= max {
+        return pts;
+    }
+    let per = pts.len().div_ceil(runs);
+    let mut out = Vec::with_capacity(2 * runs);
+    for chunk in pts.chunks(per) {
+        let lo = chunk
+            .iter()
+            .enumerate()
+            .min_by(|a, b| a.1.1.total_cmp(&b.1.1));
+        let hi = chunk
+            .iter()
+            .enumerate()
+            .max_by(|a, b| a.1.1.total_cmp(&b.1.1));
+        if let (Some((i, &l)), Some((j, &h))) = (lo, hi) {
+            match i.cmp(&j) {
+                std::cmp::Ordering::Less => out.extend([l, h]),
+                std::cmp::Ordering::Greater => out.extend([h, l]),
+                std::cmp::Ordering::Equal => out.push(l),
+            }
+        }
+    }
+    out
+}
+
 struct Series<'a> {
     label: &'a str,
     values: &'a [f64],
@@ -119,6 +154,7 @@ fn panel(
         if pts.is_empty() {
             continue;
         }
+        let pts = envelope(pts, MAX_POINTS);
         let c = s.color;
         chart
             .draw_series(LineSeries::new(pts, c.stroke_width(1)))
@@ -293,4 +329,35 @@ pub fn histogram_svg(
         root.present().map_err(err)?;
     }
     Ok(buf)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::envelope;
+
+    #[test]
+    fn envelope_keeps_short_series_and_every_extreme_of_long_ones() {
+        let short: Vec<(f64, f64)> = (0..10).map(|k| (f64::from(k), f64::from(k % 3))).collect();
+        assert_eq!(envelope(short.clone(), 20), short);
+        // A 1 kHz square wave with one spike, sampled 100 000 times.
+        let long: Vec<(f64, f64)> = (0..100_000)
+            .map(|k| {
+                let v = if k == 54_321 {
+                    9.0
+                } else if (k / 50) % 2 == 0 {
+                    1.0
+                } else {
+                    -1.0
+                };
+                (f64::from(k), v)
+            })
+            .collect();
+        let e = envelope(long, 1000);
+        assert!(e.len() <= 1000, "{}", e.len());
+        assert!(e.windows(2).all(|w| w[0].0 < w[1].0), "time order");
+        let max = e.iter().map(|p| p.1).fold(f64::MIN, f64::max);
+        let min = e.iter().map(|p| p.1).fold(f64::MAX, f64::min);
+        assert_eq!((min, max), (-1.0, 9.0), "the spike and both levels survive");
+        assert!(e.contains(&(54_321.0, 9.0)));
+    }
 }

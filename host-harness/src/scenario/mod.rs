@@ -35,11 +35,29 @@
 //! dotted key of the value (`system.coil.inductance`, `scenario[1].event[0].at`) and the
 //! position is the value's own (or its table's, for checks across a table's values). Unknown
 //! keys, missing keys, values that are not numbers in the right unit and values out of range
-//! are all errors; nothing is silently ignored or clamped.
+//! are all errors; nothing is silently ignored or clamped. Problems found later, when a plan or
+//! the plant rejects a value (`lenz plan`, `lenz sim`, `lenz sweep`), take the same form: the
+//! rejected parameter is mapped to the key it comes from ([`run`]) and placed at that key's
+//! value ([`position`]), so a message never names an internal parameter.
+//!
+//! # When events take effect
+//!
+//! A command takes effect at the first control tick at or after its time; a fault, supply
+//! change or load step at its exact time. An event that would have no effect (lost between
+//! ticks, at or after the end, setting the demand it already has) or a scenario that would
+//! simulate or measure nothing is an error at its position: see [`timing`].
+//!
+//! # Limits
+//!
+//! A file has at most 1 MiB, 1 000 scenarios and 10 000 events per scenario ([`limits`]), so
+//! reading, planning and running it take bounded memory.
 
+pub mod limits;
+pub mod position;
 pub mod quantity;
 pub mod run;
 pub mod schema;
+pub mod timing;
 
 use std::fmt;
 use std::path::Path;
@@ -89,6 +107,31 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
     (line, col)
 }
 
+/// A problem found after parsing (a plan or the plant rejects a value), given as `key `K`:
+/// problem` (the form of [`run::RunSetupError`]), placed at the key's position in the file
+/// `file`, which is read again; without a key or a position, the file name alone.
+#[must_use]
+pub fn locate_problem(file: &str, message: &str) -> ScenarioError {
+    let (key, problem) = message
+        .strip_prefix("key `")
+        .and_then(|rest| rest.split_once("`: "))
+        .map_or((String::new(), message.to_string()), |(k, p)| {
+            (k.to_string(), p.to_string())
+        });
+    let (line, column) = std::fs::read_to_string(file)
+        .ok()
+        .filter(|_| !key.is_empty())
+        .and_then(|text| position::key_offset(&text, &key).map(|o| line_col(&text, o)))
+        .unwrap_or((0, 0));
+    ScenarioError {
+        file: file.to_string(),
+        line,
+        column,
+        key,
+        problem,
+    }
+}
+
 /// Reads and checks a scenario file.
 ///
 /// # Errors
@@ -96,14 +139,43 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
 /// The file cannot be read, or it has a problem (see the module docs).
 pub fn load(path: &Path) -> Result<File, ScenarioError> {
     let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| ScenarioError {
+    let bytes = read(path)?;
+    let text = String::from_utf8(bytes).map_err(|_| ScenarioError {
         file: name.clone(),
         line: 0,
         column: 0,
         key: String::new(),
-        problem: format!("cannot read the file: {e}"),
+        problem: "not UTF-8 text".into(),
     })?;
     parse(&name, &text)
+}
+
+/// The bytes of a scenario file, read no further than the size limit ([`limits`]).
+///
+/// # Errors
+///
+/// The file cannot be read, or it is longer than the limit.
+pub fn read(path: &Path) -> Result<Vec<u8>, ScenarioError> {
+    use std::io::Read as _;
+    let fail = |problem: String| ScenarioError {
+        file: path.display().to_string(),
+        line: 0,
+        column: 0,
+        key: String::new(),
+        problem,
+    };
+    let f = std::fs::File::open(path).map_err(|e| fail(format!("cannot read the file: {e}")))?;
+    let mut bytes = Vec::new();
+    f.take(limits::MAX_FILE_BYTES as u64 + 1)
+        .read_to_end(&mut bytes)
+        .map_err(|e| fail(format!("cannot read the file: {e}")))?;
+    if bytes.len() > limits::MAX_FILE_BYTES {
+        return Err(fail(format!(
+            "longer than {} bytes (1 MiB), the limit of a scenario file",
+            limits::MAX_FILE_BYTES
+        )));
+    }
+    Ok(bytes)
 }
 
 /// Parses and checks the text of a scenario file; `file` names it in errors.
@@ -122,6 +194,15 @@ pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
             problem,
         }
     };
+    if let Some(problem) = limits::size_problem(text) {
+        return Err(ScenarioError {
+            file: file.to_string(),
+            line: 0,
+            column: 0,
+            key: String::new(),
+            problem,
+        });
+    }
     let de = toml::Deserializer::parse(text).map_err(|e| {
         let start = e.span().map_or(0, |s| s.start);
         at(start, String::new(), e.message().trim().to_string())
@@ -134,9 +215,30 @@ pub fn parse(file: &str, text: &str) -> Result<File, ScenarioError> {
         let (key, problem) = tidy(key, inner.message().trim());
         at(start, key, problem)
     })?;
+    if let Some((key, scenario, problem)) = limits::count_problem(&parsed) {
+        let place = scenario
+            .and_then(|k| parsed.scenarios.get(k))
+            .map(|s| Place {
+                scenario: s.name.clone(),
+                table: None,
+                literal: None,
+            });
+        return Err(at(place.map_or(0, |p| locate(text, &p)), key, problem));
+    }
     check_consistency(&parsed).map_err(|(key, needle, problem)| {
         let offset = needle.map_or(0, |n| locate(text, &n));
         at(offset, key, problem)
+    })?;
+    timing::check(&parsed).map_err(|t| {
+        let place = Place {
+            scenario: parsed
+                .scenarios
+                .get(t.scenario)
+                .map_or_else(String::new, |s| s.name.clone()),
+            table: t.table,
+            literal: None,
+        };
+        at(locate(text, &place), t.key, t.problem)
     })?;
     Ok(parsed)
 }
@@ -225,6 +327,21 @@ impl Place {
 
 type Inconsistency = (String, Option<Place>, String);
 
+/// A supply a scenario or an event sets must lie within half the system's minimum and twice
+/// its maximum (the same check for both).
+fn supply_out_of_range(f: &File, v: f64) -> Option<String> {
+    let sup = &f.system.supply;
+    let (lo, hi) = (sup.min.get() * 0.5, sup.max.get() * 2.0);
+    (v < lo || v > hi).then(|| {
+        format!(
+            "{} is far outside the system's supply range (allowed {} to {})",
+            crate::cmd::table::si(v, "V"),
+            crate::cmd::table::si(lo, "V"),
+            crate::cmd::table::si(hi, "V"),
+        )
+    })
+}
+
 /// Checks across tables: controller and system kinds, scenario names, event times, checks
 /// that apply to the kind of system.
 fn check_consistency(f: &File) -> Result<(), Inconsistency> {
@@ -293,15 +410,10 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 "more than 2 000 000 control ticks".into(),
             ));
         }
-        if let Some(v) = s.supply {
-            let sup = &f.system.supply;
-            if v.get() < sup.min.get() * 0.5 || v.get() > sup.max.get() * 2.0 {
-                return Err((
-                    format!("scenario[{k}].supply"),
-                    needle,
-                    format!("{} V is far outside the system's supply range", v.get()),
-                ));
-            }
+        if let Some(v) = s.supply
+            && let Some(problem) = supply_out_of_range(f, v.get())
+        {
+            return Err((format!("scenario[{k}].supply"), needle, problem));
         }
         for (j, e) in s.events.iter().enumerate() {
             let key = format!("scenario[{k}].event[{j}]");
@@ -314,6 +426,15 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                         e.at.get(),
                         s.duration.get()
                     ),
+                ));
+            }
+            if let Action::Supply(v, _) = e.action
+                && let Some(problem) = supply_out_of_range(f, v)
+            {
+                return Err((
+                    format!("{key}.supply"),
+                    place(Some(("[[scenario.event]]", j))),
+                    problem,
                 ));
             }
             let bad = match e.action {

@@ -47,6 +47,14 @@ units! {
     Plain => Unit::None, "";
 }
 
+/// Largest magnitude a file value may have: the plan routines compute in `f32`, whose largest
+/// finite value is 3.4028235e38; a round limit below it.
+pub const F32_LIMIT: f64 = 1e38;
+const F32_LIMIT_TEXT: &str = "1e38 ";
+/// Smallest non-zero magnitude: the smallest normal `f32` is 1.1754944e-38; a round limit above.
+pub const F32_SMALLEST: f64 = 1e-37;
+const F32_SMALLEST_TEXT: &str = "1e-37 ";
+
 /// Which values a wrapper admits.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Sign {
@@ -61,6 +69,21 @@ fn read<'de, D: Deserializer<'de>, U: UnitTag>(d: D, sign: Sign) -> Result<f64, 
         fn check<E: de::Error>(&self, v: f64, text: &str) -> Result<f64, E> {
             if !v.is_finite() {
                 return Err(E::custom(format!("'{text}' is not finite")));
+            }
+            // The plan routines compute in f32: a value beyond its range would become
+            // infinite or zero there and give wrong physics without an error.
+            if v.abs() > F32_LIMIT {
+                return Err(E::custom(format!(
+                    "'{text}' is too large: the limit is {F32_LIMIT_TEXT}{} in magnitude",
+                    U::SYMBOL
+                )));
+            }
+            if v != 0.0 && v.abs() < F32_SMALLEST {
+                return Err(E::custom(format!(
+                    "'{text}' is too small: a value other than 0 must be at least \
+                     {F32_SMALLEST_TEXT}{} in magnitude",
+                    U::SYMBOL
+                )));
             }
             match self.0 {
                 Sign::Positive if v <= 0.0 => Err(E::custom(format!("'{text}' must be positive"))),
@@ -96,7 +119,13 @@ fn read<'de, D: Deserializer<'de>, U: UnitTag>(d: D, sign: Sign) -> Result<f64, 
             self.check(v, s)
         }
         fn visit_f64<E: de::Error>(self, v: f64) -> Result<f64, E> {
-            self.check(v, &v.to_string())
+            // As the user would have typed it: no 300-digit decimals.
+            let text = if v != 0.0 && !(1e-3..1e6).contains(&v.abs()) {
+                format!("{v:e}")
+            } else {
+                v.to_string()
+            };
+            self.check(v, &text)
         }
         fn visit_i64<E: de::Error>(self, v: i64) -> Result<f64, E> {
             self.check(v as f64, &v.to_string())
@@ -163,6 +192,33 @@ wrapper!(
     Sign::Positive
 );
 
+/// A count that the kernels hold in 16 bits (`persistence`, `stuck_samples`): a TOML integer
+/// from 0 to 65 535. Anything else is an error at the value, never clamped.
+///
+/// # Errors
+///
+/// Not an integer, or outside `0 ..= 65535`.
+pub fn count_u16<'de, D: Deserializer<'de>>(d: D) -> Result<u16, D::Error> {
+    struct V;
+    impl Visitor<'_> for V {
+        type Value = u16;
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            f.write_str("a whole number from 0 to 65535")
+        }
+        fn visit_i64<E: de::Error>(self, v: i64) -> Result<u16, E> {
+            u16::try_from(v).map_err(|_| {
+                E::custom(format!(
+                    "{v} is out of range: a count from 0 to 65535 (the kernel holds it in 16 bits)"
+                ))
+            })
+        }
+        fn visit_u64<E: de::Error>(self, v: u64) -> Result<u16, E> {
+            self.visit_i64(i64::try_from(v).unwrap_or(i64::MAX))
+        }
+    }
+    d.deserialize_any(V)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -180,6 +236,36 @@ mod tests {
         assert!((t.l.get() - 0.12).abs() < 1e-15);
         assert!((t.t.get() + 40.0).abs() < 1e-15);
         assert!((t.r.get() - 0.5).abs() < 1e-15);
+    }
+
+    #[derive(Debug, serde::Deserialize)]
+    struct C {
+        #[serde(deserialize_with = "count_u16")]
+        n: u16,
+    }
+
+    #[test]
+    fn counts_are_not_clamped() {
+        assert_eq!(toml::from_str::<C>("n = 65535").unwrap().n, 65535);
+        let e = toml::from_str::<C>("n = 70000").unwrap_err();
+        assert!(e.message().contains("70000 is out of range"), "{e}");
+        let e = toml::from_str::<C>("n = -1").unwrap_err();
+        assert!(e.message().contains("-1 is out of range"), "{e}");
+        let e = toml::from_str::<C>("n = 1.5").unwrap_err();
+        assert!(e.message().contains("a whole number"), "{e}");
+    }
+
+    #[test]
+    fn rejects_values_beyond_the_f32_core() {
+        let e = toml::from_str::<T>("l = 2e307\nt = 0\nr = 0").unwrap_err();
+        assert!(e.message().contains("'2e307' is too large"), "{e}");
+        assert!(e.message().contains("1e38 H"), "{e}");
+        let e = toml::from_str::<T>("l = 1\nt = 0\nr = \"1e-40\"").unwrap_err();
+        assert!(e.message().contains("too small"), "{e}");
+        let e = toml::from_str::<T>("l = 1\nt = -1e39\nr = 0").unwrap_err();
+        assert!(e.message().contains("too large"), "{e}");
+        let t: T = toml::from_str("l = 1e37\nt = 0\nr = 0").unwrap();
+        assert_eq!(t.l.get(), 1e37);
     }
 
     #[test]

@@ -228,8 +228,116 @@ impl std::fmt::Display for RunSetupError {
 
 impl std::error::Error for RunSetupError {}
 
-fn lenz_err(what: &str) -> impl Fn(lenz::Error) -> RunSetupError + '_ {
-    move |e| RunSetupError(format!("{what}: {e}"))
+/// A plan or plant error as a problem of the file: `key `K`: problem`, where `K` is the file
+/// key the rejected parameter comes from (the scenario's own `supply` or `temperature` when
+/// `scenario` sets them), and the problem no longer names the internal parameter. A parameter
+/// with no key of its own (derived from several) is reported at `table`.
+fn lenz_err<'a>(
+    file: &'a File,
+    table: &'a str,
+    scenario: Option<usize>,
+) -> impl Fn(lenz::Error) -> RunSetupError + 'a {
+    move |e| {
+        let param = e.param();
+        let text = e.to_string();
+        match file_key(file, scenario, param) {
+            Some(key) => {
+                let problem = text
+                    .strip_prefix(param)
+                    .and_then(|t| t.strip_prefix(": "))
+                    .unwrap_or(&text);
+                RunSetupError(format!("key `{key}`: {problem}"))
+            }
+            None => {
+                // Derived from several values of the table (a loop resistance, a ratio).
+                let problem = text
+                    .strip_prefix(param)
+                    .and_then(|t| t.strip_prefix(": "))
+                    .unwrap_or(&text);
+                RunSetupError(format!(
+                    "key `{table}`: a value derived from this table: {problem}"
+                ))
+            }
+        }
+    }
+}
+
+/// The file key a plan or plant parameter comes from (see [`lenz_err`]).
+pub(crate) fn file_key(file: &File, scenario: Option<usize>, param: &str) -> Option<String> {
+    let s = &file.system;
+    let sc = scenario.and_then(|k| file.scenarios.get(k).map(|sc| (k, sc)));
+    let boost = s.boost.is_some();
+    let stage = if boost { "system.boost" } else { "system.coil" };
+    let clamp = |field: &str| {
+        let kind = match s.clamp? {
+            ClampSpec::Freewheel { .. } => "freewheel",
+            ClampSpec::DiodeZener { .. } => "diode-zener",
+            ClampSpec::AcrossSwitch { .. } => "across-switch",
+            ClampSpec::ResistorDiode { .. } => "resistor-diode",
+            ClampSpec::Unclamped { .. } => "unclamped",
+        };
+        Some(format!("system.clamp.{kind}.{field}"))
+    };
+    let key = match param {
+        "temp_c" | "ambient_c" => {
+            return Some(match sc {
+                Some((k, sc)) if sc.temperature.is_some() => format!("scenario[{k}].temperature"),
+                _ => "system.temperature".into(),
+            });
+        }
+        "supply_v" | "input_v" => {
+            return Some(match sc {
+                Some((k, sc)) if sc.supply.is_some() => format!("scenario[{k}].supply"),
+                _ => "system.supply".into(),
+            });
+        }
+        "inductance_h" | "l_h" | "l0_h" => return Some(format!("{stage}.inductance")),
+        "vf_v" | "forward_v" if !boost => return clamp("diode_drop"),
+        "vz_v" | "zener_v" => return clamp("zener"),
+        "vcl_v" | "clamp_v" => return clamp("voltage"),
+        "r_ohm" | "clamp_resistance_ohm" => return clamp("resistor"),
+        "c_f" | "capacitance_f" => return clamp("capacitance"),
+        "r20_ohm" | "resistance_ohm" => "system.coil.resistance",
+        "knee_a" => "system.coil.knee_current",
+        "l_res_h" => "system.coil.residual_inductance",
+        "r_th_k_per_w" => "system.coil.thermal_resistance",
+        "c_th_j_per_k" => "system.coil.thermal_capacitance",
+        "release_a" => "system.coil.release_current",
+        "on_resistance_ohm" | "switch_resistance_ohm" | "switch_on_resistance_ohm" => {
+            "system.switch.on_resistance"
+        }
+        "breakdown_v" => "system.switch.breakdown",
+        "source_resistance_ohm" => "system.supply.source_resistance",
+        "shunt_ohm" | "shunt_resistance_ohm" => "system.sense.shunt",
+        "gain" => "system.sense.gain",
+        "gain_tol" => "system.sense.gain_error",
+        "offset_v" => "system.sense.offset",
+        "vref_v" => "system.sense.adc_reference",
+        "bits" => "system.sense.adc_bits",
+        "dcr_ohm" | "inductor_resistance_ohm" => "system.boost.dcr",
+        "diode_drop_v" | "vf_v" | "forward_v" => "system.boost.diode_drop",
+        "esr_ohm" => "system.boost.esr",
+        "load_ohm" => "system.boost.load",
+        "output_c_f" => "system.boost.output_capacitance",
+        "saturation_current_a" => "system.boost.saturation_current",
+        "tick_s" | "tick_ns" => "system.tick",
+        "pwm_period_ns" | "frequency_hz" => "system.pwm_frequency",
+        "sample_offset_ns" => "system.sample_offset",
+        "pull_in_a" => "controller.coil.pull_in_current",
+        "pull_in_min_s" => "controller.coil.pull_in_min_time",
+        "hold_duty" => "controller.coil.hold_duty",
+        "trip_threshold_a" => "controller.coil.trip_current",
+        "abs_tol_a" => "controller.coil.monitor.abs_tol",
+        "rel_tol" => "controller.coil.monitor.rel_tol",
+        "open_min_estimate_a" => "controller.coil.monitor.open_min_estimate",
+        "open_max_a" => "controller.coil.monitor.open_max",
+        "stuck_min_change_a" => "controller.coil.monitor.stuck_min_change",
+        "duration_ns" => {
+            return sc.map(|(k, _)| format!("scenario[{k}].duration"));
+        }
+        _ => return None,
+    };
+    Some(key.to_string())
 }
 
 /// The operating point of a run.
@@ -309,7 +417,9 @@ fn sensors(file: &File, p: &Params, actual: bool) -> Sensors {
     }
 }
 
-fn ns(t_s: f64) -> u64 {
+/// Seconds to whole nanoseconds, as the loop configuration is given its tick, PWM period and
+/// duration.
+pub(crate) fn ns(t_s: f64) -> u64 {
     (t_s * 1e9).round() as u64
 }
 
@@ -469,7 +579,7 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
     let (Some(coil), Some(clamp), super::Controller::Coil(c)) = (s.coil, s.clamp, &file.controller)
     else {
         return Err(RunSetupError(
-            "system: a coil controller needs [system.coil] and a clamp".into(),
+            "key `system`: a coil controller needs [system.coil] and a clamp".into(),
         ));
     };
     let clamp = turnoff_clamp(&clamp);
@@ -477,7 +587,7 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
         .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
         .with_shunt_resistance_ohm(s.sense.shunt.get() as f32)
         .validate()
-        .map_err(lenz_err("system.coil"))?;
+        .map_err(lenz_err(file, "system.coil", None))?;
     let nominal = sensors(file, &Params::NOMINAL, false);
     let m = &c.monitor;
     let supply_v = lenz::Range::new(
@@ -485,7 +595,7 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
         s.supply.min.get() as f32,
         s.supply.max.get() as f32,
     )
-    .map_err(lenz_err("system.supply"))?;
+    .map_err(lenz_err(file, "system.supply", None))?;
     let pull_in_min_s = c.pull_in_min_time.get() as f32;
     ValveDriverConfig::new(&ValvePlan {
         coil: model,
@@ -507,18 +617,18 @@ pub fn coil_driver(file: &File, temp_c: f64) -> Result<ValveDriverConfig, RunSet
             rel_tol: m.rel_tol.get() as f32,
             open_min_estimate_a: m.open_min_estimate.get() as f32,
             open_max_a: m.open_max.get() as f32,
-            persistence: m.persistence.min(u16::MAX as u32) as u16,
-            stuck_samples: m.stuck_samples.min(u16::MAX as u32) as u16,
+            persistence: m.persistence,
+            stuck_samples: m.stuck_samples,
             stuck_min_change_a: m.stuck_min_change.get() as f32,
         },
         trip_threshold_a: c.trip_current.get() as f32,
     })
-    .map_err(|e| coil_plan_err(c, e))
+    .map_err(|e| coil_plan_err(file, c, e))
 }
 
 /// The coil driver's plan errors that name a derived quantity, in the file's keys; the others
 /// as the plan words them.
-fn coil_plan_err(c: &super::CoilController, e: lenz::Error) -> RunSetupError {
+fn coil_plan_err(file: &File, c: &super::CoilController, e: lenz::Error) -> RunSetupError {
     use crate::cmd::table::si;
     match e {
         // The hold estimator's continuous-conduction check: `value` is the smallest mean
@@ -529,7 +639,7 @@ fn coil_plan_err(c: &super::CoilController, e: lenz::Error) -> RunSetupError {
             min,
             max,
         } if max > 1.0 => RunSetupError(format!(
-            "controller.coil.hold_duty: {} does not keep the current flowing through every PWM \
+            "key `controller.coil.hold_duty`: {} does not keep the current flowing through every PWM \
              period with this clamp over the supply range (mean current {}, the PWM ripple \
              needs more than {}): raise the duty",
             c.hold_duty.get(),
@@ -542,21 +652,26 @@ fn coil_plan_err(c: &super::CoilController, e: lenz::Error) -> RunSetupError {
             min,
             ..
         } => RunSetupError(format!(
-            "controller.coil.monitor.abs_tol: {} is below what the PWM hold estimate's error \
+            "key `controller.coil.monitor.abs_tol`: {} is below what the PWM hold estimate's error \
              bound needs with rel_tol {}: at least {}",
             si(f64::from(value), "A"),
             c.monitor.rel_tol.get(),
             si(f64::from(min), "A")
         )),
-        other => lenz_err("controller.coil")(other),
+        other => lenz_err(file, "controller.coil", None)(other),
     }
 }
 
-fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetupError> {
+fn coil_plant(
+    file: &File,
+    p: &Params,
+    pt: &Point,
+    scenario: Option<usize>,
+) -> Result<CoilDrive, RunSetupError> {
     let s = &file.system;
     let (Some(coil), Some(clamp)) = (s.coil, s.clamp) else {
         return Err(RunSetupError(
-            "system: missing [system.coil] or [system.clamp]".into(),
+            "key `system`: missing [system.coil] or [system.clamp]".into(),
         ));
     };
     let l = coil.inductance.get() * p.inductance;
@@ -569,7 +684,7 @@ fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetup
         (None, None) => InductanceCurve::Linear { l_h: l },
         _ => {
             return Err(RunSetupError(
-                "system.coil: `knee_current` and `residual_inductance` go together".into(),
+                "key `system.coil`: `knee_current` and `residual_inductance` go together".into(),
             ));
         }
     };
@@ -582,7 +697,8 @@ fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetup
         (None, None) => None,
         _ => {
             return Err(RunSetupError(
-                "system.coil: `thermal_resistance` and `thermal_capacitance` go together".into(),
+                "key `system.coil`: `thermal_resistance` and `thermal_capacitance` go together"
+                    .into(),
             ));
         }
     };
@@ -603,7 +719,7 @@ fn coil_plant(file: &File, p: &Params, pt: &Point) -> Result<CoilDrive, RunSetup
         source_resistance_ohm: s.supply.source_resistance.get(),
         shunt_ohm: s.sense.shunt.get(),
     })
-    .map_err(lenz_err("system"))
+    .map_err(lenz_err(file, "system", scenario))
 }
 
 /// The plan-side boost stage of the file (nominal values).
@@ -621,7 +737,7 @@ pub fn boost_stage(file: &File, b: &BoostStage) -> Result<lenz::boost::BoostStag
         .with_min_off_time_s(b.min_off_time.get() as f32)
         .with_min_on_time_s(b.min_on_time.get() as f32)
         .validate()
-        .map_err(lenz_err("system.boost"))
+        .map_err(lenz_err(file, "system.boost", None))
 }
 
 /// The boost regulator's plan from the file's nominal values and the nominal sense chain.
@@ -645,7 +761,7 @@ pub fn boost_regulator(
                 c.input_min.get() as f32,
                 c.input_max.get() as f32,
             )
-            .map_err(lenz_err("controller.boost"))?,
+            .map_err(lenz_err(file, "controller.boost", None))?,
             output_v: b.output.get() as f32,
             max_load_current_a: c.max_load_current.get() as f32,
             light_load: match (c.light_load_current, c.light_load_max_output) {
@@ -670,7 +786,7 @@ pub fn boost_regulator(
         ki_per_v_tick: c.ki.get() as f32,
         bypass_limiter: false,
     })
-    .map_err(lenz_err("controller.boost"))
+    .map_err(lenz_err(file, "controller.boost", None))
 }
 
 /// The boost plant of a run.
@@ -698,7 +814,7 @@ pub fn boost_plant(
         input_v: supply_v,
         source_resistance_ohm: s.supply.source_resistance.get(),
     })
-    .map_err(lenz_err("system.boost"))
+    .map_err(lenz_err(file, "system.boost", None))
 }
 
 /// Runs scenario `index` of `file` with part values `p`.
@@ -718,11 +834,22 @@ pub fn run(
         .ok_or_else(|| RunSetupError(format!("no scenario number {index}")))?;
     let pt = point(file, sc, p);
     let cfg = loop_config(file, sc, p, &pt, record);
-    let loop_err = |e: closed_loop::RunError| RunSetupError(format!("scenario '{}': {e}", sc.name));
+    let loop_err = |e: closed_loop::RunError| match e {
+        closed_loop::RunError::Timing(param) => RunSetupError(format!(
+            "key `{}`: the timing of scenario '{}' is not consistent (a zero tick, PWM period \
+             or duration, or a sampling instant outside the tick)",
+            file_key(file, Some(index), param).unwrap_or_else(|| format!("scenario[{index}]")),
+            sc.name
+        )),
+        other => RunSetupError(format!("key `scenario[{index}]`: {other}")),
+    };
     match &file.controller {
         super::Controller::Coil(_) => {
-            let mut plant = coil_plant(file, p, &pt)?;
+            let mut plant = coil_plant(file, p, &pt, Some(index))?;
             plant.set_record_events(false);
+            // Memory must not grow with the PWM periods of a long run: the properties need
+            // only the worst switch-off.
+            plant.set_keep_switch_offs(false);
             let mut ctrl = ValveDriver::new(coil_driver(file, pt.temp_c)?)
                 .map_err(|e| RunSetupError(format!("controller.coil: {e}")))?;
             closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)
@@ -730,7 +857,7 @@ pub fn run(
         super::Controller::Boost(c) => {
             let Some(b) = &file.system.boost else {
                 return Err(RunSetupError(
-                    "system: a boost controller needs [system.boost]".into(),
+                    "key `system`: a boost controller needs [system.boost]".into(),
                 ));
             };
             let mut plant = boost_plant(file, b, p, pt.supply_v)?;
@@ -747,6 +874,32 @@ pub fn run(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_scenario_run_keeps_one_switch_off_and_the_same_worst_energies() {
+        let f = crate::scenario::parse("valve.toml", include_str!("../../scenarios/valve.toml"))
+            .expect("shipped file");
+        let p = Params::NOMINAL;
+        let bounded = run(&f, 0, &p, Record::None).expect("runs");
+        assert!(
+            bounded.switch_offs.len() <= 1,
+            "{}",
+            bounded.switch_offs.len()
+        );
+        // The same run, keeping every switch-off of the PWM hold.
+        let sc = &f.scenarios[0];
+        let pt = point(&f, sc, &p);
+        let cfg = loop_config(&f, sc, &p, &pt, Record::None);
+        let mut plant = coil_plant(&f, &p, &pt, None).expect("plant");
+        let mut ctrl = ValveDriver::new(coil_driver(&f, pt.temp_c).expect("driver")).expect("driver builds");
+        let all = closed_loop::run(&mut plant, &mut ctrl, &cfg).expect("runs");
+        assert!(all.switch_offs.len() > 100, "{}", all.switch_offs.len());
+        for name in ["clamp_energy_per_switch_off", "peak_switch_voltage"] {
+            let (a, b) = (all.property(name), bounded.property(name));
+            assert!(a.is_some(), "{name} is checked in the shipped scenario");
+            assert_eq!(a, b, "{name}");
+        }
+    }
 
     #[test]
     fn normal_cdf_and_inverse() {

@@ -478,10 +478,12 @@ pub struct Monitor {
     pub open_min_estimate: Pos<Ampere>,
     /// … and the measurement below this, A.
     pub open_max: Pos<Ampere>,
-    /// Checks in a row before a fault latches.
-    pub persistence: u32,
-    /// Samples without change before the sensor counts as stuck.
-    pub stuck_samples: u32,
+    /// Checks in a row before a fault latches (0 … 65 535).
+    #[serde(deserialize_with = "super::quantity::count_u16")]
+    pub persistence: u16,
+    /// Samples without change before the sensor counts as stuck (0 … 65 535).
+    #[serde(deserialize_with = "super::quantity::count_u16")]
+    pub stuck_samples: u16,
     /// … while the estimate moved by at least this, A.
     pub stuck_min_change: Pos<Ampere>,
 }
