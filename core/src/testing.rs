@@ -255,6 +255,31 @@ pub mod motor64 {
             }
         }
 
+        /// Speed at `t` after stepping to `v` from `(i0, w0)`: the same eigenvalue form with
+        /// the speed's final value and initial slope `(k·i0 − b·w0 − T)/J`.
+        pub fn speed(&self, v: f64, load: f64, i0: f64, w0: f64, t: f64) -> f64 {
+            let (_, w_f) = self.steady(v, load);
+            let e0 = w0 - w_f;
+            let d0 = (self.k * i0 - self.b * w0 - load) / self.j;
+            let tr = -self.r / self.l - self.b / self.j;
+            let det = (self.r * self.b + self.k * self.k) / (self.l * self.j);
+            let disc = tr * tr / 4.0 - det;
+            let sigma = tr / 2.0;
+            if disc.abs() <= 1e-14 * sigma * sigma {
+                return w_f + (sigma * t).exp() * (e0 + (d0 - sigma * e0) * t);
+            }
+            if disc > 0.0 {
+                let s = disc.sqrt();
+                let (l1, l2) = (sigma + s, sigma - s);
+                let c1 = (d0 - l2 * e0) / (l1 - l2);
+                w_f + c1 * (l1 * t).exp() + (e0 - c1) * (l2 * t).exp()
+            } else {
+                let w = (-disc).sqrt();
+                w_f + (sigma * t).exp()
+                    * (e0 * (w * t).cos() + (d0 - sigma * e0) / w * (w * t).sin())
+            }
+        }
+
         /// Slowest and fastest decay rates (1/s) of the system.
         pub fn rates(&self) -> (f64, f64) {
             let tr = self.r / self.l + self.b / self.j;

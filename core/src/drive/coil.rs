@@ -7,7 +7,8 @@ use embedded_hal::pwm::SetDutyCycle;
 
 use crate::kernel::q::{clamp_i64, mul_wide};
 use crate::kernel::{
-    Cause, EstimatorState, MonitorState, OffStatus, OffTimerState, TripEvent, TripState, Verdict,
+    Cause, EstimatorState, MonitorState, Motion, MovementState, OffStatus, OffTimerState,
+    TripEvent, TripState, Verdict,
 };
 
 use super::coil_config::{CoilDriverConfig, HoldMode, PullInSource};
@@ -36,7 +37,7 @@ pub struct CoilSense {
     pub supply_counts: u16,
 }
 
-/// The coil driver's per-channel state: the kernels' states and the driver's own (112 bytes;
+/// The coil driver's per-channel state: the kernels' states and the driver's own (128 bytes;
 /// see [`CoilDriver`] for the whole RAM per channel).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -55,6 +56,8 @@ pub struct CoilDriverState {
     phase: CoilPhase,
     fault: Option<CoilFault>,
     flags: u8,
+    /// The armature movement detector (idle when not configured).
+    motion: MovementState,
 }
 
 impl CoilDriverState {
@@ -74,6 +77,7 @@ impl CoilDriverState {
             phase: CoilPhase::Idle,
             fault: None,
             flags: RELEASED,
+            motion: MovementState::new(),
         }
     }
 }
@@ -128,10 +132,11 @@ impl Default for CoilDriverState {
 ///
 /// # Memory
 ///
-/// RAM per channel: the state ([`CoilDriverState`], 112 bytes), the output handle `S`, the
-/// configuration handle `C` (a reference: one pointer; or the configuration itself, 852 bytes,
+/// RAM per channel: the state ([`CoilDriverState`], 128 bytes, 16 of them the armature
+/// movement detector's), the output handle `S`, the
+/// configuration handle `C` (a reference: one pointer; or the configuration itself, 880 bytes,
 /// most of it the trip detector's table), and 10 bytes of PWM resolution and hold duty,
-/// padded to a multiple of 8 (128 bytes in all with a reference and a zero-sized output on a
+/// padded to a multiple of 8 (144 bytes in all with a reference and a zero-sized output on a
 /// 32-bit target).
 /// The configuration is best kept in flash and shared:
 /// `CoilDriver::new(&CONFIG, pwm)` with `static CONFIG: CoilDriverConfig =
@@ -283,8 +288,15 @@ where
         self.state.flags & RELEASED != 0
     }
 
+    /// What the armature movement detector said at its last update ([`Motion::Idle`] when it
+    /// is not configured): after a pull-in that ended on the seating, `Seated` with the tick of
+    /// the seating (counted from the first pull-in tick).
+    pub const fn motion(&self) -> Motion {
+        self.state.motion.motion()
+    }
+
     /// `true` if the last pull-in ended at its maximum time without reaching the pull-in
-    /// current.
+    /// current (or, with the movement detector, without the seating).
     pub const fn pull_in_timed_out(&self) -> bool {
         self.state.flags & PULL_IN_TIMED_OUT != 0
     }
@@ -389,6 +401,9 @@ where
                         st.phase = CoilPhase::PullIn;
                         st.pull_in_ticks = 0;
                         st.flags &= !PULL_IN_TIMED_OUT;
+                        if let Some(m) = cfg.movement() {
+                            m.start(&mut st.motion);
+                        }
                         target = max;
                     }
                 }
@@ -399,9 +414,28 @@ where
                         PullInSource::Estimate => Some(estimate),
                         PullInSource::Measured => measured,
                     };
-                    let reached = matches!(level, Some(i) if i >= cfg.pull_in_ua());
                     let timed_out = n >= cfg.pull_in_max_ticks();
-                    if (reached && n >= cfg.pull_in_min_ticks()) || timed_out {
+                    let (reached, done) = match cfg.movement() {
+                        None => {
+                            let reached = matches!(level, Some(i) if i >= cfg.pull_in_ua());
+                            (reached, reached && n >= cfg.pull_in_min_ticks())
+                        }
+                        Some(m) => {
+                            let i = cfg.monitor().scale().to_ua(sense.current_counts);
+                            match m.update(&mut st.motion, i) {
+                                Motion::Seated { .. } => (true, true),
+                                Motion::NoMotion => {
+                                    st.fault = Some(CoilFault::Stuck);
+                                    (false, false)
+                                }
+                                _ => (false, false),
+                            }
+                        }
+                    };
+                    if st.fault.is_some() {
+                        // Stuck: off at once, latched.
+                        target = 0;
+                    } else if done || timed_out {
                         if !reached {
                             st.flags |= PULL_IN_TIMED_OUT;
                         }

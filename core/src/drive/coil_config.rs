@@ -5,8 +5,9 @@ use crate::bounds::Range;
 use crate::coil::Coil;
 use crate::error::{Error, in_range, non_negative, positive};
 use crate::kernel::{
-    CURRENT_LIMIT_UA, EstimatorConfig, MonitorConfig, MonitorParams, MonitorRaw, SenseScale,
-    TrackingOffTimerConfig, TrackingOffTimerRaw, TripConfig, TripParams, TripRaw,
+    CURRENT_LIMIT_UA, EstimatorConfig, MonitorConfig, MonitorParams, MonitorRaw, MovementConfig,
+    MovementRaw, SenseScale, TrackingOffTimerConfig, TrackingOffTimerRaw, TripConfig, TripParams,
+    TripRaw,
 };
 use crate::turnoff::Clamp;
 
@@ -139,6 +140,9 @@ pub struct CoilDriverRaw {
     pub hold_kp_q32: i32,
     /// Integral gain of the regulation, Q32 duty per µA per tick.
     pub hold_ki_q32: i32,
+    /// The armature movement detector, if the pull-in ends on the seating
+    /// ([`CoilDriverConfig::with_movement`]).
+    pub movement: Option<MovementRaw>,
 }
 
 /// The coil driver's configuration (shared by channels with the same coil and settings; can
@@ -166,6 +170,7 @@ pub struct CoilDriverConfig {
     hold_current_ua: i32,
     hold_kp_q32: i32,
     hold_ki_q32: i32,
+    movement: Option<MovementConfig>,
 }
 
 fn ticks(param: &'static str, s: f32, tick: f32) -> Result<u32, Error> {
@@ -335,6 +340,7 @@ impl CoilDriverConfig {
             hold_current_ua,
             hold_kp_q32: kp,
             hold_ki_q32: ki,
+            movement: None,
         })
     }
 
@@ -357,6 +363,10 @@ impl CoilDriverConfig {
             hold_current_ua: raw.hold_current_ua,
             hold_kp_q32: raw.hold_kp_q32,
             hold_ki_q32: raw.hold_ki_q32,
+            movement: match raw.movement {
+                Some(m) => Some(MovementConfig::from_raw(m)),
+                None => None,
+            },
         }
     }
 
@@ -378,7 +388,90 @@ impl CoilDriverConfig {
             hold_current_ua: self.hold_current_ua,
             hold_kp_q32: self.hold_kp_q32,
             hold_ki_q32: self.hold_ki_q32,
+            movement: match &self.movement {
+                Some(m) => Some(m.raw()),
+                None => None,
+            },
         }
+    }
+
+    /// The same configuration with the armature movement detector: the pull-in then ends when
+    /// the detector reports the armature seated ([`Motion::Seated`](crate::kernel::Motion)),
+    /// with the maximum pull-in time as the fallback (switch to hold, flagged as timed out), and
+    /// [`Motion::NoMotion`](crate::kernel::Motion) at the detector's deadline latches
+    /// [`CoilFault::Stuck`](super::CoilFault::Stuck). The pull-in current, its source and the
+    /// minimum pull-in time are then not used. The detector needs full drive during the pull-in
+    /// (the driver gives it) and a dip deeper than its hysteresis (see [`MovementConfig`]);
+    /// plan its deadline below the maximum pull-in time, or the fallback comes first.
+    ///
+    /// Without it the driver behaves exactly as before.
+    ///
+    /// # Examples
+    ///
+    /// The demo valve (invented values) with a current trace that dips while the plunger
+    /// moves and rises again from its valley at the seating (tick 45 of the pull-in):
+    ///
+    /// ```
+    /// # use lenz::{CoilParams, Range, turnoff::Clamp};
+    /// # use lenz::kernel::{MonitorParams, Motion, MovementConfig, MovementParams, SenseScale, TripParams};
+    /// # use lenz::drive::{CoilDriver, CoilDriverConfig, CoilDriverParams, CoilPhase, CoilSense, Hold, PullInSource};
+    /// # struct Pwm(u16);
+    /// # impl embedded_hal::pwm::ErrorType for Pwm { type Error = core::convert::Infallible; }
+    /// # impl embedded_hal::pwm::SetDutyCycle for Pwm {
+    /// #     fn max_duty_cycle(&self) -> u16 { 1000 }
+    /// #     fn set_duty_cycle(&mut self, d: u16) -> Result<(), Self::Error> { self.0 = d; Ok(()) }
+    /// # }
+    /// # let amps_per_count = 0.5e-3;
+    /// # let params = CoilDriverParams {
+    /// #     coil: CoilParams::new(0.120, 32.0).validate()?, temp_c: 20.0, tick_s: 100e-6,
+    /// #     clamp: Clamp::Zener { zener_v: 24.0, forward_v: 0.7 },
+    /// #     supply_v: Range::new("supply_v", 21.6, 26.4)?, release_a: 0.075, pull_in_a: 0.45,
+    /// #     pull_in_source: PullInSource::Estimate, pull_in_min_s: 5e-3, pull_in_max_s: 50e-3,
+    /// #     hold: Hold::Duty { duty: 0.75 }, pwm_frequency_hz: 20e3,
+    /// #     current_sense: SenseScale::new(amps_per_count, 100.0, 10, 4085)?,
+    /// #     supply_v_per_count: 0.01, supply_zero_counts: 0.0,
+    /// #     monitor: MonitorParams {
+    /// #         abs_tol_a: 0.05, rel_tol: 0.2, open_min_estimate_a: 0.1, open_max_a: 0.01,
+    /// #         persistence: 5, stuck_samples: 1000, stuck_min_change_a: 0.05,
+    /// #     },
+    /// #     trip: TripParams {
+    /// #         sample_period_s: 100e-6, amps_per_count, instantaneous_counts: 3000,
+    /// #         full_scale_counts: 3995, blanking_s: 0.0, persistence_n: 1, persistence_m: 1,
+    /// #         stuck_samples: 0, inverse: None, thermal: None, retries: 0, retry_delay_s: 0.0,
+    /// #     },
+    /// # };
+    /// let detector = MovementConfig::new(&MovementParams {
+    ///     tick_s: 100e-6, hysteresis_a: 0.02, persistence: 3, min_peak_a: 0.2,
+    ///     min_release_a: 0.05, pull_in_deadline_s: 0.02, release_deadline_s: 0.04,
+    /// })?;
+    /// let cfg = CoilDriverConfig::new(&params)?.with_movement(detector);
+    /// let mut valve = CoilDriver::new(&cfg, Pwm(0)).map_err(|(e, _)| e).unwrap();
+    /// // Pull-in current at pull-in tick k, A: up to 0.36 A, down to 0.27 A at k = 45, up.
+    /// let dip = |k: i32| if k <= 30 { 0.012 * k as f32 } else if k <= 45 {
+    ///     0.36 - 0.006 * (k - 30) as f32 } else { 0.27 + 0.01 * (k - 45) as f32 };
+    /// let mut held_at = None;
+    /// for tick in 0..60 {
+    ///     let i = dip((tick - 1).max(0));
+    ///     let sense = CoilSense { current_counts: 100 + (i / amps_per_count) as u16, supply_counts: 2400 };
+    ///     if valve.update(true, sense).unwrap() == CoilPhase::Hold && held_at.is_none() {
+    ///         held_at = Some(tick);
+    ///     }
+    /// }
+    /// assert_eq!(valve.motion(), Motion::Seated { tick: 45 });
+    /// assert_eq!(held_at, Some(51)); // three samples above the valley decide
+    /// # Ok::<(), lenz::Error>(())
+    /// ```
+    #[must_use]
+    pub const fn with_movement(mut self, movement: MovementConfig) -> Self {
+        self.movement = Some(movement);
+        self
+    }
+
+    /// The armature movement detector, if configured.
+    #[inline]
+    #[must_use]
+    pub const fn movement(&self) -> Option<&MovementConfig> {
+        self.movement.as_ref()
     }
 
     /// The off-timer (with the coil's estimator).
@@ -490,14 +583,10 @@ impl CoilDriverConfig {
     #[inline]
     #[must_use]
     pub fn supply_mv(&self, counts: u16) -> i32 {
-        let d = counts as i32 - self.supply_zero_counts as i32;
-        let mv = crate::kernel::q::mul_wide(d, self.supply_mv_per_count_q16) >> 16;
-        if mv < 0 {
-            0
-        } else if mv > i32::MAX as i64 {
-            i32::MAX
-        } else {
-            mv as i32
-        }
+        super::supply::supply_mv(
+            counts,
+            self.supply_zero_counts,
+            self.supply_mv_per_count_q16,
+        )
     }
 }

@@ -34,4 +34,8 @@ pub enum CoilFault {
     Plausibility(Fault),
     /// The switch output reported an error (the driver tried to switch off).
     Output,
+    /// The armature movement detector saw no seating by its deadline
+    /// ([`Motion::NoMotion`](crate::kernel::Motion::NoMotion)): a stuck (or already closed, or
+    /// too slow) armature. Only with the detector configured.
+    Stuck,
 }

@@ -214,6 +214,18 @@ impl BridgeGuardState {
     pub const fn mode(&self) -> BridgeMode {
         BridgeMode::from_code(self.mode)
     }
+
+    /// A tick in which the bridge coasts whatever the guard would command (a driver latched
+    /// off by a fault): the state records the coast, so the dead time counts from its start
+    /// and the next driven mode starts from duty zero.
+    pub fn coast_tick(&mut self) {
+        if self.mode != BridgeMode::Coast.code() {
+            self.mode = BridgeMode::Coast.code();
+            self.off_ticks = 0;
+        }
+        self.duty_q16 = 0;
+        self.off_ticks = self.off_ticks.saturating_add(1);
+    }
 }
 
 impl BridgeGuardConfig {

@@ -4,6 +4,10 @@
 mod boost;
 mod faults;
 mod hold_accuracy;
+mod motor_physics;
+mod motor_support;
+mod motor_transactions;
+mod movement;
 mod props;
 mod support;
 mod transactions;

@@ -10,24 +10,34 @@ use proptest::prelude::*;
 use super::support::*;
 use crate::drive::{
     BoostLoopConfig, BoostLoopState, CoilDriver, CoilDriverConfig, CoilDriverRaw, CoilDriverState,
-    CoilPhase, CoilSense, HoldEstimatorRaw, HoldMode, PullInSource,
+    CoilPhase, CoilSense, HoldEstimatorRaw, HoldMode, MotorDriver, MotorDriverConfig,
+    MotorDriverState, PullInSource,
 };
 use crate::kernel::CURRENT_LIMIT_UA;
 
 /// The sizes the docs state (`drive` module docs, [`CoilDriver`], [`BoostLoop`]).
 #[test]
 fn ram_per_channel() {
-    assert_eq!(size_of::<CoilDriverState>(), 112);
+    assert_eq!(size_of::<CoilDriverState>(), 128);
     assert_eq!(size_of::<BoostLoopState>(), 24);
-    assert_eq!(size_of::<CoilDriverConfig>(), 852);
+    assert_eq!(size_of::<CoilDriverConfig>(), 880);
     assert_eq!(size_of::<BoostLoopConfig>(), 424);
     // A driver with a zero-sized output and a borrowed configuration: the state, the
     // reference and 10 bytes of resolution and hold duty, padded to the state's 8-byte
-    // alignment (128 bytes on a 32-bit target, 136 on a 64-bit host).
+    // alignment (144 bytes on a 32-bit target, 152 on a 64-bit host).
     struct Nothing;
     assert_eq!(
         size_of::<CoilDriver<&CoilDriverConfig, Nothing>>(),
-        (112 + size_of::<usize>() + 10).next_multiple_of(8)
+        (128 + size_of::<usize>() + 10).next_multiple_of(8)
+    );
+    // The bridge motor driver: its state, the configuration, and a driver with zero-sized
+    // outputs and a borrowed configuration (state, reference and the 8-byte PWM resolution,
+    // 4-byte aligned: 68 bytes on a 32-bit target, 72 on a 64-bit host).
+    assert_eq!(size_of::<MotorDriverState>(), 56);
+    assert_eq!(size_of::<MotorDriverConfig>(), 84);
+    assert_eq!(
+        size_of::<MotorDriver<&MotorDriverConfig, Nothing, Nothing, Nothing>>(),
+        56 + size_of::<usize>() + 8
     );
 }
 
@@ -118,6 +128,7 @@ proptest! {
             hold_current_ua: i_hold,
             hold_kp_q32: kp,
             hold_ki_q32: ki,
+            movement: None,
             ..base
         });
         // A resolution the plan cannot use is refused; any other runs.
