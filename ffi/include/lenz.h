@@ -24,13 +24,13 @@
 #define LENZ_BRIDGE_GUARD_STATE_WORDS 2
 
 // Words of `LenzCoilDriverConfig`.
-#define LENZ_COIL_DRIVER_CONFIG_WORDS 213
+#define LENZ_COIL_DRIVER_CONFIG_WORDS 220
 
 // Words of `LenzCoilDriver` (its own copy of the configuration and its state).
-#define LENZ_COIL_DRIVER_WORDS 246
+#define LENZ_COIL_DRIVER_WORDS 256
 
 // `LenzCoilDriver` in 8-byte units (the driver holds 64-bit values: 8-byte alignment).
-#define LENZ_COIL_DRIVER_DWORDS 123
+#define LENZ_COIL_DRIVER_DWORDS 128
 
 // Words of `LenzDutyLimiterConfig`.
 #define LENZ_DUTY_LIMITER_CONFIG_WORDS 103
@@ -178,6 +178,9 @@ enum LenzCoilFault
   LENZ_COIL_FAULT_PLAUSIBILITY = 2,
   // The switch output reported an error (not possible through this API).
   LENZ_COIL_FAULT_OUTPUT = 3,
+  // The armature did not move by the movement detector's deadline (not possible through
+  // this API, which plans no movement detector).
+  LENZ_COIL_FAULT_STUCK = 4,
 };
 #ifndef __cplusplus
 #if __STDC_VERSION__ >= 202311L
@@ -1550,8 +1553,8 @@ LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopConfig) == 424, lenz_size_of_LenzBoostLoo
 LENZ_STATIC_ASSERT(sizeof(LenzBoostLoopState) == 24, lenz_size_of_LenzBoostLoopState);
 LENZ_STATIC_ASSERT(sizeof(LenzHoldEstimatorRaw) == 20, lenz_size_of_LenzHoldEstimatorRaw);
 LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverRaw) == 824, lenz_size_of_LenzCoilDriverRaw);
-LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverConfig) == 852, lenz_size_of_LenzCoilDriverConfig);
-LENZ_STATIC_ASSERT(sizeof(LenzCoilDriver) == 984, lenz_size_of_LenzCoilDriver);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverConfig) == 880, lenz_size_of_LenzCoilDriverConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzCoilDriver) == 1024, lenz_size_of_LenzCoilDriver);
 LENZ_STATIC_ASSERT(sizeof(LenzCoilPhase) == 1, lenz_size_of_LenzCoilPhase);
 LENZ_STATIC_ASSERT(sizeof(LenzCoilFault) == 1, lenz_size_of_LenzCoilFault);
 LENZ_STATIC_ASSERT(sizeof(LenzCoilDriverOutput) == 12, lenz_size_of_LenzCoilDriverOutput);

@@ -20,11 +20,11 @@ use crate::opaque::{Out, get, inner, inner_mut, opaque};
 use crate::trip::{LenzCause, LenzTripRaw};
 
 /// Words of `LenzCoilDriverConfig`.
-pub const LENZ_COIL_DRIVER_CONFIG_WORDS: usize = 213;
+pub const LENZ_COIL_DRIVER_CONFIG_WORDS: usize = 220;
 /// Words of `LenzCoilDriver` (its own copy of the configuration and its state).
-pub const LENZ_COIL_DRIVER_WORDS: usize = 246;
+pub const LENZ_COIL_DRIVER_WORDS: usize = 256;
 /// `LenzCoilDriver` in 8-byte units (the driver holds 64-bit values: 8-byte alignment).
-pub const LENZ_COIL_DRIVER_DWORDS: usize = 123;
+pub const LENZ_COIL_DRIVER_DWORDS: usize = 128;
 const _: () = assert!(2 * LENZ_COIL_DRIVER_DWORDS == LENZ_COIL_DRIVER_WORDS);
 
 /// The raw values of the hold estimator (Rust: `lenz::drive::HoldEstimatorRaw`).
@@ -153,6 +153,9 @@ pub enum LenzCoilFault {
     Plausibility = 2,
     /// The switch output reported an error (not possible through this API).
     Output = 3,
+    /// The armature did not move by the movement detector's deadline (not possible through
+    /// this API, which plans no movement detector).
+    Stuck = 4,
 }
 
 /// What a tick of the driver gives back.
@@ -208,6 +211,9 @@ impl From<LenzCoilDriverRaw> for CoilDriverRaw {
             hold_current_ua: c.hold_current_ua,
             hold_kp_q32: c.hold_kp_q32,
             hold_ki_q32: c.hold_ki_q32,
+            // The C API plans no armature movement detector (the driver keeps its timed
+            // pull-in).
+            movement: None,
         }
     }
 }
@@ -247,6 +253,7 @@ fn output(d: &CoilDriver<CoilDriverConfig, DutyOut>) -> LenzCoilDriverOutput {
             (LenzCoilFault::Plausibility, LenzCause::None, Some(f).into())
         }
         Some(CoilFault::Output) => (LenzCoilFault::Output, LenzCause::None, LenzFault::None),
+        Some(CoilFault::Stuck) => (LenzCoilFault::Stuck, LenzCause::None, LenzFault::None),
     };
     LenzCoilDriverOutput {
         duty: d.output().duty,

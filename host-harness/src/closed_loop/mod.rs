@@ -168,6 +168,8 @@ pub enum TripCause {
     StuckSensor,
     /// The switch output reported an error (the driver switched off as far as it could).
     OutputError,
+    /// The armature did not move by the movement detector's deadline.
+    StuckArmature,
     /// Another cause of the controller's own.
     Other,
 }
@@ -192,6 +194,7 @@ impl std::fmt::Display for TripCause {
             TripCause::Plausibility(k) => write!(f, "plausibility fault ({k:?})"),
             TripCause::StuckSensor => f.write_str("stuck current sensor"),
             TripCause::OutputError => f.write_str("output error"),
+            TripCause::StuckArmature => f.write_str("stuck armature"),
             TripCause::Other => f.write_str("controller's own cause"),
         }
     }

@@ -93,6 +93,7 @@ where
                 Some(lenz::drive::CoilFault::Trip(c)) => Some(TripCause::from(c)),
                 Some(lenz::drive::CoilFault::Plausibility(k)) => Some(TripCause::Plausibility(k)),
                 Some(lenz::drive::CoilFault::Output) => Some(TripCause::OutputError),
+                Some(lenz::drive::CoilFault::Stuck) => Some(TripCause::StuckArmature),
                 None => self.last_trip.map(|e| TripCause::from(e.cause)),
             },
         }
