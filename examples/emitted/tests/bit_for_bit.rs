@@ -47,7 +47,10 @@ fn boost_constants_are_the_init_plan() {
     use emitted::boost as e;
     let s = system("boost.toml");
     let fw = inputs(&s);
-    let dl = fw.boost.and_then(|b| b.duty_limiter).expect("a duty limiter");
+    let dl = fw
+        .boost
+        .and_then(|b| b.duty_limiter)
+        .expect("a duty limiter");
     assert_eq!(e::EMITTED_DUTY_LIMITER.raw(), dl.raw());
     assert_eq!(e::EMITTED_DUTY_LIMITER, dl);
     let f = s.description();
