@@ -92,3 +92,62 @@ fn value(s: &mut String, v: &Value, depth: usize, name: &str) -> Result<(), Setu
     }
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::super::value::{i, u};
+    use super::super::{Constant, Emitted, Struct};
+    use super::*;
+
+    fn emitted(value: Value) -> Emitted {
+        Emitted {
+            file: "t.toml".into(),
+            system: "t".into(),
+            temp_c: 20.0,
+            invented: false,
+            constants: vec![Constant {
+                name: "EMITTED_T".into(),
+                rust_config: "T",
+                value,
+                from: vec!["a comment with */ inside".into()],
+            }],
+        }
+    }
+
+    #[test]
+    fn extremes_are_c_literals_of_their_types() {
+        let v = Value::Struct(
+            Struct::new("T", "LenzT")
+                .f("a", i(i32::MIN))
+                .f("b", u(u32::MAX))
+                .f("c", i(-5)),
+        );
+        let h = render(&emitted(v), "T_H").unwrap_or_else(|e| panic!("{e}"));
+        assert!(h.contains(".a = (-2147483647 - 1),"), "{h}");
+        assert!(h.contains(".b = 4294967295u,"), "{h}");
+        assert!(h.contains(".c = -5,"), "{h}");
+        // A comment cannot end early.
+        assert!(h.contains("with * / inside"), "{h}");
+    }
+
+    #[test]
+    fn a_field_the_c_api_lacks_is_an_error_when_set() {
+        let set = Value::Struct(Struct::new("T", "LenzT").f2(
+            Some("movement"),
+            None,
+            Value::Optional(Some(Box::new(i(1)))),
+        ));
+        let e = render(&emitted(set), "T_H").expect_err("no such C field");
+        assert!(
+            e.0.contains("EMITTED_T") && e.0.contains("--lang rust"),
+            "{e}"
+        );
+        let unset = Value::Struct(Struct::new("T", "LenzT").f2(
+            Some("movement"),
+            None,
+            Value::Optional(None),
+        ));
+        let h = render(&emitted(unset), "T_H").unwrap_or_else(|e| panic!("{e}"));
+        assert!(!h.contains("movement"), "{h}");
+    }
+}
