@@ -82,7 +82,7 @@ fn coil_figures() -> Result<Vec<Figure>, CliError> {
             continue;
         }
         let rep = crate::system::plan::plan(&f)
-            .map_err(|e| CliError(crate::scenario::locate_problem(&name, &e.0).to_string()))?;
+            .map_err(|e| CliError(crate::scenario::locate_problem(name, &e.0).to_string()))?;
         for wanted in COIL_FIGURES {
             let fig = rep
                 .figures
