@@ -280,3 +280,35 @@ fn bad_input_is_exit_2_naming_it() {
     assert!(line.contains("bad.toml:14:8"), "{line}");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn the_relay_header_compiles_and_holds_the_planned_trip() {
+    let dir = scratch("relay");
+    let got = c_values(
+        "relay.toml",
+        "lenz_relay.h",
+        &dir,
+        r#"    printf("trip.instantaneous_counts %u\n", (unsigned)EMITTED_COIL_DRIVER.trip.instantaneous_counts);
+    printf("off_timer.threshold_ua %d\n", (int)EMITTED_COIL_DRIVER.off_timer.threshold_ua);"#,
+    );
+    let s = System::from_file(scenario_path("relay.toml")).unwrap_or_else(|e| panic!("{e}"));
+    let c = s
+        .firmware_inputs()
+        .unwrap_or_else(|e| panic!("{e}"))
+        .coil
+        .expect("a coil drive");
+    assert_values(
+        &got,
+        &[
+            (
+                "trip.instantaneous_counts",
+                c.trip.raw().instantaneous_counts.into(),
+            ),
+            (
+                "off_timer.threshold_ua",
+                c.off_timer.expect("tracked").raw().threshold_ua.into(),
+            ),
+        ],
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
