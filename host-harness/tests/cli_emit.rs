@@ -278,6 +278,25 @@ fn bad_input_is_exit_2_naming_it() {
         "system.tick",
     );
     assert!(line.contains("bad.toml:14:8"), "{line}");
+    // A boost stage without its controller plans no firmware kernel: nothing to emit is not
+    // a success.
+    let boost = std::fs::read_to_string(scenario_path("boost.toml")).expect("read");
+    let mut kept = Vec::new();
+    let mut skip = false;
+    for l in boost.lines() {
+        if l.starts_with('[') {
+            skip = l.trim() == "[controller.boost]";
+        }
+        if !skip {
+            kept.push(l);
+        }
+    }
+    let bare = dir.join("bare-boost.toml");
+    std::fs::write(&bare, kept.join("\n")).expect("write");
+    assert_exit2(
+        &["emit", bare.to_str().expect("utf-8"), "--lang", "c"],
+        "nothing to emit",
+    );
     let _ = std::fs::remove_dir_all(&dir);
 }
 
