@@ -62,6 +62,9 @@ enum Command {
     /// Boost stage: mode, duty, inductor currents, output ripple and duty limits with reasons.
     #[command(after_help = RANGES_HELP)]
     Boost(cmd::boost::Args),
+    /// The firmware's kernel configurations of a scenario file as Rust or C constants, for
+    /// chips without an FPU.
+    Emit(cmd::emit::Args),
     /// Cost per kernel call on Cortex-M0/M3/M4F under emulation, beside the f32/libm version.
     Cost(cmd::cost::Args),
 }
@@ -158,6 +161,7 @@ where
         Command::TripThreshold(a) => cmd::trip::run_threshold(&a),
         Command::Boost(a) => cmd::boost::run(&a),
         Command::Cost(a) => cmd::cost::run(&a),
+        Command::Emit(a) => cmd::emit::run(&a),
     };
     finish(result)
 }

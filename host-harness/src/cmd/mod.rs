@@ -5,6 +5,7 @@ pub mod coil;
 pub mod common;
 pub mod cost;
 pub mod demo;
+pub mod emit;
 pub mod motor;
 pub mod outputs;
 pub mod plan;

@@ -19,6 +19,7 @@
 
 pub mod clamp;
 pub mod coil;
+pub mod emit;
 mod error;
 pub mod firmware;
 pub mod plan;
