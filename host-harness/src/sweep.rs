@@ -292,6 +292,27 @@ fn sweep_with(
     keep_records: bool,
     tick: &(dyn Fn() + Sync),
 ) -> Result<Output, RunSetupError> {
+    sweep_runs(plan, keep_records, tick, &run_one)
+}
+
+/// One run of a sweep: every scenario of `file` with the part values of run `index` of `seed`,
+/// with whatever controller the caller builds ([`run_one`] for the file's built-in example).
+pub type RunFn<'a> =
+    dyn Fn(&File, u64, u64) -> Result<(Params, Vec<RunResult>), RunSetupError> + Sync + 'a;
+
+/// The sweep loop itself, for any controller: `run` makes one run; the runs are folded into
+/// the summary in index order, one batch at a time (the same code for the built-in examples and
+/// for a user's controller through [`crate::System::sweep`]).
+///
+/// # Errors
+///
+/// `run`'s error, or the thread pool cannot start.
+pub fn sweep_runs(
+    plan: &Plan<'_>,
+    keep_records: bool,
+    tick: &(dyn Fn() + Sync),
+    run: &RunFn<'_>,
+) -> Result<Output, RunSetupError> {
     let range = plan.shard.map_or(0..plan.runs, |s| s.range(plan.runs));
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(plan.jobs.max(1))
@@ -307,7 +328,7 @@ fn sweep_with(
             (start..end)
                 .into_par_iter()
                 .map(|index| {
-                    let r = run_one(plan.file, plan.seed, index).map(|(params, res)| {
+                    let r = run(plan.file, plan.seed, index).map(|(params, res)| {
                         let props = || res.iter().flat_map(|r| r.properties.iter());
                         let record = RunRecord {
                             index,

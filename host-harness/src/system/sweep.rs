@@ -1,12 +1,11 @@
 //! A sweep with any controller: the runs of [`crate::sweep`] (same draws, shards, summary and
 //! replay commands), each run's scenarios built by the caller's controller factory.
 
-use rayon::prelude::*;
-
 use super::{FirmwareInputs, SetupError, SweepReport, System, run};
 use crate::closed_loop::Controller;
+use crate::scenario::File;
 use crate::scenario::run::{Params, Record};
-use crate::sweep::{Key, RunRecord, Shard, summarise};
+use crate::sweep::{Plan, Shard};
 
 /// Runs, seed, threads and shard of a sweep.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -60,43 +59,6 @@ impl SweepOptions {
     }
 }
 
-/// One run's property values, waveforms dropped: memory stays bounded by runs × properties.
-fn one_run<C: Controller>(
-    sys: &System,
-    seed: u64,
-    index: u64,
-    make: &(impl Fn(&FirmwareInputs) -> C + Sync),
-) -> Result<(RunRecord, Vec<Key>), SetupError> {
-    let file = sys.description();
-    let params = Params::draw(file, seed, index);
-    let mut keys = Vec::new();
-    let mut values = Vec::new();
-    let mut pass = Vec::new();
-    for (k, sc) in file.scenarios.iter().enumerate() {
-        let r = run::run_fallible(file, k, &params, Record::None, |fw| Ok(make(fw)))?;
-        for p in &r.properties {
-            keys.push(Key {
-                scenario: sc.name.clone(),
-                property: p.name.to_string(),
-                unit: p.unit.to_string(),
-                limit: p.limit,
-                bound: p.bound,
-            });
-            values.push(Some(p.value).filter(|v| v.is_finite()));
-            pass.push(p.pass);
-        }
-    }
-    Ok((
-        RunRecord {
-            index,
-            params,
-            values,
-            pass,
-        },
-        keys,
-    ))
-}
-
 pub(super) fn sweep<C: Controller>(
     sys: &System,
     opts: &SweepOptions,
@@ -105,32 +67,29 @@ pub(super) fn sweep<C: Controller>(
     if opts.runs == 0 {
         return Err(SetupError::new("sweep: runs must be at least 1"));
     }
-    let range = opts.shard.map_or(0..opts.runs, |s| s.range(opts.runs));
-    let mut pool = rayon::ThreadPoolBuilder::new();
-    if opts.jobs > 0 {
-        pool = pool.num_threads(opts.jobs);
-    }
-    let pool = pool
-        .build()
-        .map_err(|e| SetupError::new(format!("sweep: cannot start the threads: {e}")))?;
-    let runs = pool.install(|| {
-        range
-            .into_par_iter()
-            .map(|i| one_run(sys, opts.seed, i, &make))
-            .collect::<Result<Vec<_>, _>>()
-    })?;
-    let keys = runs.first().map(|r| r.1.clone()).unwrap_or_default();
-    let records = runs.into_iter().map(|r| r.0).collect();
-    let mut output = summarise(
-        sys.name(),
-        &sys.text_hash,
-        &sys.description().system.name,
-        opts.seed,
-        opts.runs,
-        opts.shard,
-        keys,
-        records,
-    );
+    let jobs = if opts.jobs > 0 {
+        opts.jobs
+    } else {
+        std::thread::available_parallelism().map_or(1, std::num::NonZero::get)
+    };
+    let plan = Plan {
+        file_name: sys.name(),
+        file_hash: &sys.text_hash,
+        file: sys.description(),
+        seed: opts.seed,
+        runs: opts.runs,
+        shard: opts.shard,
+        jobs,
+    };
+    // The same loop as `lenz sweep` (crate::sweep), with the user's controller in each run.
+    let run = |file: &File, seed: u64, index: u64| {
+        let params = Params::draw(file, seed, index);
+        let results = (0..file.scenarios.len())
+            .map(|k| run::run_fallible(file, k, &params, Record::None, |fw| Ok(make(fw))))
+            .collect::<Result<Vec<_>, _>>()?;
+        Ok((params, results))
+    };
+    let mut output = crate::sweep::sweep_runs(&plan, true, &|| {}, &run)?;
     // The built-in command cannot rebuild a user's controller: name the library call.
     for s in &mut output.summary {
         if let Some(w) = &mut s.worst {
