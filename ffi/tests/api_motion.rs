@@ -11,7 +11,6 @@
 )]
 
 use std::convert::Infallible;
-use std::mem::MaybeUninit;
 use std::ptr;
 
 use embedded_hal::pwm::{ErrorType, SetDutyCycle};
@@ -22,25 +21,9 @@ use lenz::kernel::{
 };
 use lenz_ffi::*;
 use proptest::prelude::*;
-use proptest::test_runner::{Config as ProptestConfig, RngSeed};
 
-fn config(seed: u64, cases: u32) -> ProptestConfig {
-    ProptestConfig {
-        cases,
-        rng_seed: RngSeed::Fixed(seed),
-        failure_persistence: None,
-        ..ProptestConfig::default()
-    }
-}
-
-#[track_caller]
-fn ok(s: LenzStatus) {
-    assert_eq!(s, LenzStatus::Ok);
-}
-
-fn storage<T>() -> MaybeUninit<T> {
-    MaybeUninit::uninit()
-}
+mod common;
+use common::{config, duty_raw, ok, storage};
 
 fn movement_raw() -> impl Strategy<Value = LenzMovementRaw> {
     (
@@ -269,37 +252,6 @@ proptest! {
     }
 }
 
-fn duty_raw() -> impl Strategy<Value = LenzDutyLimiterRaw> {
-    (
-        (any::<u16>(), any::<u16>(), 0u8..20),
-        prop::array::uniform32(any::<i32>()),
-        prop::array::uniform32(any::<i32>()),
-        prop::array::uniform32(any::<i32>()),
-        (any::<i32>(), any::<u16>(), 1u16..=4095, any::<i32>()),
-        (any::<u16>(), any::<u16>(), any::<u16>(), any::<u16>()),
-    )
-        .prop_map(
-            |((a, b, shift), sat, peak, light, (off, on, fs, slew), (vlo, vhi, ov, res))| {
-                LenzDutyLimiterRaw {
-                    vin_lo_counts: a.min(b),
-                    vin_hi_counts: a.max(b),
-                    shift,
-                    saturation_q8: sat,
-                    gain_peak_q8: peak,
-                    light_load_q8: light,
-                    min_off_q8: off,
-                    min_on_counts: on,
-                    full_scale: fs,
-                    slew_q8: slew,
-                    vout_lo_counts: vlo.min(vhi),
-                    vout_hi_counts: vlo.max(vhi),
-                    ov_trip_counts: ov,
-                    ov_resume_counts: res,
-                }
-            },
-        )
-}
-
 proptest! {
     #![proptest_config(config(0x6c65_6e7a_ff12, 96))]
 
@@ -307,7 +259,7 @@ proptest! {
     /// limiter's resolution.
     #[test]
     fn boost_loop_through_c_equals_rust(
-        limiter in duty_raw(),
+        limiter in duty_raw(1u16..=4095),
         gains in (any::<u16>(), any::<i32>(), any::<i32>()),
         steps in prop::collection::vec((prop::bool::weighted(0.9), any::<u16>(), any::<u16>()), 1..64),
     ) {
