@@ -9,9 +9,15 @@
 //!   seen at the edges where they occur). A run that never pulled in holds nothing: 0 A.
 //! - **Coil temperature**: the winding's highest temperature (the plant's thermal model; a coil
 //!   without one stays at its starting temperature).
-//! - **Coil power**: the winding's copper loss integrated by the plant over every hold (pull-in
-//!   reached, demand on), divided by the time held: the mean electrical power the winding
-//!   turns into heat while held.
+//! - **Coil power**: the winding's copper loss integrated by the plant over every hold phase,
+//!   divided by the time held: the mean electrical power the winding turns into heat while
+//!   held. A hold phase belongs to one on period (demand on) that has pulled in; it opens at
+//!   the start of the first control tick after the pull-in whose actuation is not full on
+//!   (PWM below duty 1, or off, while the demand is still on): the moment the controller drops
+//!   from its pull-in drive to its hold drive. It closes with the on period (demand off, or
+//!   the run's end). A controller that stays full on for the whole on period after the
+//!   pull-in holds at full drive: its hold phase is the on period from the pull-in on. A run
+//!   with no hold phase has no coil power (the property then fails as infinite).
 
 use super::{Plant, PullIn};
 
@@ -27,7 +33,11 @@ pub(super) struct CoilWatch {
     pull_in_worst: f64,
     /// Lowest current while held, A.
     hold_min: Option<f64>,
-    /// Start of the present hold: time, s, and winding loss so far, J.
+    /// Pull-in of the present on period: time, s, and winding loss so far, J (where its hold
+    /// phase starts if the drive never leaves full on).
+    pulled_in_at: Option<(f64, f64)>,
+    /// Start of the present hold drive (the first actuation after the pull-in that is not
+    /// full on): time, s, and winding loss so far, J.
     hold_from: Option<(f64, f64)>,
     /// Time held and winding loss while held, s and J.
     held: (f64, f64),
@@ -66,10 +76,22 @@ impl CoilWatch {
         if self.on_from.take().is_some() && !self.pulled_in {
             self.pull_in_worst = f64::INFINITY;
         }
-        if let (Some((t0, j0)), Some(j1)) = (self.hold_from.take(), plant.winding_loss_j()) {
+        let from = self.hold_from.take().or(self.pulled_in_at);
+        self.pulled_in_at = None;
+        if let (Some((t0, j0)), Some(j1)) = (from, plant.winding_loss_j()) {
             self.held.0 += t_s - t0;
             self.held.1 += j1 - j0;
         }
+    }
+
+    /// The controller's actuation for the tick starting at `t_s` (the plant is at `t_s`):
+    /// `full_on` when it drives the switch on for the whole tick. The first one after the
+    /// pull-in that is not full on opens the hold phase.
+    pub(super) fn actuation<P: Plant>(&mut self, plant: &P, t_s: f64, full_on: bool) {
+        if full_on || !self.pulled_in || self.on_from.is_none() || self.hold_from.is_some() {
+            return;
+        }
+        self.hold_from = plant.winding_loss_j().map(|j| (t_s, j));
     }
 
     /// The plant has advanced to `t_s`.
@@ -83,7 +105,7 @@ impl CoilWatch {
         if !self.pulled_in && i >= pi.current_a {
             self.pulled_in = true;
             self.pull_in_worst = self.pull_in_worst.max(t_s - from);
-            self.hold_from = plant.winding_loss_j().map(|j| (t_s, j));
+            self.pulled_in_at = plant.winding_loss_j().map(|j| (t_s, j));
         }
         if self.pulled_in {
             self.hold_min = Some(self.hold_min.map_or(i, |m| m.min(i)));

@@ -763,6 +763,12 @@ pub fn run<P: Plant, C: Controller>(
         };
         let act = ctrl.tick(&sensed);
         let telemetry = ctrl.telemetry();
+        let full_on = match act.drive {
+            Drive::On => true,
+            Drive::Off => false,
+            Drive::Pwm { duty } => duty >= 1.0,
+        };
+        watch.actuation(plant, t0_s, full_on);
         if act.direction != direction {
             direction = act.direction;
             events.push(RunEvent {
