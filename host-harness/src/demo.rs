@@ -8,7 +8,12 @@
 //! - the moving parts of both ([`armature`]): the valve plunger and the relay armature.
 //!
 //! The worst-case plans of the two coils come from the shipped scenario files
-//! (`scenarios/valve.toml`, `scenarios/relay.toml`), which describe the whole loop.
+//! (`scenarios/valve.toml`, `scenarios/relay.toml`), which describe the whole loop; their
+//! figures with bounds and corners are [`coil_figures`].
+
+mod coil_table;
+
+pub use coil_table::{COIL_FIGURES, CoilFigure, FigureBound, SCENARIO_FILES, coil_figures};
 
 /// Valve inductance, H (invented).
 pub const VALVE_INDUCTANCE_H: f64 = 0.120;

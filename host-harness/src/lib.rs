@@ -126,8 +126,13 @@
 //!
 //! # The rest of the crate
 //!
-//! The `lenz` binary's commands (quick calculations, plans, the demo) live in [`cli`]; values
-//! with SI prefixes are read by [`si`]. The system layer is [`system`], the plant simulator
+//! The `lenz` binary's commands (quick calculations, plans, the demo) live in [`cli`]; they
+//! parse, call the library and print. Values with SI prefixes are read and written by [`si`];
+//! the quick calculations over ranges are bounded by [`worst`]; bad input is an
+//! [`InputError`]. The reports of runs ([`report`]: [`RunReport`], [`SweepReport`], the
+//! per-scenario [`Outcome`], JUnit, CSV, SVG, HTML) are written through a [`report::Sink`]
+//! into output folders staged by [`outputs`]; several files' scenarios run as one batch in
+//! [`system::batch`]. The system layer is [`system`], the plant simulator
 //! [`plant`], the closed loop that runs firmware against it [`closed_loop`] (faults in
 //! [`faults`]), and example firmware built from the kernels is in [`controllers`]: the
 //! `lenz::drive` drivers on the simulated embedded-hal outputs of [`sim_pins`].
@@ -142,6 +147,8 @@ pub mod controllers;
 pub mod demo;
 pub mod faults;
 pub mod firmware;
+pub mod input_error;
+pub mod outputs;
 pub mod pil;
 pub mod plant;
 pub mod range_arg;
@@ -151,5 +158,8 @@ pub mod si;
 pub mod sim_pins;
 pub mod sweep;
 pub mod system;
+pub mod worst;
 
+pub use input_error::InputError;
+pub use report::Outcome;
 pub use system::{FirmwareInputs, RunReport, SweepOptions, SweepReport, System};

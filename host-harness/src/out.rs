@@ -1,6 +1,6 @@
 //! Standard output of the `lenz` commands.
 //!
-//! A command writes its text with [`outln!`] into a buffer of its own thread; [`crate::cli::run`]
+//! A command writes its text with [`outln!`] into a buffer of its own thread; the binary's `run`
 //! writes that buffer to stdout once, after the command has finished, and only when it
 //! succeeded. So:
 //!

@@ -13,7 +13,7 @@ use std::fs;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
-use crate::cli::CliError;
+use crate::input_error::InputError;
 
 /// One output folder being written.
 #[derive(Debug)]
@@ -28,17 +28,17 @@ pub struct Staged {
     committed: bool,
 }
 
-fn err(flag: &str, what: &str, p: &Path, e: &std::io::Error) -> CliError {
-    CliError(format!("{flag} {}: cannot {what}: {e}", p.display()))
+fn err(flag: &str, what: &str, p: &Path, e: &std::io::Error) -> InputError {
+    InputError(format!("{flag} {}: cannot {what}: {e}", p.display()))
 }
 
 /// Creates `dir` and its missing parents; returns those it created, outermost first.
-fn create_dirs(flag: &str, dir: &Path) -> Result<Vec<PathBuf>, CliError> {
+fn create_dirs(flag: &str, dir: &Path) -> Result<Vec<PathBuf>, InputError> {
     if dir.as_os_str().is_empty() {
-        return Err(CliError(format!("{flag}: the path is empty")));
+        return Err(InputError(format!("{flag}: the path is empty")));
     }
     if dir.exists() && !dir.is_dir() {
-        return Err(CliError(format!(
+        return Err(InputError(format!(
             "{flag} {}: exists and is not a folder",
             dir.display()
         )));
@@ -60,7 +60,7 @@ impl Staged {
     /// # Errors
     ///
     /// `dir` is a file, or it cannot be created or written.
-    pub fn prepare(flag: &'static str, dir: &Path) -> Result<Staged, CliError> {
+    pub fn prepare(flag: &'static str, dir: &Path) -> Result<Staged, InputError> {
         let created = create_dirs(flag, dir)?;
         let stage = dir.join(format!(
             ".lenz-staging-{}-{}",
@@ -86,7 +86,7 @@ impl Staged {
     /// # Errors
     ///
     /// It is a file or cannot be created.
-    pub fn sub_folder(&mut self, sub: &str) -> Result<(), CliError> {
+    pub fn sub_folder(&mut self, sub: &str) -> Result<(), InputError> {
         let d = self.dir.join(sub);
         let made = create_dirs(self.flag, &d)?;
         self.created.extend(made);
@@ -99,10 +99,10 @@ impl Staged {
     /// # Errors
     ///
     /// A folder of that name is in the way.
-    pub fn check_name(&self, name: &Path) -> Result<(), CliError> {
+    pub fn check_name(&self, name: &Path) -> Result<(), InputError> {
         let target = self.dir.join(name);
         if target.is_dir() {
-            return Err(CliError(format!(
+            return Err(InputError(format!(
                 "{} {}: a folder is in the way of {}",
                 self.flag,
                 self.dir.display(),
@@ -121,7 +121,7 @@ impl Staged {
         &mut self,
         name: &str,
         write: impl FnOnce(&mut BufWriter<fs::File>) -> std::io::Result<()>,
-    ) -> Result<(), CliError> {
+    ) -> Result<(), InputError> {
         let rel = PathBuf::from(name);
         self.check_name(&rel)?;
         let p = self.stage.join(&rel);
@@ -140,7 +140,7 @@ impl Staged {
     /// # Errors
     ///
     /// As [`Staged::write_with`].
-    pub fn write(&mut self, name: &str, text: &str) -> Result<(), CliError> {
+    pub fn write(&mut self, name: &str, text: &str) -> Result<(), InputError> {
         self.write_with(name, |w| w.write_all(text.as_bytes()))
     }
 
@@ -149,7 +149,7 @@ impl Staged {
     /// # Errors
     ///
     /// A rename failed (the files not yet moved are removed).
-    pub fn commit(mut self) -> Result<Vec<PathBuf>, CliError> {
+    pub fn commit(mut self) -> Result<Vec<PathBuf>, InputError> {
         let mut done = Vec::with_capacity(self.files.len());
         for rel in &self.files {
             let target = self.dir.join(rel);

@@ -2,8 +2,6 @@
 //! and the clap value parsers of SI values. (Re-exported by [`crate::cli`]; here so that the
 //! commands do not import the command enum that imports them.)
 
-use std::fmt;
-
 use crate::si::{self, Unit};
 
 /// Caution printed with results that involve switching inductive loads.
@@ -18,30 +16,9 @@ nearly twice that when reversed at speed, and returns its current to the supply 
 or brakes, which can lift a bus that cannot sink current above its rating. Keep hands clear of \
 the driven mechanism while testing.";
 
-/// An error that ends a command with exit code 2.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct CliError(pub String);
-
-impl fmt::Display for CliError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(&self.0)
-    }
-}
-
-impl CliError {
-    /// A plan error, with lenz parameter names replaced by the command-line flags in `flags`
-    /// (pairs of parameter name and flag).
-    #[must_use]
-    pub fn from_lenz(e: lenz::Error, flags: &[(&str, &str)]) -> Self {
-        let text = e.to_string();
-        let param = e.param();
-        let shown = flags
-            .iter()
-            .find(|(p, _)| *p == param)
-            .map_or(param, |(_, f)| *f);
-        CliError(text.replacen(param, shown, 1))
-    }
-}
+/// An error that ends a command with exit code 2 (the library's
+/// [`crate::input_error::InputError`], under the name the commands have always used).
+pub use crate::input_error::InputError as CliError;
 
 macro_rules! unit_parsers {
     ($($name:ident => $unit:expr),* $(,)?) => {

@@ -14,12 +14,11 @@
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-use serde::Serialize;
-
 use super::common::{CAUTION, CliError};
-use super::outputs::Staged;
-use super::sim::Sink;
 use super::table::{new_table, si};
+use crate::demo::{SCENARIO_FILES, coil_figures};
+use crate::outputs::Staged;
+use crate::report::Sink;
 
 /// Arguments of `lenz demo`.
 #[derive(Debug, clap::Args)]
@@ -30,81 +29,6 @@ pub struct Args {
     /// Folder of the report (index.html, SVG plots, CSV waveforms, JUnit XML).
     #[arg(long, value_name = "DIR", default_value = "lenz-report")]
     out: PathBuf,
-}
-
-/// The shipped demo scenario files, built into the binary.
-pub const SCENARIO_FILES: &[(&str, &str)] = &[
-    ("valve.toml", include_str!("../../scenarios/valve.toml")),
-    ("relay.toml", include_str!("../../scenarios/relay.toml")),
-    ("boost.toml", include_str!("../../scenarios/boost.toml")),
-];
-
-/// One worst-case figure of a demo coil.
-#[derive(Debug, Serialize)]
-struct Figure {
-    coil: String,
-    figure: &'static str,
-    unit: &'static str,
-    bound: Bound,
-}
-
-/// A figure's bounds with the corners (supply, coil temperature, inductance, resistance at
-/// 20 °C) where they occur.
-#[derive(Debug, Serialize)]
-struct Bound {
-    min: f32,
-    max: f32,
-    min_at: serde_json::Value,
-    max_at: serde_json::Value,
-    #[serde(skip)]
-    min_text: String,
-    #[serde(skip)]
-    max_text: String,
-}
-
-/// The coil figures of the opening table.
-const COIL_FIGURES: [&str; 4] = [
-    "steady current",
-    "time constant",
-    "pull-in time",
-    "stored energy",
-];
-
-/// The opening table's figures, taken from the plans of the shipped coil files (valve and
-/// relay), so they are the very numbers of the per-file plans printed below them: one
-/// description per coil, with its whole loop resistance (winding, switch on-resistance, supply
-/// source resistance and shunt).
-fn coil_figures() -> Result<Vec<Figure>, CliError> {
-    let mut all = Vec::new();
-    for (name, text) in SCENARIO_FILES {
-        let f = crate::scenario::parse(name, text).map_err(|e| CliError(e.to_string()))?;
-        if f.system.coil.is_none() {
-            continue;
-        }
-        let rep = crate::system::plan::plan(&f)
-            .map_err(|e| CliError(crate::scenario::locate_problem(name, &e.0).to_string()))?;
-        for wanted in COIL_FIGURES {
-            let fig = rep
-                .figures
-                .iter()
-                .find(|g| g.figure == wanted)
-                .ok_or_else(|| CliError(format!("{name}: the plan has no {wanted}")))?;
-            all.push(Figure {
-                coil: rep.system.clone(),
-                figure: fig.figure,
-                unit: fig.unit,
-                bound: Bound {
-                    min: fig.min,
-                    max: fig.max,
-                    min_at: fig.min_at.clone(),
-                    max_at: fig.max_at.clone(),
-                    min_text: fig.min_text.clone(),
-                    max_text: fig.max_text.clone(),
-                },
-            });
-        }
-    }
-    Ok(all)
 }
 
 /// Runs `lenz demo`.
@@ -189,7 +113,7 @@ fn scenarios_and_report(out: &std::path::Path, mut sink: Sink, k: usize) -> Resu
         all_ok &= super::plan::print_tables(name, f)?;
         let rep = crate::system::plan::plan(f).map_err(|e| CliError(e.0))?;
         plans.push(rep);
-        let runs = super::sim::run_all(
+        let runs = crate::system::batch::run_all(
             std::slice::from_ref(&(name.clone(), f.clone())),
             |_| Params::NOMINAL,
             Record::Every,

@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use super::common::CliError;
-use super::outputs::Staged;
+use crate::outputs::Staged;
 use crate::system::{System, emit};
 
 /// The language of the emitted constants.

@@ -7,7 +7,6 @@ pub mod cost;
 pub mod demo;
 pub mod emit;
 pub mod motor;
-pub mod outputs;
 pub mod plan;
 pub mod sim;
 pub mod sweep;

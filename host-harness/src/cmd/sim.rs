@@ -1,22 +1,22 @@
 //! `lenz sim FILE...`: runs every scenario of the files in the closed loop and checks every
 //! property. Exit code 0 when all hold, 1 when any fails, 2 on bad input.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::process::ExitCode;
 
 use serde::Serialize;
 
 use super::common::{CAUTION, CliError};
-use super::outputs::Staged;
 use super::table::new_table;
-use crate::closed_loop::{Property, Waveform};
+use crate::closed_loop::Property;
 use crate::firmware::Target;
-use crate::pil::{self, FirmwareRun, Guards, TickBudget, TickCosts};
-use crate::report::{self, Names, Outcome};
+use crate::pil::{FirmwareRun, TickBudget, TickCosts};
+use crate::report::{Outcome, Sink};
 use crate::scenario::{
-    self, File,
+    File,
     run::{Params, Record},
 };
+use crate::system::batch::{DEFAULT_TICK_FRACTION, load_all, run_all, run_all_firmware};
 
 /// Arguments of `lenz sim`.
 #[derive(Debug, clap::Args)]
@@ -58,10 +58,21 @@ pub struct Args {
     tick_budget: Option<u64>,
 }
 
-/// Share of the tick period a tick function may take by default (half: room for the
-/// instructions that take more than one cycle and for the rest of the firmware; common
-/// practice, no source).
-pub const DEFAULT_TICK_FRACTION: f64 = 0.5;
+/// The firmware run the flags ask for, if any.
+fn firmware_run(a: &Args) -> Result<Option<FirmwareRun>, CliError> {
+    let (Some(image), Some(target)) = (&a.firmware, a.core) else {
+        return Ok(None);
+    };
+    let budget = match (a.clock, a.tick_budget) {
+        (Some(mhz), _) => Some(TickBudget::Clock {
+            mhz,
+            fraction: a.tick_fraction.unwrap_or(DEFAULT_TICK_FRACTION),
+        }),
+        (None, Some(n)) => Some(TickBudget::Instructions(n)),
+        (None, None) => None,
+    };
+    crate::system::batch::firmware_run(image, target, budget).map(Some)
+}
 
 fn core_key(s: &str) -> Result<Target, String> {
     Target::from_key(s).ok_or_else(|| format!("'{s}' is not a core (m0, m3 or m4f)"))
@@ -89,68 +100,6 @@ fn fraction(s: &str) -> Result<f64, String> {
     } else {
         Err(format!("'{s}': the share of the tick must lie in (0, 1]"))
     }
-}
-
-/// The firmware run the flags ask for, if any.
-fn firmware_run(a: &Args) -> Result<Option<FirmwareRun>, CliError> {
-    let (Some(image), Some(target)) = (&a.firmware, a.core) else {
-        return Ok(None);
-    };
-    let budget = match (a.clock, a.tick_budget) {
-        (Some(mhz), _) => Some(TickBudget::Clock {
-            mhz,
-            fraction: a.tick_fraction.unwrap_or(DEFAULT_TICK_FRACTION),
-        }),
-        (None, Some(n)) => Some(TickBudget::Instructions(n)),
-        (None, None) => None,
-    };
-    // The image first: a wrong file is named even where the emulator is missing.
-    crate::pil::elf::check(image, target).map_err(CliError)?;
-    let fw = FirmwareRun {
-        qemu: pil::session::qemu().map_err(CliError)?,
-        target,
-        image: image.clone(),
-        guards: Guards::default(),
-        budget,
-        record_actuations: false,
-        params: None,
-    };
-    Ok(Some(fw))
-}
-
-/// Runs every scenario of `files` with the decisions of the image in `fw`.
-///
-/// # Errors
-///
-/// A value the plans or the plant reject, or an image that cannot run.
-pub fn run_all_firmware(
-    files: &[(String, File)],
-    params: impl Fn(&File) -> Params,
-    record: Record,
-    fw: &FirmwareRun,
-    sink: &mut Sink,
-) -> Result<(Vec<Outcome>, Vec<TickCosts>), CliError> {
-    let mut out = Vec::new();
-    let mut costs = Vec::new();
-    for (name, f) in files {
-        let p = params(f);
-        for (k, sc) in f.scenarios.iter().enumerate() {
-            let o = pil::run_scenario(f, k, &p, record, fw)
-                .map_err(|e| CliError(scenario::locate_problem(name, &e.0).to_string()))?;
-            costs.push(o.costs);
-            let mut outcome = Outcome {
-                file: name.clone(),
-                system: f.system.name.clone(),
-                scenario: sc.name.clone(),
-                stem: sink.names.unique(&report::base_stem(name, &sc.name)),
-                result: o.result,
-            };
-            sink.scenario(&outcome)?;
-            outcome.result.waveform = Waveform::default();
-            out.push(outcome);
-        }
-    }
-    Ok((out, costs))
 }
 
 /// The instructions-per-tick table of a firmware run.
@@ -217,195 +166,6 @@ struct ScenarioReport<'a> {
     events: &'a [crate::closed_loop::RunEvent],
     #[serde(skip_serializing_if = "Option::is_none")]
     tick_instructions: Option<&'a TickCosts>,
-}
-
-/// Loads every file; the first bad one ends the command.
-///
-/// # Errors
-///
-/// The file's problem, with its position.
-pub fn load_all(files: &[PathBuf]) -> Result<Vec<(String, File)>, CliError> {
-    files
-        .iter()
-        .map(|p| {
-            scenario::load(p)
-                .map(|f| (p.display().to_string(), f))
-                .map_err(|e| CliError(e.to_string()))
-        })
-        .collect()
-}
-
-/// Runs every scenario of `files` with part values `params` (per file); each outcome goes
-/// through `sink` (which writes its files) as soon as it is made, and is kept without its
-/// waveform, so memory holds one scenario's waveform at a time.
-///
-/// # Errors
-///
-/// A value the plans or the plant reject, or a file `sink` cannot write.
-pub fn run_all(
-    files: &[(String, File)],
-    params: impl Fn(&File) -> Params,
-    record: Record,
-    sink: &mut Sink,
-) -> Result<Vec<Outcome>, CliError> {
-    let mut out = Vec::new();
-    for (name, f) in files {
-        let p = params(f);
-        for (k, sc) in f.scenarios.iter().enumerate() {
-            let result = scenario::run::run(f, k, &p, record)
-                .map_err(|e| CliError(scenario::locate_problem(name, &e.0).to_string()))?;
-            let mut o = Outcome {
-                file: name.clone(),
-                system: f.system.name.clone(),
-                scenario: sc.name.clone(),
-                stem: sink.names.unique(&report::base_stem(name, &sc.name)),
-                result,
-            };
-            sink.scenario(&o)?;
-            o.result.waveform = Waveform::default();
-            out.push(o);
-        }
-    }
-    Ok(out)
-}
-
-/// Where the files of a run go: CSV waveforms, SVG plots, the JUnit report, each in a staged
-/// folder ([`Staged`]) checked before the run.
-#[derive(Debug, Default)]
-pub struct Sink {
-    stages: Vec<Staged>,
-    /// Stage index and name prefix of the CSV files.
-    csv: Option<(usize, String)>,
-    /// Stage index and name prefix of the SVG plots.
-    plot: Option<(usize, String)>,
-    /// Stage index and file name of the JUnit report.
-    junit: Option<(usize, String)>,
-    names: Names,
-}
-
-impl Sink {
-    /// Adds a staged folder; returns its index.
-    pub fn add_stage(&mut self, s: Staged) -> usize {
-        self.stages.push(s);
-        self.stages.len() - 1
-    }
-
-    /// Writes the CSV files as `PREFIX<stem>.csv` into stage `k`.
-    pub fn csv_into(&mut self, k: usize, prefix: &str) {
-        self.csv = Some((k, prefix.to_string()));
-    }
-
-    /// Writes the SVG plots as `PREFIX<stem>.svg` into stage `k`.
-    pub fn plot_into(&mut self, k: usize, prefix: &str) {
-        self.plot = Some((k, prefix.to_string()));
-    }
-
-    /// Writes the JUnit report as `name` into stage `k`.
-    pub fn junit_into(&mut self, k: usize, name: &str) {
-        self.junit = Some((k, name.to_string()));
-    }
-
-    /// The outputs of `lenz sim`'s flags, each checked (and its folder created) now.
-    ///
-    /// # Errors
-    ///
-    /// A folder or file that cannot be written, naming the flag.
-    pub fn for_flags(
-        csv: Option<&Path>,
-        plot: Option<&Path>,
-        junit: Option<&Path>,
-    ) -> Result<Sink, CliError> {
-        let mut s = Sink::default();
-        if let Some(dir) = csv {
-            let k = s.add_stage(Staged::prepare("--csv", dir)?);
-            s.csv_into(k, "");
-        }
-        if let Some(dir) = plot {
-            let k = s.add_stage(Staged::prepare("--plot", dir)?);
-            s.plot_into(k, "");
-        }
-        if let Some(p) = junit {
-            let name = p
-                .file_name()
-                .and_then(|n| n.to_str())
-                .filter(|n| !n.is_empty())
-                .ok_or_else(|| CliError(format!("--junit {}: not a file name", p.display())))?
-                .to_string();
-            let parent = p
-                .parent()
-                .filter(|d| !d.as_os_str().is_empty())
-                .unwrap_or(Path::new("."));
-            let stage = Staged::prepare("--junit", parent)?;
-            stage.check_name(Path::new(&name))?;
-            let k = s.add_stage(stage);
-            s.junit_into(k, &name);
-        }
-        Ok(s)
-    }
-
-    /// Whether the run must record waveforms.
-    #[must_use]
-    pub fn wants_waveforms(&self) -> bool {
-        self.csv.is_some() || self.plot.is_some()
-    }
-
-    /// The staged folder `k` (for a command's own files).
-    ///
-    /// # Errors
-    ///
-    /// There is no folder `k`.
-    pub fn staged(&mut self, k: usize) -> Result<&mut Staged, CliError> {
-        self.stages
-            .get_mut(k)
-            .ok_or_else(|| CliError(format!("no output folder number {k}")))
-    }
-
-    /// Writes the CSV and SVG files of one scenario.
-    ///
-    /// # Errors
-    ///
-    /// A file cannot be written or drawn.
-    pub fn scenario(&mut self, o: &Outcome) -> Result<(), CliError> {
-        if let Some((k, prefix)) = self.csv.clone() {
-            self.staged(k)?
-                .write_with(&format!("{prefix}{}.csv", o.stem), |w| {
-                    report::csv::write_csv(w, &o.result.waveform)
-                })?;
-        }
-        if let Some((k, prefix)) = self.plot.clone() {
-            let svg = report::svg::waveform_svg(o).map_err(CliError)?;
-            self.staged(k)?
-                .write(&format!("{prefix}{}.svg", o.stem), &svg)?;
-        }
-        Ok(())
-    }
-
-    /// Writes the JUnit report and moves every file into place; returns the files.
-    ///
-    /// # Errors
-    ///
-    /// A file cannot be written or moved.
-    pub fn finish(mut self, outcomes: &[Outcome]) -> Result<Vec<PathBuf>, CliError> {
-        if let Some((k, name)) = self.junit.clone() {
-            self.staged(k)?
-                .write(&name, &report::junit::to_junit(outcomes))?;
-        }
-        let mut written = Vec::new();
-        for s in std::mem::take(&mut self.stages) {
-            written.extend(s.commit()?);
-        }
-        Ok(written)
-    }
-}
-
-impl Drop for Sink {
-    fn drop(&mut self) {
-        // Last prepared first: a folder an earlier flag created is empty only once the later
-        // flags' staging folders in it are gone.
-        while let Some(s) = self.stages.pop() {
-            drop(s);
-        }
-    }
 }
 
 pub use crate::report::text::value;

@@ -10,9 +10,9 @@ use std::process::ExitCode;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 
 use super::common::{CAUTION, CliError};
-use super::outputs::Staged;
 use super::sim::{describe, value};
 use super::table::new_table;
+use crate::outputs::Staged;
 use crate::report::{Names, slug};
 use crate::sweep::{self, Output, Plan, Shard};
 

@@ -12,6 +12,7 @@
 //! - [`junit`]: one `<testcase>` per scenario and property, for CI systems.
 //! - [`text`]: numbers in engineering notation and tables for people.
 //! - [`html`]: the index page of a report folder, with the [`summary`] at its top.
+//! - [`sink`]: where the files of a run go ([`Sink`]), staged and moved into place at the end.
 //! - [`browser`]: the page opened in headless Chromium: every image and link resolves, and a
 //!   screenshot.
 
@@ -19,10 +20,13 @@ pub mod browser;
 pub mod csv;
 pub mod html;
 pub mod junit;
+pub mod sink;
 pub mod summary;
 pub mod svg;
 pub mod text;
 pub mod waveform_plot;
+
+pub use sink::Sink;
 
 use crate::closed_loop::RunResult;
 

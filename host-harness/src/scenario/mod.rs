@@ -343,9 +343,9 @@ fn supply_out_of_range(f: &File, v: f64) -> Option<String> {
     (v < lo || v > hi).then(|| {
         format!(
             "{} is far outside the system's supply range (allowed {} to {})",
-            crate::cmd::table::si(v, "V"),
-            crate::cmd::table::si(lo, "V"),
-            crate::cmd::table::si(hi, "V"),
+            crate::si::format(v, "V"),
+            crate::si::format(lo, "V"),
+            crate::si::format(hi, "V"),
         )
     })
 }

@@ -22,7 +22,7 @@
 //!   `command = "off"`.
 
 use super::schema::{Action, Command, File, Property, Scenario};
-use crate::cmd::table::si;
+use crate::si::format as si;
 
 /// An event or duration that would have no effect: where, and why.
 #[derive(Debug, Clone, PartialEq, Eq)]

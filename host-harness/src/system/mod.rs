@@ -17,6 +17,7 @@
 //! Nothing else maps a description to core types: the clamp kinds and their spellings are in
 //! [`clamp`], the coil model in [`coil`], the sense chains in [`sense`].
 
+pub mod batch;
 pub mod clamp;
 pub mod coil;
 pub mod emit;

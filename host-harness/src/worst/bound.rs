@@ -8,7 +8,7 @@ use lenz::Range;
 use serde_json::Value;
 
 use super::{Figures, Ranged};
-use crate::cli::CliError;
+use crate::input_error::InputError;
 
 /// One figure over the ranges.
 #[derive(Debug, Clone, PartialEq)]
@@ -59,33 +59,33 @@ fn worst_case_dyn(
 /// number at some points and not at others.
 pub fn bound_all(
     r: &Ranged,
-    eval: &dyn Fn(&[OsString]) -> Result<Figures, CliError>,
-) -> Result<Vec<(String, Bounded)>, CliError> {
+    eval: &dyn Fn(&[OsString]) -> Result<Figures, InputError>,
+) -> Result<Vec<(String, Bounded)>, InputError> {
     let mut ranges = Vec::new();
     for f in &r.flags {
         let range =
             Range::new("range", f.spread.min as f32, f.spread.max as f32).map_err(|_| {
-                CliError(format!(
+                InputError(format!(
                     "--{}: '{}' is outside the f32 range",
                     f.long, f.text
                 ))
             })?;
         ranges.push(range);
     }
-    let cache: RefCell<HashMap<Vec<u32>, Result<Figures, CliError>>> = RefCell::default();
-    let at = |p: &[f32]| -> Result<Figures, CliError> {
+    let cache: RefCell<HashMap<Vec<u32>, Result<Figures, InputError>>> = RefCell::default();
+    let at = |p: &[f32]| -> Result<Figures, InputError> {
         let key: Vec<u32> = p.iter().map(|x| x.to_bits()).collect();
         if let Some(hit) = cache.borrow().get(&key) {
             return hit.clone();
         }
         let got =
-            eval(&r.args_at(p)).map_err(|e| CliError(format!("{e} (at {})", r.corner_text(p))));
+            eval(&r.args_at(p)).map_err(|e| InputError(format!("{e} (at {})", r.corner_text(p))));
         cache.borrow_mut().insert(key, got.clone());
         got
     };
     let first: Vec<f32> = ranges.iter().map(Range::min).collect();
     let keys = at(&first)?;
-    let failure: RefCell<Option<CliError>> = RefCell::default();
+    let failure: RefCell<Option<InputError>> = RefCell::default();
     let mut out = Vec::new();
     for (key, sample) in &keys.0 {
         if !sample.is_number() {
@@ -97,7 +97,7 @@ pub fn bound_all(
                     .find(|(k, _)| k == key)
                     .and_then(|(_, v)| v.as_f64())
                     .ok_or_else(|| {
-                        CliError(format!(
+                        InputError(format!(
                             "{key}: has no value at {} (it has one at {})",
                             r.corner_text(p),
                             r.corner_text(&first)
@@ -126,7 +126,7 @@ pub fn bound_all(
                 return Err(failure
                     .borrow_mut()
                     .take()
-                    .unwrap_or_else(|| CliError(format!("{key}: {e}"))));
+                    .unwrap_or_else(|| InputError(format!("{key}: {e}"))));
             }
         }
     }

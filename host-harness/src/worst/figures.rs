@@ -6,7 +6,7 @@ use serde::Serialize;
 use serde::de::{Deserialize, Deserializer, MapAccess, Visitor};
 use serde_json::Value;
 
-use crate::cli::CliError;
+use crate::input_error::InputError;
 
 /// A command's report as ordered `(key, value)` pairs (the order of its `--json` keys).
 #[derive(Debug, Clone, PartialEq)]
@@ -37,9 +37,9 @@ impl<'de> Deserialize<'de> for Figures {
 /// # Errors
 ///
 /// The report does not serialize to a JSON object (a bug, reported rather than hidden).
-pub fn figures_of<T: Serialize>(report: &T) -> Result<Figures, CliError> {
-    let text = serde_json::to_string(report).map_err(|e| CliError(e.to_string()))?;
-    serde_json::from_str(&text).map_err(|e| CliError(e.to_string()))
+pub fn figures_of<T: Serialize>(report: &T) -> Result<Figures, InputError> {
+    let text = serde_json::to_string(report).map_err(|e| InputError(e.to_string()))?;
+    serde_json::from_str(&text).map_err(|e| InputError(e.to_string()))
 }
 
 #[cfg(test)]

@@ -6,9 +6,9 @@ use std::ffi::OsString;
 use clap::{Arg, Command};
 
 use super::{MAX_RANGED, QUICK};
-use crate::cli::CliError;
-use crate::cmd::table::si;
+use crate::input_error::InputError;
 use crate::range_arg::{self, Spread};
+use crate::si::format as si;
 
 /// One flag given as a range.
 #[derive(Debug, Clone)]
@@ -20,7 +20,7 @@ pub struct RangedFlag {
     /// Its ends, in the flag's unit.
     pub spread: Spread,
     /// The flag's value name (its unit, as in `--help`).
-    pub(super) unit: String,
+    pub unit: String,
 }
 
 /// A quick calculation with at least one range.
@@ -29,11 +29,11 @@ pub struct Ranged {
     /// The subcommand.
     pub command: String,
     /// The arguments without the ranged flags.
-    pub(super) base: Vec<OsString>,
+    pub base: Vec<OsString>,
     /// The ranged flags, in the order typed.
     pub flags: Vec<RangedFlag>,
     /// `--json` was given.
-    pub(super) json: bool,
+    pub json: bool,
 }
 
 impl Ranged {
@@ -48,7 +48,8 @@ impl Ranged {
     }
 
     /// The values of the ranged flags at `point`, for people.
-    pub(super) fn corner_text(&self, point: &[f32]) -> String {
+    #[must_use]
+    pub fn corner_text(&self, point: &[f32]) -> String {
         self.flags
             .iter()
             .zip(point)
@@ -59,7 +60,8 @@ impl Ranged {
 }
 
 /// A flag value for people, in the unit of its value name.
-pub(super) fn value_text(x: f64, unit: &str) -> String {
+#[must_use]
+pub fn value_text(x: f64, unit: &str) -> String {
     let symbol = match unit {
         "V" => "V",
         "A" => "A",
@@ -97,7 +99,7 @@ fn read_value(arg: &Arg, text: &str) -> Result<f64, String> {
 ///
 /// A range that cannot be read, or more than [`MAX_RANGED`] of them; the message names the
 /// flag.
-pub fn find(root: &Command, args: &[OsString]) -> Result<Option<Ranged>, CliError> {
+pub fn find(root: &Command, args: &[OsString]) -> Result<Option<Ranged>, InputError> {
     let Some(name) = args.get(1).and_then(|a| a.to_str()) else {
         return Ok(None);
     };
@@ -143,7 +145,7 @@ pub fn find(root: &Command, args: &[OsString]) -> Result<Option<Ranged>, CliErro
             if let Some(value) = value.filter(|v| range_arg::is_range(v)) {
                 let long = arg.get_long().unwrap_or_default();
                 let spread = range_arg::parse(&value, |s| read_value(arg, s))
-                    .map_err(|e| CliError(format!("--{long}: {e}")))?;
+                    .map_err(|e| InputError(format!("--{long}: {e}")))?;
                 flags.push(RangedFlag {
                     long: long.to_string(),
                     text: value,
@@ -165,7 +167,7 @@ pub fn find(root: &Command, args: &[OsString]) -> Result<Option<Ranged>, CliErro
     }
     if flags.len() > MAX_RANGED {
         let names: Vec<String> = flags.iter().map(|f| format!("--{}", f.long)).collect();
-        return Err(CliError(format!(
+        return Err(InputError(format!(
             "{}: at most {MAX_RANGED} flags take ranges at once, {} given",
             names.join(", "),
             flags.len()
@@ -173,7 +175,7 @@ pub fn find(root: &Command, args: &[OsString]) -> Result<Option<Ranged>, CliErro
     }
     for (k, f) in flags.iter().enumerate() {
         if flags[..k].iter().any(|g| g.long == f.long) {
-            return Err(CliError(format!("--{}: given more than once", f.long)));
+            return Err(InputError(format!("--{}: given more than once", f.long)));
         }
     }
     Ok(Some(Ranged {

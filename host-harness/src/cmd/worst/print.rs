@@ -3,9 +3,9 @@
 use serde::Serialize;
 use serde_json::Value;
 
-use super::find::value_text;
 use super::{Bounded, Ranged};
 use crate::cmd::table::{new_table, si};
+use crate::worst::value_text;
 
 /// A figure's name and unit from its JSON key: `steady_current_a` is "steady current" in A.
 #[must_use]
