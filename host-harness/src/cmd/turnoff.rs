@@ -11,8 +11,6 @@ use serde::Serialize;
 use super::common::{CAUTION, CliError, ampere, henry, ohm, volt};
 use super::table::{new_table, si};
 use super::worst::{Figures, figures_of};
-use crate::si::{self, Unit};
-use crate::system::ClampKind;
 
 /// Arguments of `lenz turnoff`.
 #[derive(Debug, clap::Args)]
@@ -69,78 +67,8 @@ const FLAGS: &[(&str, &str)] = &[
     ("capacitance_f", "--clamp CP"),
 ];
 
-/// Reads `--clamp KIND`.
-fn parse_clamp(text: &str) -> Result<Clamp, CliError> {
-    let parts: Vec<&str> = text.split(':').collect();
-    let bad_form = || {
-        CliError(format!(
-            "--clamp: '{text}' is not a clamp; use {}",
-            ClampKind::cli_forms()
-        ))
-    };
-    let value = |k: usize, name: &str, unit: Unit| -> Result<f32, CliError> {
-        let part = parts.get(k).ok_or_else(bad_form)?;
-        si::parse(part, unit)
-            .map(|v| v as f32)
-            .map_err(|e| CliError(format!("--clamp {name}: {e}")))
-    };
-    let kind = parts
-        .first()
-        .and_then(|k| ClampKind::from_cli(k))
-        .ok_or_else(bad_form)?;
-    let (clamp, n) = match kind {
-        ClampKind::Freewheel => (
-            Clamp::Diode {
-                forward_v: value(1, "VF", Unit::Volt)?,
-            },
-            2,
-        ),
-        ClampKind::DiodeZener => (
-            Clamp::Zener {
-                zener_v: value(1, "VZ", Unit::Volt)?,
-                forward_v: value(2, "VF", Unit::Volt)?,
-            },
-            3,
-        ),
-        ClampKind::AcrossSwitch => (
-            Clamp::Switch {
-                clamp_v: value(1, "VCL", Unit::Volt)?,
-            },
-            2,
-        ),
-        ClampKind::ResistorDiode => (
-            Clamp::Resistor {
-                resistance_ohm: value(1, "RS", Unit::Ohm)?,
-                forward_v: value(2, "VF", Unit::Volt)?,
-            },
-            3,
-        ),
-        ClampKind::Unclamped => (
-            Clamp::Unclamped {
-                capacitance_f: value(1, "CP", Unit::Farad)?,
-            },
-            2,
-        ),
-    };
-    if parts.len() != n {
-        return Err(bad_form());
-    }
-    if let Clamp::Resistor { resistance_ohm, .. } = clamp
-        && resistance_ohm.is_finite()
-        && resistance_ohm <= 0.0
-    {
-        // As in a scenario file: a resistor clamp of 0 Ω is a freewheel diode.
-        return Err(CliError(format!(
-            "--clamp RS: '{}' is not a clamp resistor: must be above 0 Ω (for a plain diode \
-             use diode:VF)",
-            parts.get(1).copied().unwrap_or("")
-        )));
-    }
-    Ok(clamp)
-}
-
 fn plan(a: &Args) -> Result<SwitchOff, CliError> {
-    let clamp = parse_clamp(&a.clamp)?;
+    let clamp = crate::system::clamp::cli_clamp(&a.clamp)?;
     let supply = match (a.supply, clamp) {
         (Some(v), _) => v as f32,
         (None, Clamp::Switch { .. } | Clamp::Unclamped { .. }) => {

@@ -4,10 +4,15 @@
 //! scenario file (`[system.clamp.diode-zener]`), the `--clamp` form of `lenz turnoff`
 //! (`zener:VZ:VF`) and the short name of [`lenz::turnoff::Clamp::kind`] (`zener`). They all
 //! come from [`ClampKind::SPELLINGS`]; the description → core and description → plant mappings
-//! of a clamp are here too, and nowhere else.
+//! of a clamp are here too, and nowhere else, with the reading of a `--clamp` form
+//! ([`cli_clamp`]).
 
+use lenz::turnoff::Clamp;
+
+use crate::input_error::InputError;
 use crate::plant;
 use crate::scenario::ClampSpec;
+use crate::si::{self, Unit};
 
 /// The kind of clamp network that takes the coil current when the switch opens.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -210,6 +215,82 @@ pub fn plant_clamp(c: &ClampSpec, k: f64) -> plant::Clamp {
             c_f: capacitance.get() * k,
         },
     }
+}
+
+/// Reads the `--clamp` form of `lenz turnoff` (`zener:VZ:VF`, values with SI prefixes) as a
+/// core clamp.
+///
+/// # Errors
+///
+/// Not one of the forms of [`ClampKind::SPELLINGS`], a value that is not one in its unit, or
+/// a resistor of 0 Ω or less; the message names `--clamp` and the part.
+pub fn cli_clamp(text: &str) -> Result<Clamp, InputError> {
+    let parts: Vec<&str> = text.split(':').collect();
+    let bad_form = || {
+        InputError(format!(
+            "--clamp: '{text}' is not a clamp; use {}",
+            ClampKind::cli_forms()
+        ))
+    };
+    let value = |k: usize, name: &str, unit: Unit| -> Result<f32, InputError> {
+        let part = parts.get(k).ok_or_else(bad_form)?;
+        si::parse(part, unit)
+            .map(|v| v as f32)
+            .map_err(|e| InputError(format!("--clamp {name}: {e}")))
+    };
+    let kind = parts
+        .first()
+        .and_then(|k| ClampKind::from_cli(k))
+        .ok_or_else(bad_form)?;
+    let (clamp, n) = match kind {
+        ClampKind::Freewheel => (
+            Clamp::Diode {
+                forward_v: value(1, "VF", Unit::Volt)?,
+            },
+            2,
+        ),
+        ClampKind::DiodeZener => (
+            Clamp::Zener {
+                zener_v: value(1, "VZ", Unit::Volt)?,
+                forward_v: value(2, "VF", Unit::Volt)?,
+            },
+            3,
+        ),
+        ClampKind::AcrossSwitch => (
+            Clamp::Switch {
+                clamp_v: value(1, "VCL", Unit::Volt)?,
+            },
+            2,
+        ),
+        ClampKind::ResistorDiode => (
+            Clamp::Resistor {
+                resistance_ohm: value(1, "RS", Unit::Ohm)?,
+                forward_v: value(2, "VF", Unit::Volt)?,
+            },
+            3,
+        ),
+        ClampKind::Unclamped => (
+            Clamp::Unclamped {
+                capacitance_f: value(1, "CP", Unit::Farad)?,
+            },
+            2,
+        ),
+    };
+    if parts.len() != n {
+        return Err(bad_form());
+    }
+    if let Clamp::Resistor { resistance_ohm, .. } = clamp
+        && resistance_ohm.is_finite()
+        && resistance_ohm <= 0.0
+    {
+        // As in a scenario file: a resistor clamp of 0 Ω is a freewheel diode.
+        return Err(InputError(format!(
+            "--clamp RS: '{}' is not a clamp resistor: must be above 0 Ω (for a plain diode \
+             use diode:VF)",
+            parts.get(1).copied().unwrap_or("")
+        )));
+    }
+    Ok(clamp)
 }
 
 #[cfg(test)]
