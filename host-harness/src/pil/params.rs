@@ -40,11 +40,9 @@ pub fn coil_driver_config(file: &File, temp_c: f64) -> Result<CoilDriverConfig, 
             "system: a coil controller needs [system.coil] and a clamp".into(),
         ));
     };
-    let model = lenz::CoilParams::new(coil.inductance.get() as f32, coil.resistance.get() as f32)
-        .with_switch_resistance_ohm(s.switch.on_resistance.get() as f32)
-        .with_shunt_resistance_ohm(s.sense.shunt.get() as f32)
-        .validate()
-        .map_err(err("system.coil"))?;
+    // The system layer's one coil model (the whole loop: winding, switch, source, shunt and a
+    // freewheel diode), as the plan, the firmware inputs and the built-in driver use it.
+    let model = crate::system::coil::coil_model(file, &coil)?;
     let nominal = nominal_sensors(file);
     let amps_per_count = nominal.current.units_per_count() as f32;
     let max_code = nominal.current.max_code();
