@@ -33,27 +33,6 @@ pub struct Args {
     out: Option<PathBuf>,
 }
 
-/// The include guard of a C header written to `out`: its file name, upper case.
-fn guard(out: Option<&Path>) -> String {
-    let stem = out
-        .and_then(Path::file_name)
-        .map_or_else(|| "lenz_emitted.h".into(), |n| n.to_string_lossy());
-    let mut g: String = stem
-        .chars()
-        .map(|c| {
-            if c.is_ascii_alphanumeric() {
-                c.to_ascii_uppercase()
-            } else {
-                '_'
-            }
-        })
-        .collect();
-    if g.starts_with(|c: char| c.is_ascii_digit()) {
-        g.insert(0, '_');
-    }
-    g
-}
-
 /// Runs `lenz emit`.
 ///
 /// # Errors
@@ -100,7 +79,9 @@ pub fn run(a: &Args) -> Result<ExitCode, CliError> {
     let e = emit::constants(&system, emit::says_invented(&text)).map_err(located)?;
     let out = match a.lang {
         Lang::Rust => emit::rust::render(&e),
-        Lang::C => emit::c::render(&e, &guard(a.out.as_deref())).map_err(located)?,
+        Lang::C => {
+            emit::c::render(&e, &emit::c::include_guard(a.out.as_deref())).map_err(located)?
+        }
     };
     match staged {
         Some((mut s, file)) => {

@@ -2,6 +2,7 @@
 //! structs (`ffi/include/lenz.h`), with designated initialisers so a field cannot shift.
 
 use std::fmt::Write as _;
+use std::path::Path;
 
 use super::{Emitted, Value, preamble};
 use crate::system::SetupError;
@@ -91,6 +92,29 @@ fn value(s: &mut String, v: &Value, depth: usize, name: &str) -> Result<(), Setu
         }
     }
     Ok(())
+}
+
+/// The include guard of a C header written to `out` (standard output: `lenz_emitted.h`): its
+/// file name, upper case, every other character `_`, and `_` before a leading digit.
+#[must_use]
+pub fn include_guard(out: Option<&Path>) -> String {
+    let stem = out
+        .and_then(Path::file_name)
+        .map_or_else(|| "lenz_emitted.h".into(), |n| n.to_string_lossy());
+    let mut g: String = stem
+        .chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() {
+                c.to_ascii_uppercase()
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    if g.starts_with(|c: char| c.is_ascii_digit()) {
+        g.insert(0, '_');
+    }
+    g
 }
 
 #[cfg(test)]
