@@ -197,3 +197,54 @@ fn armature_tolerances_are_drawn_after_the_existing_ones() {
         assert!((b.armature_load - 1.0).abs() <= 0.2 && b.armature_load != 1.0);
     }
 }
+
+#[test]
+fn the_plan_checks_the_pull_in_and_hold_settings_against_the_armature() {
+    use lenz_harness::demo::armature::VALVE as PLUNGER;
+    let verdict = |report: &lenz_harness::system::plan::Report, start: &str| {
+        report
+            .verdicts
+            .iter()
+            .find(|v| v.check.starts_with(start))
+            .unwrap_or_else(|| panic!("{start}: {:#?}", report.verdicts))
+            .clone_fields()
+    };
+    let f = scenario::parse("arm.toml", &file_text(CYCLE)).unwrap();
+    let report = lenz_harness::system::plan::plan(&f).unwrap();
+    // The nominal plunger's pull-in and must-hold currents (f32 plan, `lenz::armature`); the
+    // coil's ±10 % inductance tolerance scales the pull force `½·i²·|dL/dx|` by the same factor
+    // (Fitzgerald, Kingsley, Umans, *Electric Machinery*, ch. 3; from memory), so the worst
+    // (highest) currents are the nominal ones over √0.9.
+    let plan = PLUNGER.plan().unwrap();
+    let want_pull = f64::from(plan.pull_in_current_a().unwrap()) / 0.9f64.sqrt();
+    let want_hold = f64::from(plan.hold_current_a().unwrap()) / 0.9f64.sqrt();
+    let (pass, value, limit) = verdict(&report, "pull-in current setting ≥ highest minimum");
+    println!("pull-in: setting {value:?} A against {limit} A (want {want_pull})");
+    assert!((f64::from(limit) / want_pull - 1.0).abs() < 1e-4);
+    assert!(pass && value == Some(0.48));
+    let (pass, value, limit) = verdict(&report, "lowest hold current ≥ highest armature");
+    println!("hold: valley {value:?} A against {limit} A (want {want_hold})");
+    assert!((f64::from(limit) / want_hold - 1.0).abs() < 1e-4);
+    assert!(pass);
+    // A setting below the worst-case pull-in current fails.
+    let low = file_text(CYCLE).replacen(
+        "pull_in_current = \"0.48A\"",
+        "pull_in_current = \"0.45A\"",
+        1,
+    );
+    let f = scenario::parse("arm.toml", &low).unwrap();
+    let report = lenz_harness::system::plan::plan(&f).unwrap();
+    let (pass, ..) = verdict(&report, "pull-in current setting ≥ highest minimum");
+    assert!(!pass);
+    assert!(!report.passed);
+}
+
+trait Fields {
+    fn clone_fields(&self) -> (bool, Option<f32>, f32);
+}
+
+impl Fields for lenz_harness::system::plan::Verdict {
+    fn clone_fields(&self) -> (bool, Option<f32>, f32) {
+        (self.pass, self.value, self.limit)
+    }
+}
