@@ -68,6 +68,18 @@ pub enum Fault {
         /// New load resistance, Ω.
         load_ohm: f64,
     },
+    /// The coil's armature sticks where it is.
+    StuckArmature,
+    /// The armature gets extra viscous friction.
+    SluggishArmature {
+        /// Extra damping, N·s/m.
+        extra_damping_n_s_per_m: f64,
+    },
+    /// An extra force acts against the armature's closing.
+    ExcessLoad {
+        /// Extra force, N.
+        extra_load_n: f64,
+    },
 }
 
 /// A fault at a time, and whether the firmware is required to trip on it.

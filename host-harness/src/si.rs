@@ -52,6 +52,18 @@ pub enum Unit {
     KilogramSquareMetre,
     /// Newton metre second per radian (viscous friction): `Nms/rad`, `N·m·s/rad`, `Nms`.
     NewtonMetreSecondPerRadian,
+    /// Metre: `m` (so `1.2mm` is 1.2 mm and `1.2m` is 1.2 m).
+    Metre,
+    /// Newton: `N`.
+    Newton,
+    /// Newton per metre (spring rate): `N/m`.
+    NewtonPerMetre,
+    /// Newton second per metre (viscous damping): `N·s/m`, `Ns/m`.
+    NewtonSecondPerMetre,
+    /// Kilogram: `kg`, or grams with `g` (`8g`, `500mg`).
+    Kilogram,
+    /// Metre per second: `m/s`.
+    MetrePerSecond,
     /// A plain number (ratios, multipliers, counts).
     None,
 }
@@ -73,6 +85,12 @@ impl Unit {
             Unit::NewtonMetrePerAmpere => &["N·m/A", "Nm/A", "V·s/rad", "Vs/rad"],
             Unit::KilogramSquareMetre => &["kg·m²", "kgm²", "kgm2"],
             Unit::NewtonMetreSecondPerRadian => &["N·m·s/rad", "Nms/rad", "Nms"],
+            Unit::Metre => &["m"],
+            Unit::Newton => &["N"],
+            Unit::NewtonPerMetre => &["N/m"],
+            Unit::NewtonSecondPerMetre => &["N·s/m", "Ns/m"],
+            Unit::Kilogram => &["kg"],
+            Unit::MetrePerSecond => &["m/s"],
             Unit::None => &[],
         }
     }
@@ -105,6 +123,16 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, SiError> {
     };
     let t = text.trim();
     let mut body = t;
+    // Grams: the base unit of mass carries a prefix of its own.
+    let mut scale = 1.0;
+    if unit == Unit::Kilogram
+        && !t.ends_with("kg")
+        && let Some(stripped) = t.strip_suffix('g')
+        && !stripped.is_empty()
+    {
+        body = stripped;
+        scale = 1e-3;
+    }
     for sym in unit.symbols() {
         if let Some(stripped) = t.strip_suffix(sym)
             && !stripped.is_empty()
@@ -132,7 +160,7 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, SiError> {
         return Err(err("is not a temperature in °C"));
     }
     let factor = prefix_factor(prefix).ok_or_else(|| err("has an unknown prefix or unit"))?;
-    let value = number * factor;
+    let value = number * factor * scale;
     if value.is_finite() {
         Ok(value)
     } else {
@@ -198,6 +226,18 @@ mod tests {
         assert!(close(parse("10ms", Unit::Second).unwrap(), 0.01));
         assert!(close(parse("1MHz", Unit::Hertz).unwrap(), 1e6));
         assert!(close(parse("1e-3", Unit::Second).unwrap(), 1e-3));
+        assert!(close(parse("1.2mm", Unit::Metre).unwrap(), 1.2e-3));
+        assert!(close(parse("8g", Unit::Kilogram).unwrap(), 8e-3));
+        assert!(close(parse("0.008kg", Unit::Kilogram).unwrap(), 8e-3));
+        assert!(close(
+            parse("1.5kN/m", Unit::NewtonPerMetre).unwrap(),
+            1500.0
+        ));
+        assert!(close(
+            parse("2N·s/m", Unit::NewtonSecondPerMetre).unwrap(),
+            2.0
+        ));
+        assert!(close(parse("5N", Unit::Newton).unwrap(), 5.0));
         assert!(close(parse("-40", Unit::Celsius).unwrap(), -40.0));
         assert!(close(parse("85C", Unit::Celsius).unwrap(), 85.0));
         assert!(close(parse("24", Unit::Volt).unwrap(), 24.0));

@@ -56,6 +56,7 @@
 //! - A supply ramp is applied as a staircase stepped at the harness edges.
 
 pub mod adc;
+mod armature_watch;
 mod coil_watch;
 pub mod demo;
 mod envelope;
@@ -63,7 +64,7 @@ mod envelope;
 pub use adc::AdcChannel;
 
 use crate::faults::{Channel, Fault, FaultAt};
-use crate::plant::{Boost, CoilDrive, StepUnderflow, SwitchOff};
+use crate::plant::{Boost, CoilDrive, StepUnderflow, Stroke, SwitchOff};
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use serde::{Deserialize, Serialize};
@@ -278,6 +279,10 @@ pub trait Plant {
     fn winding_loss_j(&self) -> Option<f64> {
         None
     }
+    /// The moving armature's strokes so far (`None`: nothing moves).
+    fn armature_strokes(&self) -> Option<&[Stroke]> {
+        None
+    }
 }
 
 impl Plant for CoilDrive {
@@ -318,6 +323,20 @@ impl Plant for CoilDrive {
                 true
             }
             Fault::LoadStep { .. } => false,
+            Fault::StuckArmature | Fault::SluggishArmature { .. } | Fault::ExcessLoad { .. } => {
+                let Some(mut f) = self.armature().map(|m| m.spec().faults) else {
+                    return false;
+                };
+                match *fault {
+                    Fault::StuckArmature => f.stuck = true,
+                    Fault::SluggishArmature {
+                        extra_damping_n_s_per_m,
+                    } => f.extra_damping_n_s_per_m += extra_damping_n_s_per_m,
+                    Fault::ExcessLoad { extra_load_n } => f.extra_load_n += extra_load_n,
+                    _ => {}
+                }
+                self.set_armature_faults(f)
+            }
             Fault::SensorStuck { .. } | Fault::SensorNoisy { .. } => true,
         }
     }
@@ -353,6 +372,9 @@ impl Plant for CoilDrive {
     }
     fn winding_loss_j(&self) -> Option<f64> {
         Some(self.energies().winding_j)
+    }
+    fn armature_strokes(&self) -> Option<&[Stroke]> {
+        self.armature().map(|m| m.strokes())
     }
 }
 
@@ -452,6 +474,14 @@ pub struct Limits {
     pub coil_temperature_max_c: Option<f64>,
     /// Highest allowed mean winding power while held, W.
     pub coil_power_max_w: Option<f64>,
+    /// Longest allowed time from an on command to the armature's seating, s.
+    pub seat_time_max_s: Option<f64>,
+    /// Highest allowed impact velocity at the closed stop, m/s.
+    pub impact_velocity_max_m_s: Option<f64>,
+    /// Longest allowed time from an off command to the armature's opening, s.
+    pub armature_release_time_max_s: Option<f64>,
+    /// Highest allowed supply energy per actuation, J.
+    pub actuation_energy_max_j: Option<f64>,
 }
 
 /// Pull-in: the current that pulls the armature in, and the longest allowed time to reach it.
@@ -1020,6 +1050,42 @@ pub fn run<P: Plant, C: Controller>(
     }
     if let Some(r) = l.hold_current_min_a {
         props.push(mk("hold_current", coil.hold_min_a, r, "A", Bound::Min));
+    }
+    let armature_limits = [
+        l.seat_time_max_s,
+        l.impact_velocity_max_m_s,
+        l.armature_release_time_max_s,
+        l.actuation_energy_max_j,
+    ];
+    if armature_limits.iter().any(Option::is_some) {
+        // A plant without an armature has nothing that moves: every value infinite, so the
+        // checks fail rather than pass silently.
+        let a = armature_watch::values(plant.armature_strokes().unwrap_or(&[]), &cfg.demand, end_s);
+        for (limit, name, value, unit) in [
+            (l.seat_time_max_s, "seat_time", a.seat_s, "s"),
+            (
+                l.impact_velocity_max_m_s,
+                "impact_velocity",
+                a.impact_m_s,
+                "m/s",
+            ),
+            (
+                l.armature_release_time_max_s,
+                "armature_release_time",
+                a.release_s,
+                "s",
+            ),
+            (
+                l.actuation_energy_max_j,
+                "actuation_energy",
+                a.energy_j,
+                "J",
+            ),
+        ] {
+            if let Some(r) = limit {
+                props.push(mk(name, value, r, unit, Bound::Max));
+            }
+        }
     }
     Ok(RunResult {
         properties: props,

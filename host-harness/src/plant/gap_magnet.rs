@@ -141,6 +141,21 @@ impl GapMagnet {
         (1.0 / (rk + s * (x - xk)), s)
     }
 
+    /// The same curve with every inductance multiplied by `factor` (shorted turns); the
+    /// saturation flux linkage is kept.
+    #[must_use]
+    pub fn scaled(&self, factor: f64) -> GapMagnet {
+        GapMagnet {
+            segments: self
+                .segments
+                .iter()
+                .map(|&(x, r, s)| (x, r / factor, s / factor))
+                .collect(),
+            gap_range: self.gap_range,
+            saturation_vs: self.saturation_vs,
+        }
+    }
+
     /// `L(x)`, H.
     #[must_use]
     pub fn inductance_h(&self, x: f64) -> f64 {

@@ -15,7 +15,7 @@
 //! Every segment carries `M` event functions `g_j(y)` (the plants use [`MAX_EVENTS`], the coil
 //! drive one more while it watches for a current level), positive while the
 //! segment's topology holds. When an accepted step starts with `g_j ≥ 0` and ends with `g_j < 0`, the step length is
-//! refined by the Illinois variant of regula falsi on `h ↦ g_j(step(y, h))`, each trial being a
+//! refined (for every event that did, the earliest one then stopping the integration) by the Illinois variant of regula falsi on `h ↦ g_j(step(y, h))`, each trial being a
 //! fresh fifth-order step from the start of the step (so the located state is as accurate as any
 //! accepted step), until the bracket is below `1e-14` of the step or `|g_j|` is below the
 //! event's absolute tolerance. The integrator stops exactly there and reports which event fired.
@@ -215,11 +215,17 @@ impl<const N: usize> Rk<N> {
             }
             // Accepted: check the events at the end of the step.
             let g1 = g(&y1);
+            // Each event that fired in the step is located, and the earliest one stops the
+            // integration (event functions of different quantities cannot be compared by
+            // their values).
             let fired = (0..M)
                 .filter(|&j| g0[j] >= 0.0 && g1[j] < 0.0)
-                .min_by(|&a, &b| g1[a].total_cmp(&g1[b]));
-            if let Some(j) = fired {
-                let (hj, yj) = self.locate(f, g, j, g_tol[j], y, h_try, g0[j], g1[j], &y1);
+                .map(|j| {
+                    let (hj, yj) = self.locate(f, g, j, g_tol[j], y, h_try, g0[j], g1[j], &y1);
+                    (j, hj, yj)
+                })
+                .min_by(|a, b| a.1.total_cmp(&b.1));
+            if let Some((j, hj, yj)) = fired {
                 *y = yj;
                 self.steps += 1;
                 // Another event may fire earlier inside the located step; check them too.

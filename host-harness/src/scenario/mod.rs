@@ -71,7 +71,7 @@ use std::fmt;
 use std::path::Path;
 
 pub use schema::{
-    Action, BoostController, BoostStage, Check, ClampSpec, Coil, CoilController, Command,
+    Action, Armature, BoostController, BoostStage, Check, ClampSpec, Coil, CoilController, Command,
     Controller, Dist, Event, Fault, FaultSpec, File, Property, Scenario, System,
 };
 
@@ -452,6 +452,13 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                     | FaultSpec::ShortedTurns { .. }
                     | FaultSpec::OpenCoil,
                 ) if is_boost => Some("coil faults apply to a coil drive"),
+                Action::Fault(
+                    FaultSpec::StuckArmature
+                    | FaultSpec::SluggishArmature(_)
+                    | FaultSpec::ExcessLoad(_),
+                ) if f.system.coil.and_then(|c| c.armature).is_none() => {
+                    Some("armature faults need a [system.coil.armature]")
+                }
                 _ => None,
             };
             if let Some(b) = bad {
@@ -477,7 +484,19 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 {
                     Some("applies to a coil drive")
                 }
-                Property::PullInTime | Property::HoldCurrent | Property::CoilPower
+                Property::SeatTime
+                | Property::ImpactVelocity
+                | Property::ArmatureReleaseTime
+                | Property::ActuationEnergy
+                    if f.system.coil.and_then(|k| k.armature).is_none() =>
+                {
+                    Some("needs a [system.coil.armature]: without one nothing moves")
+                }
+                Property::PullInTime
+                | Property::HoldCurrent
+                | Property::CoilPower
+                | Property::SeatTime
+                | Property::ActuationEnergy
                     if !commands_on =>
                 {
                     Some("needs an event with `command = \"on\"`: without one it checks nothing")

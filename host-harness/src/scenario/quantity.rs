@@ -45,6 +45,11 @@ units! {
     Joule => Unit::Joule, "J";
     Celsius => Unit::Celsius, "°C";
     Plain => Unit::None, "";
+    Metre => Unit::Metre, "m";
+    Newton => Unit::Newton, "N";
+    NewtonPerMetre => Unit::NewtonPerMetre, "N/m";
+    NewtonSecondPerMetre => Unit::NewtonSecondPerMetre, "N·s/m";
+    Kilogram => Unit::Kilogram, "kg";
 }
 
 /// Largest magnitude a file value may have: the plan routines compute in `f32`, whose largest

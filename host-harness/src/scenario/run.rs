@@ -54,6 +54,12 @@ pub struct Params {
     pub temp_c: Option<f64>,
     /// Seed of the ADC noise (`None`: the scenario's).
     pub noise_seed: Option<u64>,
+    /// Armature open-gap multiplier.
+    pub open_gap: f64,
+    /// Armature spring (preload and rate) multiplier.
+    pub spring: f64,
+    /// Armature load multiplier.
+    pub armature_load: f64,
 }
 
 impl Params {
@@ -67,6 +73,9 @@ impl Params {
         supply_v: None,
         temp_c: None,
         noise_seed: None,
+        open_gap: 1.0,
+        spring: 1.0,
+        armature_load: 1.0,
     };
 
     /// The parameters of run `index` of a sweep with `seed` (module docs).
@@ -79,6 +88,8 @@ impl Params {
         let mut u = || rng.random::<f64>();
         let (ul, ur, uc, ug, uld, us, ut) = (u(), u(), u(), u(), u(), u(), u());
         let noise_seed = rng.random::<u64>();
+        // Appended after the draws above, so earlier sweeps keep their parameters.
+        let (ugap, uspring, uaload) = (rng.random(), rng.random(), rng.random());
         let rel = |tol: &Option<RelTolerance>, u: f64| {
             tol.map_or(1.0, |t| 1.0 + t.rel.get() * unit_draw(t.dist, u))
         };
@@ -100,6 +111,9 @@ impl Params {
                 ut,
             ),
             noise_seed: Some(noise_seed),
+            open_gap: rel(&t.open_gap, ugap),
+            spring: rel(&t.spring, uspring),
+            armature_load: rel(&t.armature_load, uaload),
         }
     }
 }
@@ -296,6 +310,18 @@ pub(crate) fn file_key(file: &File, scenario: Option<usize>, param: &str) -> Opt
         "c_f" | "capacitance_f" => return clamp("capacitance"),
         "r20_ohm" | "resistance_ohm" => "system.coil.resistance",
         "knee_a" => "system.coil.knee_current",
+        "zero_gap_h" => "system.coil.armature.zero_gap_inductance",
+        "halving_gap_m" => "system.coil.armature.halving_gap",
+        "saturation_flux_vs" => "system.coil.armature.saturation_flux",
+        "mass_kg" => "system.coil.armature.mass",
+        "open_gap_m" => "system.coil.armature.open_gap",
+        "closed_gap_m" => "system.coil.armature.closed_gap",
+        "spring_preload_n" => "system.coil.armature.spring_preload",
+        "spring_rate_n_per_m" => "system.coil.armature.spring_rate",
+        "damping_n_s_per_m" => "system.coil.armature.damping",
+        "load_n" => "system.coil.armature.load",
+        "restitution" => "system.coil.armature.restitution",
+        "rest_speed_m_s" => "system.coil.armature.rest_speed",
         "l_res_h" => "system.coil.residual_inductance",
         "r_th_k_per_w" => "system.coil.thermal_resistance",
         "c_th_j_per_k" => "system.coil.thermal_capacitance",
@@ -418,6 +444,11 @@ pub(crate) fn loop_config(
                     resistance_factor: factor,
                 },
                 FaultSpec::OpenCoil => Fault::OpenCoil,
+                FaultSpec::StuckArmature => Fault::StuckArmature,
+                FaultSpec::SluggishArmature(d) => Fault::SluggishArmature {
+                    extra_damping_n_s_per_m: d,
+                },
+                FaultSpec::ExcessLoad(f) => Fault::ExcessLoad { extra_load_n: f },
                 FaultSpec::SwitchStuckOn => Fault::SwitchStuckOn,
                 FaultSpec::SensorStuck(c) => Fault::SensorStuck {
                     channel: channel(c),
@@ -471,6 +502,10 @@ pub(crate) fn loop_config(
             }
             Property::CoilTemperature => limits.coil_temperature_max_c = m,
             Property::CoilPower => limits.coil_power_max_w = m,
+            Property::SeatTime => limits.seat_time_max_s = m,
+            Property::ImpactVelocity => limits.impact_velocity_max_m_s = m,
+            Property::ArmatureReleaseTime => limits.armature_release_time_max_s = m,
+            Property::ActuationEnergy => limits.actuation_energy_max_j = m,
         }
     }
     limits.pull_in = s.coil.map(|k| closed_loop::PullIn {

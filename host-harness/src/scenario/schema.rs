@@ -8,7 +8,8 @@
 use serde::{Deserialize, Serialize};
 
 use super::quantity::{
-    Ampere, Celsius, Farad, Henry, Joule, NonNeg, Ohm, Plain, Pos, Q, Second, Volt,
+    Ampere, Celsius, Farad, Henry, Joule, Kilogram, Metre, Newton, NewtonPerMetre,
+    NewtonSecondPerMetre, NonNeg, Ohm, Plain, Pos, Q, Second, Volt,
 };
 
 /// A whole scenario file.
@@ -247,6 +248,49 @@ pub struct Coil {
     /// Must-hold current: below it a pulled-in armature drops out, A (optional; the lower
     /// limit of `hold-current` and of the plan's hold verdict).
     pub hold_current: Option<Pos<Ampere>>,
+    /// The moving armature (`[system.coil.armature]`; absent: nothing moves, the coil is its
+    /// `inductance`).
+    pub armature: Option<Armature>,
+}
+
+/// The moving armature of a coil: the gap inductance `L(x) = zero_gap_inductance /
+/// (1 + x/halving_gap)` (the plan's `lenz::armature::GapInductance::Reluctance`), which
+/// replaces the coil's `inductance` in the simulation, and the mechanics. Keys follow
+/// `lenz::armature`'s parameter names without their unit suffixes.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct Armature {
+    /// Inductance at zero air gap, H.
+    pub zero_gap_inductance: Pos<Henry>,
+    /// Gap at which the inductance has halved, m.
+    pub halving_gap: Pos<Metre>,
+    /// Saturation flux linkage, V·s (absent: unsaturated).
+    pub saturation_flux: Option<Pos<Plain>>,
+    /// Moving mass, kg.
+    pub mass: Pos<Kilogram>,
+    /// Gap at the open stop (the travel plus the closed gap), m.
+    pub open_gap: Pos<Metre>,
+    /// Residual gap at the closed stop, m.
+    pub closed_gap: NonNeg<Metre>,
+    /// Spring force at the open stop, pushing open, N.
+    pub spring_preload: NonNeg<Newton>,
+    /// Spring rate, N/m.
+    pub spring_rate: NonNeg<NewtonPerMetre>,
+    /// Viscous damping, N·s/m.
+    #[serde(default = "zero")]
+    pub damping: NonNeg<NewtonSecondPerMetre>,
+    /// Constant load against closing (pressure on a valve seat, contact springs), N.
+    #[serde(default = "zero")]
+    pub load: NonNeg<Newton>,
+    /// Coefficient of restitution at the stops, 0 ..= 1.
+    pub restitution: NonNeg<Plain>,
+    /// A rebound slower than this ends the bounce, m/s (default 1 mm/s).
+    #[serde(default = "rest_speed")]
+    pub rest_speed: Pos<Plain>,
+}
+
+fn rest_speed<U>() -> Pos<U> {
+    Pos::new(1e-3)
 }
 
 /// The clamp network across the coil or the switch (one kind per file).
@@ -682,6 +726,12 @@ pub struct Tolerances {
     pub supply: Option<RangeTolerance>,
     /// Coil temperature within `[system.temperature]` min … max.
     pub temperature: Option<RangeTolerance>,
+    /// Armature open gap (travel).
+    pub open_gap: Option<RelTolerance>,
+    /// Armature spring preload and rate (one draw for both).
+    pub spring: Option<RelTolerance>,
+    /// Armature load force.
+    pub armature_load: Option<RelTolerance>,
 }
 
 /// One scenario: a timeline of events and the properties that must hold.
@@ -737,6 +787,12 @@ pub enum Fault {
     SensorStuck,
     /// The sensor `channel` gets `noise` LSB RMS of extra noise.
     SensorNoisy,
+    /// The coil's armature sticks where it is.
+    StuckArmature,
+    /// The armature gets `damping` N·s/m of extra viscous friction.
+    SluggishArmature,
+    /// An extra `force` N acts against closing.
+    ExcessLoad,
 }
 
 /// An ADC channel.
@@ -799,6 +855,12 @@ pub enum FaultSpec {
     SensorStuck(Channel),
     /// Noisy sensor.
     SensorNoisy(Channel, f64),
+    /// Stuck armature.
+    StuckArmature,
+    /// Sluggish armature: extra damping, N·s/m.
+    SluggishArmature(f64),
+    /// Excess load: extra force against closing, N.
+    ExcessLoad(f64),
 }
 
 #[derive(Deserialize)]
@@ -817,6 +879,8 @@ struct RawEvent {
     channel: Option<Channel>,
     noise: Option<NonNeg<Plain>>,
     ramp: Option<NonNeg<Second>>,
+    damping: Option<Pos<NewtonSecondPerMetre>>,
+    force: Option<Pos<Newton>>,
 }
 
 impl TryFrom<RawEvent> for Event {
@@ -840,12 +904,16 @@ impl TryFrom<RawEvent> for Event {
             ("channel", r.channel.is_some()),
             ("noise", r.noise.is_some()),
             ("ramp", r.ramp.is_some()),
+            ("damping", r.damping.is_some()),
+            ("force", r.force.is_some()),
         ];
         let allowed: &[&str] = match r.fault {
             Some(Fault::ShortedCoil) => &["residual_inductance", "residual_resistance"],
             Some(Fault::ShortedTurns) => &["factor"],
             Some(Fault::SensorStuck) => &["channel"],
             Some(Fault::SensorNoisy) => &["channel", "noise"],
+            Some(Fault::SluggishArmature) => &["damping"],
+            Some(Fault::ExcessLoad) => &["force"],
             None if r.supply.is_some() => &["ramp"],
             _ => &[],
         };
@@ -882,6 +950,13 @@ impl TryFrom<RawEvent> for Event {
                     r.channel.ok_or_else(|| need("channel"))?,
                     r.noise.ok_or_else(|| need("noise"))?.get(),
                 ),
+                Fault::StuckArmature => FaultSpec::StuckArmature,
+                Fault::SluggishArmature => {
+                    FaultSpec::SluggishArmature(r.damping.ok_or_else(|| need("damping"))?.get())
+                }
+                Fault::ExcessLoad => {
+                    FaultSpec::ExcessLoad(r.force.ok_or_else(|| need("force"))?.get())
+                }
             }),
             (_, _, Some(v), _) => Action::Supply(v.get(), r.ramp.map_or(0.0, NonNeg::get)),
             (_, _, _, Some(l)) => Action::Load(l.get()),
@@ -935,6 +1010,14 @@ pub enum Property {
     CoilTemperature,
     /// Mean power the winding turns into heat while held, W (`max`).
     CoilPower,
+    /// Longest time from an on command to the armature's final seating, s (`max`).
+    SeatTime,
+    /// Highest speed of the armature's first impact at the closed stop, m/s (`max`).
+    ImpactVelocity,
+    /// Longest time from an off command to the armature's return to the open stop, s (`max`).
+    ArmatureReleaseTime,
+    /// Highest supply energy from a stroke's switch-on to its seating, J (`max`).
+    ActuationEnergy,
 }
 
 impl Property {
@@ -955,6 +1038,10 @@ impl Property {
             Property::HoldCurrent => "hold-current",
             Property::CoilTemperature => "coil-temperature",
             Property::CoilPower => "coil-power",
+            Property::SeatTime => "seat-time",
+            Property::ImpactVelocity => "impact-velocity",
+            Property::ArmatureReleaseTime => "armature-release-time",
+            Property::ActuationEnergy => "actuation-energy",
         }
     }
 
@@ -975,6 +1062,10 @@ impl Property {
             Property::HoldCurrent => "hold_current",
             Property::CoilTemperature => "coil_temperature",
             Property::CoilPower => "coil_power",
+            Property::SeatTime => "seat_time",
+            Property::ImpactVelocity => "impact_velocity",
+            Property::ArmatureReleaseTime => "armature_release_time",
+            Property::ActuationEnergy => "actuation_energy",
         }
     }
 
@@ -984,11 +1075,18 @@ impl Property {
         use crate::si::Unit;
         match self {
             Property::PeakSwitchVoltage | Property::OutputBand => Unit::Volt,
-            Property::ClampEnergy | Property::SwitchEnergy => Unit::Joule,
+            Property::ClampEnergy | Property::SwitchEnergy | Property::ActuationEnergy => {
+                Unit::Joule
+            }
+            Property::ImpactVelocity => Unit::MetrePerSecond,
             Property::PeakCurrent | Property::EstimatorError | Property::HoldCurrent => {
                 Unit::Ampere
             }
-            Property::TripLatency | Property::ReleaseTime | Property::PullInTime => Unit::Second,
+            Property::TripLatency
+            | Property::ReleaseTime
+            | Property::PullInTime
+            | Property::SeatTime
+            | Property::ArmatureReleaseTime => Unit::Second,
             Property::CoilTemperature => Unit::Celsius,
             Property::CoilPower => Unit::Watt,
             Property::NoTrip => Unit::None,
@@ -1005,6 +1103,7 @@ impl Property {
             crate::si::Unit::Second => "s",
             crate::si::Unit::Celsius => "°C",
             crate::si::Unit::Watt => "W",
+            crate::si::Unit::MetrePerSecond => "m/s",
             _ => "",
         }
     }

@@ -24,6 +24,7 @@ pub mod emit;
 mod error;
 pub mod firmware;
 pub mod plan;
+mod plan_armature;
 pub mod plant;
 pub mod report;
 mod run;

@@ -97,7 +97,7 @@ fn boost_corner(c: &BoostCorner) -> String {
     )
 }
 
-fn figure<C: Serialize>(
+pub(super) fn figure<C: Serialize>(
     figure: &'static str,
     unit: &'static str,
     b: &Bound<C>,
@@ -556,10 +556,28 @@ fn settings_verdicts(
             coil_corner(&steady.min_at)
         )),
     });
+    let duty = c.hold_duty.get() as f32;
+    if let Some(a) = &coil.armature {
+        // The hold's valley, planned for a freewheel diode only (see below).
+        let freq = f.system.pwm_frequency.get() as f32;
+        let valley = (clamp::ClampKind::of_spec(clamp) == clamp::ClampKind::Freewheel)
+            .then(|| spread.figure(|k, v, t| k.pwm_steady_state(v, t, duty, freq).map(|s| s.min_a)))
+            .transpose()
+            .map_err(err(f, "controller.coil.hold_duty"))?
+            .map(|b| b.min);
+        super::plan_armature::verdicts(
+            f,
+            a,
+            coil.inductance_tolerance.get() as f32,
+            Some(setting),
+            valley,
+            figures,
+            verdicts,
+        )?;
+    }
     let Some(must_hold) = coil.hold_current else {
         return Ok(());
     };
-    let duty = c.hold_duty.get() as f32;
     let check = "lowest hold current ≥ must-hold current".to_string();
     if clamp::ClampKind::of_spec(clamp) != clamp::ClampKind::Freewheel {
         verdicts.push(Verdict {

@@ -3,7 +3,8 @@
 
 use super::{SetupError, clamp, coil};
 use crate::plant::{
-    Boost, BoostSpec, CoilDrive, CoilDriveSpec, CoilSpec, InductanceCurve, SwitchSpec, Thermal,
+    ArmatureFaults, ArmatureSpec, Boost, BoostSpec, CoilDrive, CoilDriveSpec, CoilSpec, GapCurve,
+    InductanceCurve, SwitchSpec, Thermal,
 };
 use crate::scenario::run::Params;
 use crate::scenario::{BoostStage, File};
@@ -69,7 +70,7 @@ pub fn coil_plant_in(
             ));
         }
     };
-    CoilDrive::new(CoilDriveSpec {
+    let spec = CoilDriveSpec {
         coil: CoilSpec {
             curve,
             r20_ohm: coil.resistance.get() * p.resistance,
@@ -85,8 +86,35 @@ pub fn coil_plant_in(
         supply_v,
         source_resistance_ohm: s.supply.source_resistance.get(),
         shunt_ohm: s.sense.shunt.get(),
-    })
+    };
+    match coil.armature {
+        None => CoilDrive::new(spec),
+        Some(a) => CoilDrive::with_armature(spec, armature_spec(&a, p)),
+    }
     .map_err(crate::scenario::run::lenz_err(file, "system", scenario))
+}
+
+/// The plant's armature from `[system.coil.armature]` with a sweep's draw: the inductance
+/// tolerance scales the gap curve as it scales the coil.
+#[must_use]
+pub fn armature_spec(a: &crate::scenario::Armature, p: &Params) -> ArmatureSpec {
+    ArmatureSpec {
+        gap: GapCurve::Reluctance {
+            zero_gap_h: a.zero_gap_inductance.get() * p.inductance,
+            halving_gap_m: a.halving_gap.get(),
+        },
+        saturation_flux_vs: a.saturation_flux.map(|v| v.get()),
+        mass_kg: a.mass.get(),
+        open_gap_m: a.open_gap.get() * p.open_gap,
+        closed_gap_m: a.closed_gap.get(),
+        spring_preload_n: a.spring_preload.get() * p.spring,
+        spring_rate_n_per_m: a.spring_rate.get() * p.spring,
+        damping_n_s_per_m: a.damping.get(),
+        load_n: a.load.get() * p.armature_load,
+        restitution: a.restitution.get(),
+        rest_speed_m_s: a.rest_speed.get(),
+        faults: ArmatureFaults::default(),
+    }
 }
 
 /// The boost plant of a run at `supply_v`.

@@ -53,11 +53,16 @@
 //! Not modelled: the switch's own switching transition (edges are instantaneous), the parasitic
 //! capacitance when a clamp network is fitted, reverse polarity (bridge direction).
 
+mod decay_cache;
+mod moving;
+
+use super::armature_motion::Motion;
 use super::inductance::{InductanceCurve, Magnetisation};
 use super::linalg::{Mat, expm, mul_vec};
 use super::rk::{Rk, StepUnderflow, Stop};
 use super::thermal::Thermal;
 use super::{in_range, non_negative, positive};
+use decay_cache::DecayCache;
 use lenz::Error;
 use serde::{Deserialize, Serialize};
 
@@ -366,6 +371,11 @@ pub struct CoilDrive {
     failure: Option<StepUnderflow>,
     /// While [`CoilDrive::advance_until_below`] runs: the current level it watches for, A.
     watch: Option<f64>,
+    /// The moving armature, if the coil has one (module `moving`).
+    arm: Option<Motion>,
+    /// The integrators of the one-state and the ringing segments with an armature.
+    rk_arm: Rk<6>,
+    rk_arm_ring: Rk<7>,
 }
 
 /// What ended a one-state step.
@@ -377,59 +387,8 @@ enum Ended {
     Topology,
     /// The watched current level.
     Watch,
-}
-
-/// The last few linear one-state segments' constants: `I_∞ = a/b`, `τ = L/b` and
-/// `1 − e^(−t/τ)`, keyed on the exact `(a, b, L)` and on `t` within 10⁻⁹ relative. A PWM hold
-/// repeats the same on and off segments every period, so most segments need neither a
-/// division nor an exponential. The segment lengths of a PWM period differ in their last bits
-/// from period to period (differences of absolute times), so a hit at `t = t₀ + δ` corrects the
-/// stored value exactly to second order: `1 − e^(−(x₀+ε)) = E₀ + (1 − E₀)(1 − e^(−ε))` with
-/// `ε = δ/τ` and `1 − e^(−ε) = ε(1 − ε/2)` to a relative `ε²/6 < 10⁻¹⁸`; the result is within
-/// 2 ulp of a direct evaluation (asserted in the tests).
-#[derive(Debug, Clone, Copy)]
-struct DecayCache {
-    /// `[a, b, L, t, I_∞, τ, 1 − e^(−t/τ), b/L]`; NaN keys (never equal) mark an empty entry.
-    entries: [[f64; 8]; DECAY_CACHE],
-    /// The entry the next miss replaces (round robin).
-    next: usize,
-}
-
-/// Entries of [`DecayCache`]: the on and off segments of a PWM period, split by a sampling
-/// instant.
-const DECAY_CACHE: usize = 4;
-
-/// Largest relative difference of segment lengths that a [`DecayCache`] entry serves.
-const DECAY_CACHE_REL: f64 = 1e-9;
-
-impl Default for DecayCache {
-    fn default() -> Self {
-        Self {
-            entries: [[f64::NAN; 8]; DECAY_CACHE],
-            next: 0,
-        }
-    }
-}
-
-impl DecayCache {
-    #[inline]
-    fn get(&mut self, a: f64, b: f64, l: f64, t: f64) -> (f64, f64, f64) {
-        for e in &self.entries {
-            let dt = t - e[3];
-            if e[0] == a && e[1] == b && e[2] == l && dt.abs() <= DECAY_CACHE_REL * e[3] {
-                let eps = dt * e[7];
-                let em1 = e[6] + (1.0 - e[6]) * (eps * (1.0 - 0.5 * eps));
-                return (e[4], e[5], em1);
-            }
-        }
-        let i_inf = a / b;
-        let tau = l / b;
-        let em1 = -(-t / tau).exp_m1();
-        let k = self.next % DECAY_CACHE;
-        self.entries[k] = [a, b, l, t, i_inf, tau, em1, b / l];
-        self.next = (k + 1) % DECAY_CACHE;
-        (i_inf, tau, em1)
-    }
+    /// Event `j` of the armature ([`Motion::event_fns`]).
+    Armature(usize),
 }
 
 impl CoilDrive {
@@ -497,6 +456,9 @@ impl CoilDrive {
             decay: DecayCache::default(),
             failure: None,
             watch: None,
+            arm: None,
+            rk_arm: Rk::new(1e-11, [1e-15; 6], 1e-7),
+            rk_arm_ring: Rk::new(1e-11, [1e-15; 7], 1e-9),
             spec,
         };
         p.update_resistance();
@@ -550,7 +512,18 @@ impl CoilDrive {
     /// Coil current, A.
     #[must_use]
     pub fn current_a(&self) -> f64 {
-        self.mag.current(self.lam)
+        match &self.arm {
+            Some(m) if m.coupled() => m.current(self.lam, m.gap_m()),
+            _ => self.mag.current(self.lam),
+        }
+    }
+
+    /// Flux linkage at current `i` (at the present gap with an armature), V·s.
+    fn flux_of(&self, i: f64) -> f64 {
+        match &self.arm {
+            Some(m) if m.coupled() => m.flux(i),
+            _ => self.mag.flux(i),
+        }
     }
 
     /// The topology in force.
@@ -592,6 +565,11 @@ impl CoilDrive {
     /// Magnetic energy stored in the coil, J (`∫ i dλ`; `½ L i²` for a linear coil).
     #[must_use]
     pub fn stored_energy_j(&self) -> f64 {
+        if let Some(m) = &self.arm
+            && m.coupled()
+        {
+            return m.magnetic_energy_j(self.lam);
+        }
         match self.mag.linear_h() {
             Some(l) => {
                 let i = self.current_a();
@@ -713,14 +691,16 @@ impl CoilDrive {
             return;
         }
         if on {
-            if self.state == CoilState::Ringing {
-                // Closing onto the charged switch capacitance dumps its energy into the switch.
+            if matches!(self.state, CoilState::Ringing | CoilState::SwitchClamp) {
+                // Closing onto the charged switch capacitance dumps its energy into the switch
+                // (also when it closes while avalanching: the capacitance is at the limit).
                 self.energies.switch_conduction_j += self.capacitor_energy_j();
                 self.v_c = 0.0;
             }
             self.close_off_record();
             self.state = CoilState::On;
             self.event(PlantEventKind::SwitchOn);
+            self.arm_switched(true);
         } else {
             let i = self.current_a();
             self.event(PlantEventKind::SwitchOff);
@@ -747,6 +727,7 @@ impl CoilDrive {
                 self.v_c = self.spec.switch.on_resistance_ohm * i;
             }
             self.after_transition();
+            self.arm_switched(false);
         }
     }
 
@@ -920,6 +901,9 @@ impl CoilDrive {
     /// Advances a one-state segment by at most `span`; returns the time used and what ended
     /// the step.
     fn advance1(&mut self, span: f64) -> (f64, Ended) {
+        if self.arm.is_some() {
+            return self.advance1_arm(span);
+        }
         let s = self.seg1();
         let i0 = self.current_a();
         if let Some(l) = self.mag.linear_h() {
@@ -1010,6 +994,9 @@ impl CoilDrive {
         let Clamp::Unclamped { c_f } = self.spec.clamp else {
             return (span, None);
         };
+        if self.arm.is_some() {
+            return self.advance_ring_arm(span, c_f);
+        }
         let (rsrc, rsh) = (self.spec.source_resistance_ohm, self.spec.shunt_ohm);
         let rl = rsrc + self.r_w + rsh;
         let vs = self.supply_v;
@@ -1195,7 +1182,7 @@ impl CoilDrive {
             }
             let mut watched = false;
             match self.state {
-                CoilState::Idle | CoilState::Open => {
+                CoilState::Idle | CoilState::Open if !self.arm_moving() => {
                     self.t += span;
                 }
                 CoilState::Ringing => {
@@ -1218,7 +1205,8 @@ impl CoilDrive {
                                 self.update_off_record(v);
                             }
                         }
-                        Some(_) => watched = true,
+                        Some(3) => watched = true,
+                        Some(j) => self.arm_event(j - 4),
                         None => {}
                     }
                     self.note_peaks(self.v_c);
@@ -1229,6 +1217,7 @@ impl CoilDrive {
                     match ended {
                         Ended::Topology => self.on_event1(),
                         Ended::Watch => watched = true,
+                        Ended::Armature(j) => self.arm_event(j),
                         Ended::Span => {}
                     }
                     let v = self.switch_voltage_v();
@@ -1284,6 +1273,7 @@ impl CoilDrive {
             }
             _ => {}
         }
+        self.arm_settle();
     }
 
     fn maybe_thermal(&mut self) {
@@ -1322,7 +1312,10 @@ impl CoilDrive {
         }
         let i = self.current_a();
         self.mag = self.mag.scaled(l_factor);
-        self.lam = self.mag.flux(i);
+        if let Some(m) = &mut self.arm {
+            m.scale_inductance(l_factor);
+        }
+        self.lam = self.flux_of(i);
         self.r_scale *= r_factor;
         self.update_resistance();
         self.event(PlantEventKind::Fault);
@@ -1340,6 +1333,10 @@ impl CoilDrive {
         }
         let i = self.current_a();
         self.mag = mag;
+        let (t, supply) = (self.t, self.energies.supply_j);
+        if let Some(m) = &mut self.arm {
+            m.decouple(t, supply);
+        }
         self.lam = self.mag.flux(i);
         self.r_override = Some(residual_r_ohm);
         self.update_resistance();
@@ -1353,6 +1350,7 @@ impl CoilDrive {
         self.lam = 0.0;
         self.state = CoilState::Open;
         self.event(PlantEventKind::Fault);
+        self.arm_settle();
     }
 
     /// Sticks the switch on (it ignores off commands from now on).
@@ -1400,33 +1398,4 @@ fn root_time<const M: usize, E: Fn(&[f64; 3]) -> [f64; M]>(
         t = next;
     }
     hi
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// The cached and corrected `1 − e^(−t/τ)` against a direct evaluation, within 2 ulp, for
-    /// segment lengths that differ from the cached one in their last bits and up to the
-    /// 10⁻⁹ relative window (computed cross-check).
-    #[test]
-    fn decay_cache_matches_a_direct_evaluation() {
-        for (l, b) in [(0.120, 32.31), (0.270, 120.0), (10e-6, 0.065), (1.0, 1e-3)] {
-            for t0 in [2.5e-6, 20e-6, 27.5e-6, 1e-3, 0.1] {
-                let mut c = DecayCache::default();
-                let _ = c.get(24.0, b, l, t0);
-                for rel in [0.0, 1e-16, -3e-16, 1e-12, -5e-11, 9e-10, -9.99e-10] {
-                    let t = t0 * (1.0 + rel);
-                    let (i_inf, tau, em1) = c.get(24.0, b, l, t);
-                    assert_eq!((i_inf, tau), (24.0 / b, l / b));
-                    let want = -(-t / tau).exp_m1();
-                    let ulp = f64::EPSILON * want;
-                    assert!(
-                        (em1 - want).abs() <= 2.0 * ulp,
-                        "L {l}, b {b}, t {t}: {em1} vs {want}"
-                    );
-                }
-            }
-        }
-    }
 }
