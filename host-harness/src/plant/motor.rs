@@ -1,5 +1,6 @@
 //! A brushed DC motor on an H-bridge fed from a supply with source resistance and a bus
-//! capacitor: the oracle for motor firmware (not yet wired into the closed loop).
+//! capacitor: the oracle for motor firmware (in the closed loop through
+//! [`crate::closed_loop::MotorBridge`]).
 //!
 //! # Circuit
 //!
@@ -187,6 +188,8 @@ struct Topology {
     coast: Coast,
     supply_on: bool,
     jammed: bool,
+    /// The winding is open: no current flows in any topology.
+    open: bool,
 }
 
 /// A linear event function `g = c·x`, positive while the topology holds.
@@ -296,6 +299,7 @@ impl MotorPlant {
                 coast: Coast::Blocked,
                 supply_on: true,
                 jammed: false,
+                open: false,
             },
             load_nm: 0.0,
             profile: LoadProfile::default(),
@@ -510,6 +514,43 @@ impl MotorPlant {
         }
     }
 
+    /// Opens the winding now (a broken lead or brush): the current drops to zero at once (the
+    /// energy of the winding's inductance is not tracked) and no current flows from then on.
+    pub fn open_winding(&mut self) {
+        if !self.topo.open {
+            self.topo.open = true;
+            self.x[0] = 0.0;
+            self.topo.coast = Coast::Blocked;
+            self.cache = None;
+        }
+    }
+
+    /// `true` once the winding is open.
+    #[must_use]
+    pub fn winding_open(&self) -> bool {
+        self.topo.open
+    }
+
+    /// Shorts part of the winding now: its inductance and resistance (at 20 °C) are scaled by
+    /// `inductance_factor` and `resistance_factor` (each in `(0, 1]`); the current is kept.
+    /// Refused (`false`) for factors outside that range.
+    pub fn scale_winding(&mut self, inductance_factor: f64, resistance_factor: f64) -> bool {
+        let ok = |f: f64| f > 0.0 && f <= 1.0;
+        if !(ok(inductance_factor) && ok(resistance_factor)) {
+            return false;
+        }
+        self.spec.inductance_h *= inductance_factor;
+        self.spec.r20_ohm *= resistance_factor;
+        self.update_resistance();
+        true
+    }
+
+    /// The motor, bridge and supply as they are now (faults and supply changes included).
+    #[must_use]
+    pub fn spec(&self) -> &MotorSpec {
+        &self.spec
+    }
+
     /// Sets the open-circuit supply voltage (sag, surge), V; negative or non-finite values are
     /// refused (`false`).
     pub fn set_supply_v(&mut self, v: f64) -> bool {
@@ -590,6 +631,9 @@ impl MotorPlant {
     /// `(s_u, c_u, s_b, R)`: `u = s_u·v_b + c_u`, `i_bus = s_b·i`, loop resistance.
     fn drive_terms(&self) -> (f64, f64, f64, f64) {
         let vd2 = 2.0 * self.spec.diode_drop_v;
+        if self.topo.open {
+            return (0.0, 0.0, 0.0, self.r_w);
+        }
         match (self.topo.bridge, self.topo.coast) {
             (BridgeMode::Forward, _) => (1.0, 0.0, 1.0, self.r_driven()),
             (BridgeMode::Reverse, _) => (-1.0, 0.0, -1.0, self.r_driven()),
@@ -605,7 +649,8 @@ impl MotorPlant {
     }
 
     fn blocked(&self) -> bool {
-        self.topo.bridge == BridgeMode::Coast && self.topo.coast == Coast::Blocked
+        self.topo.open
+            || (self.topo.bridge == BridgeMode::Coast && self.topo.coast == Coast::Blocked)
     }
 
     /// The augmented matrix of the topology in force.
@@ -664,6 +709,7 @@ impl MotorPlant {
         let mut w = Vec::new();
         let (_, _, sb, _) = self.drive_terms();
         match (self.topo.bridge, self.topo.coast) {
+            _ if self.topo.open => {}
             (BridgeMode::Coast, Coast::Positive) => {
                 w.push((Watch::CoastZero, [1.0, 0.0, 0.0, 0.0, 0.0]))
             }
