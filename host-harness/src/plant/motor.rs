@@ -1105,6 +1105,47 @@ mod tests {
     }
 
     #[test]
+    fn an_open_winding_carries_no_current_and_the_rotor_coasts_down() {
+        let mut p = vent();
+        p.set_load_torque_nm(0.02);
+        p.settle_forward();
+        let w0 = p.speed_rad_s();
+        p.open_winding();
+        assert!(p.winding_open() && p.current_a() == 0.0);
+        p.set_bridge(BridgeMode::Forward);
+        p.advance_to(0.01);
+        assert_eq!(p.current_a(), 0.0);
+        // No torque from the winding: J dω/dt = −b·ω − T, so after 10 ms the speed is
+        // (w0 + T/b)·e^(−b·t/J) − T/b (first-order ODE, closed form).
+        let (b, t, j) = (1e-6, 0.02, 2e-5);
+        let want = (w0 + t / b) * (-b * 0.01 / j).exp() - t / b;
+        assert!(
+            (p.speed_rad_s() - want).abs() < 1e-9 * w0,
+            "{} {want}",
+            p.speed_rad_s()
+        );
+    }
+
+    #[test]
+    fn shorted_turns_lower_the_winding_and_raise_the_stall_current() {
+        let mut p = vent();
+        assert!(!p.scale_winding(1.5, 0.5) && !p.scale_winding(0.5, 0.0));
+        assert!(p.scale_winding(0.5, 0.5));
+        assert!(
+            (p.spec().r20_ohm - 0.75).abs() < 1e-15 && (p.spec().inductance_h - 1e-3).abs() < 1e-15
+        );
+        p.jam();
+        p.set_bridge(BridgeMode::Forward);
+        p.advance_to(0.1);
+        // Locked rotor: V/R with the remaining resistance (τ_e unchanged: L and R halved).
+        assert!(
+            (p.current_a() - 12.0 / 0.75).abs() < 1e-9,
+            "{}",
+            p.current_a()
+        );
+    }
+
+    #[test]
     fn refuses_bad_values() {
         let mut s = MotorSpec::new(2e-3, 1.5, 0.03, 2e-5);
         s.bus_capacitance_f = 0.0;
