@@ -80,6 +80,25 @@ pub enum Fault {
         /// Extra force, N.
         extra_load_n: f64,
     },
+    /// A motor's rotor locks (speed zero from then on).
+    Jam,
+    /// A motor's load torque steps to a new value (an overload when above the rating).
+    LoadTorque {
+        /// New load torque, N·m.
+        torque_nm: f64,
+    },
+    /// A motor's winding (a lead, a brush) opens.
+    OpenWinding,
+    /// The supply stops taking current back (a series diode, a regulator): the energy a motor
+    /// returns charges the bus capacitor.
+    SupplyCannotSink,
+    /// Part of a motor's winding is shorted: inductance and resistance drop.
+    ShortedWinding {
+        /// Remaining fraction of the inductance (0..1].
+        inductance_factor: f64,
+        /// Remaining fraction of the resistance (0..1].
+        resistance_factor: f64,
+    },
 }
 
 /// A fault at a time, and whether the firmware is required to trip on it.

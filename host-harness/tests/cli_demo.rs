@@ -27,7 +27,10 @@ fn demo_writes_the_report_folder() {
     let relay = text
         .find("relay.toml: demo scenarios in the closed loop")
         .expect("relay runs");
-    assert!(plan < valve && valve < relay);
+    let motor = text
+        .find("motor.toml: demo scenarios in the closed loop")
+        .expect("vent motor runs");
+    assert!(plan < valve && valve < relay && relay < motor);
     let index = out_dir.join("index.html");
     let last = text.trim_end().lines().last().expect("a last line");
     assert_eq!(last, format!("Report written to {}", index.display()));
@@ -72,6 +75,6 @@ fn demo_writes_the_report_folder() {
             .expect("valid JSON");
     assert_eq!(images, plots, "every plot shown inline");
     assert_eq!(results["scenarios"].as_array().map(Vec::len), Some(plots));
-    assert_eq!(results["plans"].as_array().map(Vec::len), Some(3));
+    assert_eq!(results["plans"].as_array().map(Vec::len), Some(4));
     assert!(html.contains("Worst-case plan") && html.contains("invented"));
 }

@@ -67,6 +67,7 @@ fn loop_release_s(mut p: CoilDrive, level_a: f64) -> f64 {
         sensors: sensors(),
         seed: 1,
         demand: vec![(0.0, true), (T_OFF, false)],
+        motor_commands: Vec::new(),
         faults: vec![],
         limits: Limits {
             release: Some(Release {

@@ -28,7 +28,11 @@
 //! - the firmware estimator's largest error against the plant's true current, at every tick
 //!   before the first fault;
 //! - of a coil: pull-in time, the lowest current while held (a lower limit), the winding's
-//!   highest temperature and its mean power while held (`coil_watch`).
+//!   highest temperature and its mean power while held (`coil_watch`);
+//! - of a motor ([`motor`], [`MotorLimits`]): highest bus voltage, time to speed after each
+//!   drive command, jam latency, the largest current during a reversal and the winding's
+//!   highest temperature (`motor_watch`); the motor plant ([`MotorBridge`]) takes the bridge
+//!   direction and brake from the actuation and reads the signed winding current.
 //!
 //! A trip is reported with its cause ([`TripCause`], from the controller's telemetry) and time,
 //! in the run's events and in the `detail` of the trip properties.
@@ -59,9 +63,15 @@ pub mod adc;
 mod armature_watch;
 mod coil_watch;
 pub mod demo;
+pub mod demo_vent;
 mod envelope;
+pub mod motor;
+mod motor_plant;
+mod motor_watch;
 
 pub use adc::AdcChannel;
+pub use motor::{MotorCommand, MotorLimits, MotorProbe, TimeToSpeed};
+pub use motor_plant::MotorBridge;
 
 use crate::faults::{Channel, Fault, FaultAt};
 use crate::plant::{Boost, CoilDrive, StepUnderflow, Stroke, SwitchOff};
@@ -84,6 +94,9 @@ pub struct Sensed {
     pub output_counts: u16,
     /// The application's demand (valve open, rail enabled).
     pub demand: bool,
+    /// The application's motor command ([`motor`]; coast in a run without motor commands).
+    #[serde(default)]
+    pub motor: MotorCommand,
 }
 
 /// How the switch is driven during the next tick.
@@ -100,14 +113,18 @@ pub enum Drive {
     },
 }
 
-/// Bridge direction (the plants here drive one polarity; reverse is reported by the controller
-/// and recorded, not simulated).
+/// Bridge direction: the levels of an H-bridge's two direction pins. The coil and boost plants
+/// drive one polarity (a reverse is recorded, not simulated); the motor plant ([`MotorBridge`])
+/// applies all three.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 pub enum Direction {
     /// Normal polarity.
     Forward,
     /// Reversed polarity.
     Reverse,
+    /// Both legs at the same level: while the switch is on, both low sides conduct (a motor
+    /// brakes); the coil and boost plants treat it as `Forward`.
+    Brake,
 }
 
 /// The controller's output for the next interval.
@@ -138,6 +155,20 @@ impl Actuation {
             drive: Drive::Pwm { duty },
             direction: Direction::Forward,
         }
+    }
+
+    /// A motor bridge: all switches off (coast).
+    pub const COAST: Actuation = Actuation::OFF;
+    /// A motor bridge: both low sides on (brake).
+    pub const BRAKE: Actuation = Actuation {
+        drive: Drive::On,
+        direction: Direction::Brake,
+    };
+
+    /// A motor bridge driving in `direction` with `drive`.
+    #[must_use]
+    pub const fn bridge(direction: Direction, drive: Drive) -> Actuation {
+        Actuation { drive, direction }
     }
 }
 
@@ -171,6 +202,10 @@ pub enum TripCause {
     OutputError,
     /// The armature did not move by the movement detector's deadline.
     StuckArmature,
+    /// The motor's jam detector: a locked rotor, an overload or an open winding.
+    Motor(lenz::kernel::MotorFault),
+    /// A reading outside the sense's valid window (a broken or saturated sense).
+    InvalidReading,
     /// Another cause of the controller's own.
     Other,
 }
@@ -196,6 +231,12 @@ impl std::fmt::Display for TripCause {
             TripCause::StuckSensor => f.write_str("stuck current sensor"),
             TripCause::OutputError => f.write_str("output error"),
             TripCause::StuckArmature => f.write_str("stuck armature"),
+            TripCause::Motor(lenz::kernel::MotorFault::Jam) => f.write_str("motor jam"),
+            TripCause::Motor(lenz::kernel::MotorFault::Overload) => f.write_str("motor overload"),
+            TripCause::Motor(lenz::kernel::MotorFault::OpenWinding) => {
+                f.write_str("open motor winding")
+            }
+            TripCause::InvalidReading => f.write_str("current reading outside its valid window"),
             TripCause::Other => f.write_str("controller's own cause"),
         }
     }
@@ -283,6 +324,15 @@ pub trait Plant {
     fn armature_strokes(&self) -> Option<&[Stroke]> {
         None
     }
+    /// The actuation of the tick that starts now, handed over before the tick's switch edges
+    /// (a motor bridge reads its direction and whether the tick is PWM). Default: ignored.
+    fn set_actuation(&mut self, _act: &Actuation) {}
+    /// Motor quantities now (`None`: the plant has no motor).
+    fn motor(&self) -> Option<MotorProbe> {
+        None
+    }
+    /// Starts a new window of [`MotorProbe::peak_current_since_mark_a`]. Default: nothing.
+    fn motor_mark(&mut self) {}
 }
 
 impl Plant for CoilDrive {
@@ -322,7 +372,12 @@ impl Plant for CoilDrive {
                 self.stick_switch_on();
                 true
             }
-            Fault::LoadStep { .. } => false,
+            Fault::LoadStep { .. }
+            | Fault::Jam
+            | Fault::LoadTorque { .. }
+            | Fault::OpenWinding
+            | Fault::SupplyCannotSink
+            | Fault::ShortedWinding { .. } => false,
             Fault::StuckArmature | Fault::SluggishArmature { .. } | Fault::ExcessLoad { .. } => {
                 let Some(mut f) = self.armature().map(|m| m.spec().faults) else {
                     return false;
@@ -482,6 +537,9 @@ pub struct Limits {
     pub armature_release_time_max_s: Option<f64>,
     /// Highest allowed supply energy per actuation, J.
     pub actuation_energy_max_j: Option<f64>,
+    /// The motor properties' limits (`None`: no motor properties).
+    #[serde(default)]
+    pub motor: Option<MotorLimits>,
 }
 
 /// Pull-in: the current that pulls the armature in, and the longest allowed time to reach it.
@@ -521,6 +579,9 @@ pub struct LoopConfig {
     pub seed: u64,
     /// Demand schedule: `(time_s, demand)`, ascending; demand is off before the first entry.
     pub demand: Vec<(f64, bool)>,
+    /// Motor command schedule: `(time_s, command)`, ascending; coast before the first entry.
+    #[serde(default)]
+    pub motor_commands: Vec<(f64, MotorCommand)>,
     /// Faults.
     pub faults: Vec<FaultAt>,
     /// Limits of the properties.
@@ -624,6 +685,12 @@ pub struct Waveform {
     /// Highest coil (inductor) current since the previous recorded point, A.
     #[serde(default)]
     pub current_max_a: Vec<f64>,
+    /// Rotor speed, rad/s (a motor run; empty otherwise).
+    #[serde(default)]
+    pub speed_rad_s: Vec<f64>,
+    /// Bus voltage, V (a motor run; empty otherwise).
+    #[serde(default)]
+    pub bus_v: Vec<f64>,
 }
 
 /// Something that happened during a run.
@@ -759,6 +826,10 @@ pub fn run<P: Plant, C: Controller>(
     let n_ticks = cfg.duration_ns.div_ceil(cfg.tick_ns);
     let mut next_demand = 0usize;
     let mut want = false;
+    let mut next_cmd = 0usize;
+    let mut motor_cmd = MotorCommand::default();
+    let mut motor_watch = cfg.limits.motor.map(motor_watch::MotorWatch::new);
+    let motor_plant = plant.motor().is_some();
 
     for k in 0..n_ticks {
         let t0 = k * cfg.tick_ns;
@@ -783,6 +854,24 @@ pub fn run<P: Plant, C: Controller>(
             watch.demand(plant, t0_s, want);
             demand = want;
         }
+        let mut cmd_now = motor_cmd;
+        while let Some(&(t_c, c)) = cfg.motor_commands.get(next_cmd) {
+            if ns(t_c) > t0 {
+                break;
+            }
+            cmd_now = c;
+            next_cmd += 1;
+        }
+        if cmd_now != motor_cmd || (k == 0 && next_cmd > 0) {
+            events.push(RunEvent {
+                t_s: t0_s,
+                what: format!("motor command {cmd_now:?}"),
+            });
+            if let Some(w) = &mut motor_watch {
+                w.command(plant, t0_s, cmd_now);
+            }
+            motor_cmd = cmd_now;
+        }
         let sensed = Sensed {
             tick: k,
             time_ns: t0,
@@ -790,6 +879,7 @@ pub fn run<P: Plant, C: Controller>(
             supply_counts: readings[1],
             output_counts: readings[2],
             demand,
+            motor: motor_cmd,
         };
         let act = ctrl.tick(&sensed);
         let telemetry = ctrl.telemetry();
@@ -803,9 +893,14 @@ pub fn run<P: Plant, C: Controller>(
             direction = act.direction;
             events.push(RunEvent {
                 t_s: t0_s,
-                what: format!("direction {direction:?} (polarity not simulated)"),
+                what: if motor_plant {
+                    format!("direction {direction:?}")
+                } else {
+                    format!("direction {direction:?} (polarity not simulated)")
+                },
             });
         }
+        plant.set_actuation(&act);
         if telemetry.tripped && !was_tripped {
             trips += 1;
             trip_ns.get_or_insert(t0);
@@ -881,6 +976,9 @@ pub fn run<P: Plant, C: Controller>(
             }
             observe(plant, te_s, &band_from, &mut band_worst);
             watch.observe(plant, te_s);
+            if let Some(w) = &mut motor_watch {
+                w.observe(plant, te_s);
+            }
             match edge {
                 Edge::Switch(on) => {
                     plant.set_switch(on);
@@ -903,6 +1001,10 @@ pub fn run<P: Plant, C: Controller>(
                         wave.switch_v_max.push(v1);
                         wave.current_min_a.push(i0);
                         wave.current_max_a.push(i1);
+                        if let Some(m) = plant.motor() {
+                            wave.speed_rad_s.push(m.speed_rad_s);
+                            wave.bus_v.push(m.bus_v);
+                        }
                     }
                 }
                 Edge::Fault(idx) => {
@@ -955,9 +1057,13 @@ pub fn run<P: Plant, C: Controller>(
         env.note(plant);
         observe(plant, t1_s, &band_from, &mut band_worst);
         watch.observe(plant, t1_s);
+        if let Some(w) = &mut motor_watch {
+            w.observe(plant, t1_s);
+        }
     }
     let end_s = (n_ticks * cfg.tick_ns) as f64 * NS;
     let coil = watch.finish(plant, end_s);
+    let motor = motor_watch.as_mut().map(|w| w.finish(plant));
     if let Some(from) = release_from {
         // A release still open at the end counts with the time it has taken so far.
         releases_open_max = (n_ticks * cfg.tick_ns) as f64 * NS - from;
@@ -971,9 +1077,12 @@ pub fn run<P: Plant, C: Controller>(
     let mut props = Vec::new();
     let trips_text = trip_text(&trip_list);
     let mk = |name, value: f64, limit: f64, unit, bound: Bound| {
-        let detail = matches!(name, "trip_latency" | "no_trip_in_normal_operation")
-            .then(|| trips_text.clone())
-            .flatten();
+        let detail = matches!(
+            name,
+            "trip_latency" | "no_trip_in_normal_operation" | "jam_latency"
+        )
+        .then(|| trips_text.clone())
+        .flatten();
         Property {
             name,
             value,
@@ -1085,6 +1194,47 @@ pub fn run<P: Plant, C: Controller>(
             if let Some(r) = limit {
                 props.push(mk(name, value, r, unit, Bound::Max));
             }
+        }
+    }
+    if let (Some(m), Some(v)) = (l.motor, motor) {
+        let jam_ns = cfg
+            .faults
+            .iter()
+            .filter(|f| matches!(f.fault, Fault::Jam))
+            .map(|f| ns(f.t_s))
+            .min();
+        let jam_latency = jam_ns.map_or(f64::INFINITY, |tj| {
+            trip_list
+                .iter()
+                .map(|&(t, _)| ns(t))
+                .find(|&t| t >= tj)
+                .map_or(f64::INFINITY, |t| (t - tj) as f64 * NS)
+        });
+        let mut add_m = |name, value: f64, limit: f64, unit, note: Option<&str>| {
+            let mut p = mk(name, value, limit, unit, Bound::Max);
+            if let Some(n) = note {
+                p.detail = Some(n.to_string());
+            }
+            props.push(p);
+        };
+        if let Some(r) = m.bus_voltage_max_v {
+            add_m("bus_voltage", v.bus_max_v, r, "V", None);
+        }
+        if let Some(r) = m.time_to_speed {
+            add_m("time_to_speed", v.time_to_speed_s, r.max_s, "s", None);
+        }
+        if let Some(r) = m.jam_latency_max_s {
+            let note = jam_ns
+                .is_none()
+                .then_some("no jam in the run: nothing measured");
+            add_m("jam_latency", jam_latency, r, "s", note);
+        }
+        if let Some(r) = m.reversal_peak_current_max_a {
+            let note = (!v.reversals).then_some("no reversal in the run: nothing measured");
+            add_m("reversal_peak_current", v.reversal_peak_a, r, "A", note);
+        }
+        if let Some(r) = m.winding_temperature_max_c {
+            add_m("winding_temperature", v.temp_max_c, r, "°C", None);
         }
     }
     Ok(RunResult {

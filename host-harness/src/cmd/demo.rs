@@ -2,8 +2,9 @@
 //!
 //! 1. The worst-case coil plan table of the demo coils (also the whole `--json` output): the
 //!    coil figures of the valve and relay files' own plans, so one description gives both.
-//! 2. For each shipped scenario file (valve, relay, boost rail; built into the binary): its
-//!    plan with verdicts (`lenz plan`) and its scenarios in the closed loop (`lenz sim`).
+//! 2. For each shipped scenario file (valve, relay, boost rail, vent motor; built into the
+//!    binary): its plan with verdicts (`lenz plan`) and its scenarios in the closed loop
+//!    (`lenz sim`).
 //! 3. A report folder (`--out`, default `lenz-report/` in the current directory): `index.html`
 //!    with the plan and result tables linking every scenario's SVG plot (`plots/`) and CSV
 //!    waveform (`csv/`), the JUnit XML and `results.json`; the last line names the page.

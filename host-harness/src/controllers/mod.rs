@@ -6,11 +6,15 @@
 //! - [`valve`]: valve/relay driver ([`lenz::drive::CoilDriver`]): pull-in at full voltage,
 //!   PWM hold, current estimator, plausibility monitor, trip detector, off-timer before
 //!   re-energizing.
+//! - [`motor`]: bridge motor driver ([`lenz::drive::MotorDriver`]): soft start, brake before
+//!   reversal, speed from back-EMF, jam detector.
 //! - [`boost`]: boost regulator ([`lenz::drive::BoostLoop`]): PI voltage loop behind the duty
 //!   limiter.
 
 pub mod boost;
+pub mod motor;
 pub mod valve;
 
 pub use boost::{BoostPlan, BoostRegulator, BoostRegulatorConfig};
+pub use motor::BridgeMotorDriver;
 pub use valve::{PULL_IN_GRACE_S, PWM_MAX_DUTY, ValveDriver, ValveDriverConfig, ValvePlan};

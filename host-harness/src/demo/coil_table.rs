@@ -10,6 +10,7 @@ pub const SCENARIO_FILES: &[(&str, &str)] = &[
     ("valve.toml", include_str!("../../scenarios/valve.toml")),
     ("relay.toml", include_str!("../../scenarios/relay.toml")),
     ("boost.toml", include_str!("../../scenarios/boost.toml")),
+    ("motor.toml", include_str!("../../scenarios/motor.toml")),
 ];
 
 /// One worst-case figure of a demo coil (`lenz demo --json` prints the list).

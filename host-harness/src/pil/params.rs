@@ -128,7 +128,7 @@ pub fn block(file: &File, temp_c: f64) -> Result<Vec<u8>, RunSetupError> {
             postcard::to_stdvec(&raw)
                 .map_err(|e| RunSetupError(format!("encoding the parameter block: {e}")))
         }
-        Controller::Boost(_) => Ok(Vec::new()),
+        Controller::Boost(_) | Controller::Motor(_) => Ok(Vec::new()),
         Controller::Own => Err(RunSetupError(
             "key `controller`: a firmware image's parameter block is planned from \
              [controller.coil]; the file has no [controller]"

@@ -18,8 +18,8 @@
 //!   reverse current (DCM), output capacitor with ESR and a resistive load.
 //! - [`motor`]: a brushed DC motor on an H-bridge (drive both ways, brake, coast through the
 //!   diodes, PWM with either decay), load torque profile with a jam, copper heating, supply
-//!   with source resistance and bus capacitor that may be unable to sink current. Standalone:
-//!   not yet a closed-loop plant.
+//!   with source resistance and bus capacitor that may be unable to sink current; in the
+//!   closed loop behind [`crate::closed_loop::MotorBridge`].
 //!
 //! # Integration
 //!

@@ -1,5 +1,6 @@
 //! A brushed DC motor on an H-bridge fed from a supply with source resistance and a bus
-//! capacitor: the oracle for motor firmware (not yet wired into the closed loop).
+//! capacitor: the oracle for motor firmware (in the closed loop through
+//! [`crate::closed_loop::MotorBridge`]).
 //!
 //! # Circuit
 //!
@@ -187,6 +188,8 @@ struct Topology {
     coast: Coast,
     supply_on: bool,
     jammed: bool,
+    /// The winding is open: no current flows in any topology.
+    open: bool,
 }
 
 /// A linear event function `g = c·x`, positive while the topology holds.
@@ -296,6 +299,7 @@ impl MotorPlant {
                 coast: Coast::Blocked,
                 supply_on: true,
                 jammed: false,
+                open: false,
             },
             load_nm: 0.0,
             profile: LoadProfile::default(),
@@ -510,6 +514,43 @@ impl MotorPlant {
         }
     }
 
+    /// Opens the winding now (a broken lead or brush): the current drops to zero at once (the
+    /// energy of the winding's inductance is not tracked) and no current flows from then on.
+    pub fn open_winding(&mut self) {
+        if !self.topo.open {
+            self.topo.open = true;
+            self.x[0] = 0.0;
+            self.topo.coast = Coast::Blocked;
+            self.cache = None;
+        }
+    }
+
+    /// `true` once the winding is open.
+    #[must_use]
+    pub fn winding_open(&self) -> bool {
+        self.topo.open
+    }
+
+    /// Shorts part of the winding now: its inductance and resistance (at 20 °C) are scaled by
+    /// `inductance_factor` and `resistance_factor` (each in `(0, 1]`); the current is kept.
+    /// Refused (`false`) for factors outside that range.
+    pub fn scale_winding(&mut self, inductance_factor: f64, resistance_factor: f64) -> bool {
+        let ok = |f: f64| f > 0.0 && f <= 1.0;
+        if !(ok(inductance_factor) && ok(resistance_factor)) {
+            return false;
+        }
+        self.spec.inductance_h *= inductance_factor;
+        self.spec.r20_ohm *= resistance_factor;
+        self.update_resistance();
+        true
+    }
+
+    /// The motor, bridge and supply as they are now (faults and supply changes included).
+    #[must_use]
+    pub fn spec(&self) -> &MotorSpec {
+        &self.spec
+    }
+
     /// Sets the open-circuit supply voltage (sag, surge), V; negative or non-finite values are
     /// refused (`false`).
     pub fn set_supply_v(&mut self, v: f64) -> bool {
@@ -590,6 +631,9 @@ impl MotorPlant {
     /// `(s_u, c_u, s_b, R)`: `u = s_u·v_b + c_u`, `i_bus = s_b·i`, loop resistance.
     fn drive_terms(&self) -> (f64, f64, f64, f64) {
         let vd2 = 2.0 * self.spec.diode_drop_v;
+        if self.topo.open {
+            return (0.0, 0.0, 0.0, self.r_w);
+        }
         match (self.topo.bridge, self.topo.coast) {
             (BridgeMode::Forward, _) => (1.0, 0.0, 1.0, self.r_driven()),
             (BridgeMode::Reverse, _) => (-1.0, 0.0, -1.0, self.r_driven()),
@@ -605,7 +649,8 @@ impl MotorPlant {
     }
 
     fn blocked(&self) -> bool {
-        self.topo.bridge == BridgeMode::Coast && self.topo.coast == Coast::Blocked
+        self.topo.open
+            || (self.topo.bridge == BridgeMode::Coast && self.topo.coast == Coast::Blocked)
     }
 
     /// The augmented matrix of the topology in force.
@@ -664,6 +709,7 @@ impl MotorPlant {
         let mut w = Vec::new();
         let (_, _, sb, _) = self.drive_terms();
         match (self.topo.bridge, self.topo.coast) {
+            _ if self.topo.open => {}
             (BridgeMode::Coast, Coast::Positive) => {
                 w.push((Watch::CoastZero, [1.0, 0.0, 0.0, 0.0, 0.0]))
             }
@@ -1055,6 +1101,47 @@ mod tests {
             p.events()
                 .iter()
                 .any(|e| e.kind == MotorEventKind::Jammed && e.t_s == 0.1)
+        );
+    }
+
+    #[test]
+    fn an_open_winding_carries_no_current_and_the_rotor_coasts_down() {
+        let mut p = vent();
+        p.set_load_torque_nm(0.02);
+        p.settle_forward();
+        let w0 = p.speed_rad_s();
+        p.open_winding();
+        assert!(p.winding_open() && p.current_a() == 0.0);
+        p.set_bridge(BridgeMode::Forward);
+        p.advance_to(0.01);
+        assert_eq!(p.current_a(), 0.0);
+        // No torque from the winding: J dω/dt = −b·ω − T, so after 10 ms the speed is
+        // (w0 + T/b)·e^(−b·t/J) − T/b (first-order ODE, closed form).
+        let (b, t, j) = (1e-6, 0.02, 2e-5);
+        let want = (w0 + t / b) * (-b * 0.01 / j).exp() - t / b;
+        assert!(
+            (p.speed_rad_s() - want).abs() < 1e-9 * w0,
+            "{} {want}",
+            p.speed_rad_s()
+        );
+    }
+
+    #[test]
+    fn shorted_turns_lower_the_winding_and_raise_the_stall_current() {
+        let mut p = vent();
+        assert!(!p.scale_winding(1.5, 0.5) && !p.scale_winding(0.5, 0.0));
+        assert!(p.scale_winding(0.5, 0.5));
+        assert!(
+            (p.spec().r20_ohm - 0.75).abs() < 1e-15 && (p.spec().inductance_h - 1e-3).abs() < 1e-15
+        );
+        p.jam();
+        p.set_bridge(BridgeMode::Forward);
+        p.advance_to(0.1);
+        // Locked rotor: V/R with the remaining resistance (τ_e unchanged: L and R halved).
+        assert!(
+            (p.current_a() - 12.0 / 0.75).abs() < 1e-9,
+            "{}",
+            p.current_a()
         );
     }
 

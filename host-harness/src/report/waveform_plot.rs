@@ -1,6 +1,7 @@
 //! The waveform plot of one scenario: full-run panels (coil current with the firmware's
-//! estimate, switch voltage, output and supply voltage, the drive) and a zoomed panel around
-//! each switch-off (demand off) and each fault.
+//! estimate, switch voltage, output and supply voltage, the drive; for a motor run the winding
+//! current, the rotor speed and the bus voltage instead of the first three) and a zoomed panel
+//! around each switch-off (demand off) and each fault.
 //!
 //! The switch voltage and the coil current are drawn as a band from their lowest to their
 //! highest value between two recorded points (the envelope the closed loop records from the
@@ -359,30 +360,69 @@ pub fn waveform_svg(o: &Outcome) -> Result<String, String> {
             color: PURPLE,
             steps: false,
         }];
-        panel(&a, cur_title, cur_axis, &t_ms, x_full, &current, None, ev)?;
-        panel(
-            &b,
-            "switch voltage (band: min..max between samples)",
-            "Switch voltage (V)",
-            &t_ms,
-            x_full,
-            &switch,
-            None,
-            ev,
-        )?;
-        panel(
-            &c,
-            "output voltage and supply",
-            "Voltage (V)",
-            &t_ms,
-            x_full,
-            &[
-                Trace::line("output", &w.output_v, GREEN),
-                Trace::line("supply", &w.supply_v, GREY),
-            ],
-            None,
-            ev,
-        )?;
+        if w.speed_rad_s.is_empty() {
+            panel(&a, cur_title, cur_axis, &t_ms, x_full, &current, None, ev)?;
+            panel(
+                &b,
+                "switch voltage (band: min..max between samples)",
+                "Switch voltage (V)",
+                &t_ms,
+                x_full,
+                &switch,
+                None,
+                ev,
+            )?;
+            panel(
+                &c,
+                "output voltage and supply",
+                "Voltage (V)",
+                &t_ms,
+                x_full,
+                &[
+                    Trace::line("output", &w.output_v, GREEN),
+                    Trace::line("supply", &w.supply_v, GREY),
+                ],
+                None,
+                ev,
+            )?;
+        } else {
+            // A motor run: the winding current (signed, positive forward), the rotor speed
+            // and the bus voltage.
+            let winding = [Trace {
+                label: "winding current",
+                ..current[0]
+            }];
+            panel(
+                &a,
+                "winding current (positive forward; band: min..max between samples)",
+                "Winding current (A)",
+                &t_ms,
+                x_full,
+                &winding,
+                None,
+                ev,
+            )?;
+            panel(
+                &b,
+                "rotor speed (positive forward)",
+                "Speed (rad/s)",
+                &t_ms,
+                x_full,
+                &[Trace::line("speed", &w.speed_rad_s, GREEN)],
+                None,
+                ev,
+            )?;
+            panel(
+                &c,
+                "bus voltage (the bridge rail)",
+                "Voltage (V)",
+                &t_ms,
+                x_full,
+                &[Trace::line("bus", &w.bus_v, PURPLE)],
+                None,
+                ev,
+            )?;
+        }
         panel(
             &d,
             "drive commanded by the firmware (0 off, 1 on, PWM duty between)",

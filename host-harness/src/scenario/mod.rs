@@ -10,7 +10,7 @@
 //! pwm_frequency = "20kHz"
 //! [system.supply]                # min, nominal, max, source_resistance
 //! [system.temperature]           # min, nominal, max (°C)
-//! [system.coil]                  # or [system.boost]
+//! [system.coil]                  # or [system.boost], or [system.motor]
 //! [system.clamp.freewheel]       # one clamp kind: freewheel, diode-zener, across-switch,
 //!                                # resistor-diode, unclamped
 //! [system.switch]                # on_resistance, breakdown
@@ -18,7 +18,8 @@
 //!                                # noise, voltage_divider
 //! [system.ratings]               # switch_voltage, switch_current, switch_energy, clamp_energy
 //! [system.requirements]          # release_time, pull_in_time, output_ripple, saturation_margin
-//! [controller.coil]              # or [controller.boost]: the example controller's parameters
+//! [controller.coil]              # or [controller.boost], [controller.motor]: the example
+//!                                # controller's parameters
 //!                                # (optional: a file for your own controller has none)
 //! [tolerances]                   # inductance = { dist = "normal", rel = 0.03 }, ...
 //! [[scenario]]                   # name, duration, supply, temperature, noise_seed
@@ -32,6 +33,17 @@
 //! properties: `peak-switch-voltage`, `clamp-energy`, `switch-energy`, `peak-current`,
 //! `trip-latency`, `no-trip`, `release-time`, `output-band`, `estimator-error`,
 //! `pull-in-time`, `hold-current`, `coil-temperature`, `coil-power` ([`Property`]).
+//!
+//! A motor bridge (`[system.motor]`: a brushed DC motor on an H-bridge, see
+//! [`MotorStage`]; the bridge's switches are `[system.switch]`, the bus capacitor's rating
+//! `[system.ratings] bus_voltage`) takes the commands `forward` and `reverse` (with an optional
+//! `duty`, default 1), `brake` and `coast` (a coil's `on` and `off` do not apply), load torque
+//! steps (`load_torque = "30mNm"`), the faults `jam`, `overload` (with `load_torque` above the
+//! motor's `rated_torque`), `open-winding`, `shorted-winding` (with `factor`) and
+//! `supply-cannot-sink` besides the sensor and supply faults, and the properties
+//! `bus-voltage`, `time-to-speed` (with `speed` in rad/s), `jam-latency`,
+//! `reversal-peak-current`, `winding-temperature`, `peak-current` and `no-trip`
+//! (`host-harness/scenarios/motor.toml`).
 //!
 //! Values take SI prefixes and an optional unit symbol as strings (`"120mH"`, `"4.7u"`), or
 //! plain TOML numbers in the base unit. The shipped files in `host-harness/scenarios/` are
@@ -65,6 +77,7 @@ pub mod position;
 pub mod quantity;
 pub mod run;
 pub mod schema;
+mod schema_motor;
 pub mod timing;
 
 use std::fmt;
@@ -72,7 +85,8 @@ use std::path::Path;
 
 pub use schema::{
     Action, Armature, BoostController, BoostStage, Check, ClampSpec, Coil, CoilController, Command,
-    Controller, Dist, Event, Fault, FaultSpec, File, Property, Scenario, System,
+    Controller, Dist, Event, Fault, FaultSpec, File, MotorController, MotorStage, Property,
+    PwmDecay, Scenario, System,
 };
 
 /// A problem in a scenario file, with its position.
@@ -354,6 +368,24 @@ fn supply_out_of_range(f: &File, v: f64) -> Option<String> {
 /// that apply to the kind of system.
 fn check_consistency(f: &File) -> Result<(), Inconsistency> {
     let is_boost = f.system.boost.is_some();
+    let is_motor = f.system.motor.is_some();
+    match (&f.controller, is_motor) {
+        (Controller::Motor(_), false) => {
+            return Err((
+                "controller.motor".into(),
+                Some(Place::literal("[controller")),
+                "a motor controller needs [system.motor]".into(),
+            ));
+        }
+        (Controller::Coil(_) | Controller::Boost(_), true) => {
+            return Err((
+                "controller".into(),
+                Some(Place::literal("[controller")),
+                "a motor bridge needs [controller.motor] (or no [controller] for your own)".into(),
+            ));
+        }
+        _ => {}
+    }
     match (&f.controller, is_boost) {
         (Controller::Coil(_), true) => {
             return Err((
@@ -445,7 +477,46 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                     problem,
                 ));
             }
+            let motor_fault = matches!(
+                e.action,
+                Action::Fault(
+                    FaultSpec::Jam
+                        | FaultSpec::Overload(_)
+                        | FaultSpec::OpenWinding
+                        | FaultSpec::SupplyCannotSink
+                        | FaultSpec::ShortedWinding { .. }
+                ) | Action::LoadTorque(_)
+            );
             let bad = match e.action {
+                Action::Command(c) if c.is_motor() && !is_motor => {
+                    Some("forward, reverse, brake and coast apply to a motor ([system.motor])")
+                }
+                Action::Command(c) if !c.is_motor() && is_motor => Some(
+                    "a motor takes `command = \"forward\"`, \"reverse\", \"brake\" or \"coast\"",
+                ),
+                _ if motor_fault && !is_motor => {
+                    Some("motor faults and load torque steps apply to a motor ([system.motor])")
+                }
+                Action::Fault(FaultSpec::Overload(t))
+                    if f.system.motor.is_some_and(|m| {
+                        t <= m.rated_torque.map_or(m.load_torque.get(), |r| r.get())
+                    }) =>
+                {
+                    Some(
+                        "an overload steps the load torque above the motor's rating \
+                         (`rated_torque`, else `load_torque` of [system.motor]): raise `load_torque`",
+                    )
+                }
+                Action::Load(_) | Action::Fault(FaultSpec::SwitchStuckOn) if is_motor => {
+                    Some("does not apply to a motor bridge")
+                }
+                Action::Fault(
+                    FaultSpec::ShortedCoil { .. }
+                    | FaultSpec::ShortedTurns { .. }
+                    | FaultSpec::OpenCoil,
+                ) if is_motor => {
+                    Some("coil faults apply to a coil drive: use open-winding or shorted-winding")
+                }
                 Action::Load(_) if !is_boost => Some("a load step applies to a boost stage"),
                 Action::Fault(
                     FaultSpec::ShortedCoil { .. }
@@ -469,9 +540,55 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
             .events
             .iter()
             .any(|e| matches!(e.action, Action::Command(Command::On)));
+        let drives = s.events.iter().any(|e| {
+            matches!(
+                e.action,
+                Action::Command(Command::Forward | Command::Reverse)
+            )
+        });
+        let jams = s
+            .events
+            .iter()
+            .any(|e| matches!(e.action, Action::Fault(FaultSpec::Jam)));
+        let reverses = {
+            let mut order: Vec<&Event> = s.events.iter().collect();
+            order.sort_by(|a, b| a.at.get().total_cmp(&b.at.get()));
+            let mut last = None;
+            let mut any = false;
+            for e in order {
+                if let Action::Command(c @ (Command::Forward | Command::Reverse)) = e.action {
+                    any |= last.is_some_and(|l| l != c);
+                    last = Some(c);
+                }
+            }
+            any
+        };
         for (j, c) in s.checks.iter().enumerate() {
             let key = format!("scenario[{k}].check[{j}].property");
             let bad = match c.property {
+                p if p.is_motor() && !is_motor => Some("applies to a motor ([system.motor])"),
+                Property::TimeToSpeed if !drives => Some(
+                    "needs an event with `command = \"forward\"` or \"reverse\": without one it checks nothing",
+                ),
+                Property::JamLatency if !jams => {
+                    Some("needs an event with `fault = \"jam\"`: without one it checks nothing")
+                }
+                Property::ReversalPeakCurrent if !reverses => Some(
+                    "needs a `forward` and a later `reverse` command (or the other way round): \
+                     without a reversal it checks nothing",
+                ),
+                Property::ReleaseTime
+                | Property::ClampEnergy
+                | Property::EstimatorError
+                | Property::PullInTime
+                | Property::HoldCurrent
+                | Property::CoilTemperature
+                | Property::CoilPower
+                | Property::OutputBand
+                    if is_motor =>
+                {
+                    Some("applies to a coil drive or a boost stage, not to a motor bridge")
+                }
                 Property::OutputBand if !is_boost => Some("output-band applies to a boost stage"),
                 Property::ReleaseTime
                 | Property::ClampEnergy

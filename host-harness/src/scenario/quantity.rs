@@ -44,6 +44,10 @@ units! {
     Farad => Unit::Farad, "F";
     Joule => Unit::Joule, "J";
     Celsius => Unit::Celsius, "°C";
+    NewtonMetre => Unit::NewtonMetre, "N·m";
+    NewtonMetrePerAmpere => Unit::NewtonMetrePerAmpere, "N·m/A";
+    KilogramSquareMetre => Unit::KilogramSquareMetre, "kg·m²";
+    NewtonMetreSecondPerRadian => Unit::NewtonMetreSecondPerRadian, "N·m·s/rad";
     Plain => Unit::None, "";
     Metre => Unit::Metre, "m";
     Newton => Unit::Newton, "N";

@@ -26,10 +26,12 @@ use super::schema::{
     Action, BoostStage, ClampSpec, Command, Dist, FaultSpec, File, Property, RangeTolerance,
     RelTolerance, Scenario,
 };
-use crate::closed_loop::{self, Band, Limits, LoopConfig, Release, RunResult};
+use crate::closed_loop::{
+    self, Band, Limits, LoopConfig, MotorCommand, MotorLimits, Release, RunResult, TimeToSpeed,
+};
 use crate::controllers::{
-    BoostPlan, BoostRegulator, BoostRegulatorConfig, PULL_IN_GRACE_S, PWM_MAX_DUTY, ValveDriver,
-    ValveDriverConfig, ValvePlan,
+    BoostPlan, BoostRegulator, BoostRegulatorConfig, BridgeMotorDriver, PULL_IN_GRACE_S,
+    PWM_MAX_DUTY, ValveDriver, ValveDriverConfig, ValvePlan,
 };
 use crate::faults::{Channel, Fault, FaultAt};
 use crate::plant::Boost;
@@ -55,11 +57,21 @@ pub struct Params {
     /// Seed of the ADC noise (`None`: the scenario's).
     pub noise_seed: Option<u64>,
     /// Armature open-gap multiplier.
+    #[serde(default = "one")]
     pub open_gap: f64,
     /// Armature spring (preload and rate) multiplier.
+    #[serde(default = "one")]
     pub spring: f64,
     /// Armature load multiplier.
+    #[serde(default = "one")]
     pub armature_load: f64,
+    /// Torque constant multiplier (a motor).
+    #[serde(default = "one")]
+    pub torque_constant: f64,
+}
+
+fn one() -> f64 {
+    1.0
 }
 
 impl Params {
@@ -76,6 +88,7 @@ impl Params {
         open_gap: 1.0,
         spring: 1.0,
         armature_load: 1.0,
+        torque_constant: 1.0,
     };
 
     /// The parameters of run `index` of a sweep with `seed` (module docs).
@@ -88,6 +101,8 @@ impl Params {
         let mut u = || rng.random::<f64>();
         let (ul, ur, uc, ug, uld, us, ut) = (u(), u(), u(), u(), u(), u(), u());
         let noise_seed = rng.random::<u64>();
+        // Draws added later come after these, so earlier runs keep their parameters.
+        let uk = rng.random::<f64>();
         // Appended after the draws above, so earlier sweeps keep their parameters.
         let (ugap, uspring, uaload) = (rng.random(), rng.random(), rng.random());
         let rel = |tol: &Option<RelTolerance>, u: f64| {
@@ -114,6 +129,7 @@ impl Params {
             open_gap: rel(&t.open_gap, ugap),
             spring: rel(&t.spring, uspring),
             armature_load: rel(&t.armature_load, uaload),
+            torque_constant: rel(&t.torque_constant, uk),
         }
     }
 }
@@ -289,6 +305,11 @@ pub(crate) fn file_key(file: &File, scenario: Option<usize>, param: &str) -> Opt
         };
         Some(format!("system.clamp.{kind}.{field}"))
     };
+    if s.motor.is_some()
+        && let Some(k) = motor_key(param)
+    {
+        return Some(k.to_string());
+    }
     let key = match param {
         "temp_c" | "ambient_c" => {
             return Some(match sc {
@@ -363,6 +384,32 @@ pub(crate) fn file_key(file: &File, scenario: Option<usize>, param: &str) -> Opt
     Some(key.to_string())
 }
 
+/// The file key of a motor bridge's plan, plant or driver parameter.
+fn motor_key(param: &str) -> Option<&'static str> {
+    Some(match param {
+        "inductance_h" | "l_h" => "system.motor.inductance",
+        "r20_ohm" | "resistance_ohm" => "system.motor.resistance",
+        "torque_constant_nm_per_a" => "system.motor.torque_constant",
+        "inertia_kg_m2" => "system.motor.inertia",
+        "friction_nm_s_per_rad" => "system.motor.friction",
+        "load_torque_nm" => "system.motor.load_torque",
+        "diode_drop_v" => "system.motor.diode_drop",
+        "bus_capacitance_f" | "capacitance_f" => "system.motor.bus_capacitance",
+        "r_th_k_per_w" => "system.motor.thermal_resistance",
+        "c_th_j_per_k" => "system.motor.thermal_capacitance",
+        "bridge_resistance_ohm" => "system.switch.on_resistance",
+        "current_limit_a" => "controller.motor.current_limit",
+        "dead_time_s" => "controller.motor.dead_time",
+        "reverse_speed_rad_s" => "controller.motor.reverse_speed",
+        "probe_interval_s" => "controller.motor.probe_interval",
+        "jam_current_a" => "controller.motor.jam_current",
+        "jam_speed_rad_s" => "controller.motor.jam_speed",
+        "persistence_s" => "controller.motor.jam_time",
+        "blanking_s" => "controller.motor.start_blanking",
+        _ => return None,
+    })
+}
+
 /// The operating point of a run.
 pub(crate) struct Point {
     /// Supply, V.
@@ -402,6 +449,7 @@ pub(crate) fn loop_config(
 ) -> LoopConfig {
     let s = &file.system;
     let mut demand = Vec::new();
+    let mut motor_commands = Vec::new();
     let mut faults = Vec::new();
     let mut supply_now = pt.supply_v;
     let mut events: Vec<_> = sc.events.iter().collect();
@@ -409,10 +457,24 @@ pub(crate) fn loop_config(
     for e in events {
         let t_s = e.at.get();
         let fault = match e.action {
+            Action::Command(c) if c.is_motor() => {
+                let duty_q16 = (e.duty.clamp(0.0, 1.0) * 65_536.0).round() as i32;
+                motor_commands.push((
+                    t_s,
+                    match c {
+                        Command::Forward => MotorCommand::Forward { duty_q16 },
+                        Command::Reverse => MotorCommand::Reverse { duty_q16 },
+                        Command::Brake => MotorCommand::Brake,
+                        _ => MotorCommand::Coast,
+                    },
+                ));
+                continue;
+            }
             Action::Command(c) => {
                 demand.push((t_s, c == Command::On));
                 continue;
             }
+            Action::LoadTorque(t) => Fault::LoadTorque { torque_nm: t },
             Action::Supply(v, ramp_s) => {
                 let f = if v < supply_now {
                     Fault::SupplySag {
@@ -457,6 +519,14 @@ pub(crate) fn loop_config(
                     channel: channel(c),
                     noise_rms_lsb: n,
                 },
+                FaultSpec::Jam => Fault::Jam,
+                FaultSpec::Overload(t) => Fault::LoadTorque { torque_nm: t },
+                FaultSpec::OpenWinding => Fault::OpenWinding,
+                FaultSpec::SupplyCannotSink => Fault::SupplyCannotSink,
+                FaultSpec::ShortedWinding { factor } => Fault::ShortedWinding {
+                    inductance_factor: factor,
+                    resistance_factor: factor,
+                },
             },
         };
         faults.push(FaultAt {
@@ -467,9 +537,30 @@ pub(crate) fn loop_config(
     }
     let mut limits = Limits::default();
     let mut pull_in_max = None;
+    let mut motor = s.motor.map(|_| MotorLimits::default());
     for c in &sc.checks {
         let m = Some(c.max);
+        if let Some(ml) = &mut motor {
+            match c.property {
+                Property::BusVoltage => ml.bus_voltage_max_v = m,
+                Property::TimeToSpeed => {
+                    ml.time_to_speed = c.speed.map(|speed_rad_s| TimeToSpeed {
+                        speed_rad_s,
+                        max_s: c.max,
+                    });
+                }
+                Property::JamLatency => ml.jam_latency_max_s = m,
+                Property::ReversalPeakCurrent => ml.reversal_peak_current_max_a = m,
+                Property::WindingTemperature => ml.winding_temperature_max_c = m,
+                _ => {}
+            }
+        }
         match c.property {
+            Property::BusVoltage
+            | Property::TimeToSpeed
+            | Property::JamLatency
+            | Property::ReversalPeakCurrent
+            | Property::WindingTemperature => {}
             Property::PeakSwitchVoltage => limits.switch_voltage_rating_v = m,
             Property::ClampEnergy => limits.clamp_energy_rating_j = m,
             Property::SwitchEnergy => limits.switch_energy_rating_j = m,
@@ -508,6 +599,7 @@ pub(crate) fn loop_config(
             Property::ActuationEnergy => limits.actuation_energy_max_j = m,
         }
     }
+    limits.motor = motor;
     limits.pull_in = s.coil.map(|k| closed_loop::PullIn {
         current_a: k.pull_in_current.get(),
         max_s: pull_in_max,
@@ -520,6 +612,7 @@ pub(crate) fn loop_config(
         sensors: crate::system::sense::actual(file, p),
         seed: p.noise_seed.unwrap_or(sc.noise_seed),
         demand,
+        motor_commands,
         faults,
         limits,
         record_every: match record {
@@ -699,9 +792,26 @@ pub fn run(
                     .map_err(|e| RunSetupError(format!("controller.boost: {e}")))
             })
         }
+        super::Controller::Motor(_) => crate::system::run_fallible(file, index, p, record, |fw| {
+            let m = fw.motor()?;
+            let settings = m.settings.ok_or_else(|| {
+                RunSetupError(
+                    "controller: the example motor driver needs [controller.motor]".into(),
+                )
+            })?;
+            let params = fw.motor_driver_params(file, &settings)?;
+            let cfg = lenz::drive::MotorDriverConfig::new(&params).map_err(lenz_err(
+                file,
+                "controller.motor",
+                None,
+            ))?;
+            BridgeMotorDriver::new(cfg, PWM_MAX_DUTY)
+                .map_err(|e| RunSetupError(format!("controller.motor: {e:?}")))
+        }),
         super::Controller::Own => Err(RunSetupError(
             "controller: the file has no [controller]; the command line runs only the built-in \
-             example controllers ([controller.coil] or [controller.boost]); run your own \
+             example controllers ([controller.coil], [controller.boost] or [controller.motor]); \
+             run your own \
              controller from your tests with lenz_harness::System"
                 .into(),
         )),
@@ -744,6 +854,13 @@ pub fn run_with<C: closed_loop::Controller>(
         )),
         other => RunSetupError(format!("key `scenario[{index}]`: {other}")),
     };
+    if let Some(m) = &file.system.motor {
+        let mut plant =
+            crate::system::motor::plant(file, Some(index), m, p, pt.supply_v, pt.temp_c)?;
+        let mut ctrl = make(pt.temp_c)?;
+        let r = closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err)?;
+        return Ok((r, ctrl));
+    }
     if let Some(b) = &file.system.boost {
         let mut plant = boost_plant(file, b, p, pt.supply_v)?;
         plant.settle_off();

@@ -8,9 +8,10 @@
 use serde::{Deserialize, Serialize};
 
 use super::quantity::{
-    Ampere, Celsius, Farad, Henry, Joule, Kilogram, Metre, Newton, NewtonPerMetre,
+    Ampere, Celsius, Farad, Henry, Joule, Kilogram, Metre, Newton, NewtonMetre, NewtonPerMetre,
     NewtonSecondPerMetre, NonNeg, Ohm, Plain, Pos, Q, Second, Volt,
 };
+pub use super::schema_motor::{MotorController, MotorStage, PwmDecay};
 
 /// A whole scenario file.
 #[derive(Debug, Clone, Deserialize, Serialize)]
@@ -53,7 +54,10 @@ pub struct System {
     pub clamp: Option<ClampSpec>,
     /// The boost stage; absent for a coil drive.
     pub boost: Option<BoostStage>,
-    /// The switch.
+    /// The motor on an H-bridge; absent for a coil drive or a boost stage.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub motor: Option<MotorStage>,
+    /// The switch (of a bridge: each of its four switches).
     pub switch: Switch,
     /// The current sense chain and ADC.
     pub sense: Sense,
@@ -77,6 +81,7 @@ struct RawSystem {
     coil: Option<Coil>,
     clamp: Option<ClampSpec>,
     boost: Option<BoostStage>,
+    motor: Option<MotorStage>,
     switch: Switch,
     sense: Sense,
     #[serde(default)]
@@ -88,11 +93,22 @@ struct RawSystem {
 impl TryFrom<RawSystem> for System {
     type Error = String;
     fn try_from(r: RawSystem) -> Result<Self, String> {
+        let kinds = usize::from(r.coil.is_some())
+            + usize::from(r.boost.is_some())
+            + usize::from(r.motor.is_some());
+        if r.motor.is_some() && kinds > 1 {
+            return Err(
+                "give one of [system.coil], [system.boost] or [system.motor], not several".into(),
+            );
+        }
+        if r.motor.is_some() && r.clamp.is_some() {
+            return Err("key `clamp` applies to a coil drive, not to a motor bridge".into());
+        }
         match (&r.coil, &r.boost) {
             (Some(_), Some(_)) => {
                 return Err("give either [system.coil] or [system.boost], not both".into());
             }
-            (None, None) => {
+            (None, None) if r.motor.is_none() => {
                 return Err("missing key `coil` or `boost`: the system needs one".into());
             }
             (Some(_), None) if r.clamp.is_none() => {
@@ -124,6 +140,7 @@ impl TryFrom<RawSystem> for System {
             coil: r.coil,
             clamp: r.clamp,
             boost: r.boost,
+            motor: r.motor,
             switch: r.switch,
             sense: r.sense,
             ratings: r.ratings,
@@ -387,6 +404,9 @@ pub struct Ratings {
     pub switch_energy: Option<Pos<Joule>>,
     /// Highest energy per switch-off the clamp network may absorb, J.
     pub clamp_energy: Option<Pos<Joule>>,
+    /// Highest allowed bus voltage (the bus capacitor's rating, a motor bridge), V.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bus_voltage: Option<Pos<Volt>>,
 }
 
 /// Requirements of the application; a verdict is given for each one present.
@@ -502,6 +522,9 @@ pub enum Controller {
     Coil(CoilController),
     /// Boost regulator: PI loop behind the duty limiter.
     Boost(BoostController),
+    /// Bridge motor driver: soft start, brake before reversal, speed from back-EMF, jam
+    /// detector.
+    Motor(MotorController),
 }
 
 /// Parameters of the valve/relay driver.
@@ -732,6 +755,9 @@ pub struct Tolerances {
     pub spring: Option<RelTolerance>,
     /// Armature load force.
     pub armature_load: Option<RelTolerance>,
+    /// A motor's torque constant.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub torque_constant: Option<RelTolerance>,
 }
 
 /// One scenario: a timeline of events and the properties that must hold.
@@ -769,6 +795,38 @@ pub enum Command {
     On,
     /// De-energize / disable.
     Off,
+    /// Run the motor forward (at `duty`, default 1).
+    Forward,
+    /// Run the motor in reverse (at `duty`, default 1).
+    Reverse,
+    /// Brake the motor.
+    Brake,
+    /// Let the motor coast.
+    Coast,
+}
+
+impl Command {
+    /// A motor command (forward, reverse, brake, coast).
+    #[must_use]
+    pub const fn is_motor(self) -> bool {
+        matches!(
+            self,
+            Command::Forward | Command::Reverse | Command::Brake | Command::Coast
+        )
+    }
+
+    /// Name as written in files.
+    #[must_use]
+    pub const fn name(self) -> &'static str {
+        match self {
+            Command::On => "on",
+            Command::Off => "off",
+            Command::Forward => "forward",
+            Command::Reverse => "reverse",
+            Command::Brake => "brake",
+            Command::Coast => "coast",
+        }
+    }
 }
 
 /// A fault injected into the plant or the sensor.
@@ -793,6 +851,16 @@ pub enum Fault {
     SluggishArmature,
     /// An extra `force` N acts against closing.
     ExcessLoad,
+    /// The motor's rotor locks.
+    Jam,
+    /// The motor's load torque steps to `load_torque`, above its rating.
+    Overload,
+    /// The motor's winding (a lead, a brush) opens.
+    OpenWinding,
+    /// Part of the motor's winding is shorted: inductance and resistance drop to `factor`.
+    ShortedWinding,
+    /// The supply stops taking current back (a motor's returned energy charges the bus).
+    SupplyCannotSink,
 }
 
 /// An ADC channel.
@@ -807,7 +875,8 @@ pub enum Channel {
     Output,
 }
 
-/// One event of a scenario: exactly one of `command`, `fault`, `supply`, `load`.
+/// One event of a scenario: exactly one of `command`, `fault`, `supply`, `load`,
+/// `load_torque`.
 #[derive(Debug, Clone, Copy, Deserialize, Serialize)]
 #[serde(deny_unknown_fields, try_from = "RawEvent")]
 pub struct Event {
@@ -817,6 +886,8 @@ pub struct Event {
     pub action: Action,
     /// The firmware must trip after this event (checked by `trip-latency`).
     pub expect_trip: bool,
+    /// Duty of a `forward` or `reverse` command, 0 … 1 (1 for every other event).
+    pub duty: f64,
 }
 
 /// What an event does.
@@ -830,6 +901,8 @@ pub enum Action {
     Supply(f64, f64),
     /// A load step to this resistance, Ω (boost).
     Load(f64),
+    /// A motor's load torque steps to this value, N·m.
+    LoadTorque(f64),
 }
 
 /// A fault with its parameters.
@@ -861,6 +934,19 @@ pub enum FaultSpec {
     SluggishArmature(f64),
     /// Excess load: extra force against closing, N.
     ExcessLoad(f64),
+    /// The motor's rotor locks.
+    Jam,
+    /// The motor's load torque steps above its rating, to this value, N·m.
+    Overload(f64),
+    /// The motor's winding opens.
+    OpenWinding,
+    /// Part of the motor's winding is shorted: L and R drop to this fraction.
+    ShortedWinding {
+        /// Remaining fraction of L and R.
+        factor: f64,
+    },
+    /// The supply stops taking current back.
+    SupplyCannotSink,
 }
 
 #[derive(Deserialize)]
@@ -871,6 +957,8 @@ struct RawEvent {
     fault: Option<Fault>,
     supply: Option<Pos<Volt>>,
     load: Option<Pos<Ohm>>,
+    load_torque: Option<NonNeg<NewtonMetre>>,
+    duty: Option<Pos<Plain>>,
     #[serde(default)]
     expect_trip: bool,
     factor: Option<Pos<Plain>>,
@@ -886,15 +974,26 @@ struct RawEvent {
 impl TryFrom<RawEvent> for Event {
     type Error = String;
     fn try_from(r: RawEvent) -> Result<Self, String> {
+        let overload = r.fault == Some(Fault::Overload);
         let n = usize::from(r.command.is_some())
             + usize::from(r.fault.is_some())
             + usize::from(r.supply.is_some())
-            + usize::from(r.load.is_some());
+            + usize::from(r.load.is_some())
+            + usize::from(r.load_torque.is_some() && !overload);
         if n != 1 {
             return Err(
-                "an event needs exactly one of the keys `command`, `fault`, `supply`, `load`"
+                "an event needs exactly one of the keys `command`, `fault`, `supply`, `load`, \
+                 `load_torque`"
                     .into(),
             );
+        }
+        if let Some(d) = r.duty {
+            if !matches!(r.command, Some(Command::Forward | Command::Reverse)) {
+                return Err("key `duty` belongs to a `forward` or `reverse` command".into());
+            }
+            if d.get() > 1.0 {
+                return Err(format!("key `duty`: {} is above 1", d.get()));
+            }
         }
         // Which parameter keys each kind of event takes.
         let given = [
@@ -914,6 +1013,7 @@ impl TryFrom<RawEvent> for Event {
             Some(Fault::SensorNoisy) => &["channel", "noise"],
             Some(Fault::SluggishArmature) => &["damping"],
             Some(Fault::ExcessLoad) => &["force"],
+            Some(Fault::ShortedWinding) => &["factor"],
             None if r.supply.is_some() => &["ramp"],
             _ => &[],
         };
@@ -957,12 +1057,32 @@ impl TryFrom<RawEvent> for Event {
                 Fault::ExcessLoad => {
                     FaultSpec::ExcessLoad(r.force.ok_or_else(|| need("force"))?.get())
                 }
+                Fault::Jam => FaultSpec::Jam,
+                Fault::Overload => {
+                    FaultSpec::Overload(r.load_torque.ok_or_else(|| need("load_torque"))?.get())
+                }
+                Fault::OpenWinding => FaultSpec::OpenWinding,
+                Fault::SupplyCannotSink => FaultSpec::SupplyCannotSink,
+                Fault::ShortedWinding => {
+                    let factor = r.factor.ok_or_else(|| need("factor"))?.get();
+                    if factor >= 1.0 {
+                        return Err(format!("key `factor`: {factor} is not below 1"));
+                    }
+                    FaultSpec::ShortedWinding { factor }
+                }
             }),
             (_, _, Some(v), _) => Action::Supply(v.get(), r.ramp.map_or(0.0, NonNeg::get)),
             (_, _, _, Some(l)) => Action::Load(l.get()),
-            (None, None, None, None) => {
-                return Err("an event needs one of `command`, `fault`, `supply`, `load`".into());
-            }
+            (None, None, None, None) => match r.load_torque {
+                Some(t) => Action::LoadTorque(t.get()),
+                None => {
+                    return Err(
+                        "an event needs one of `command`, `fault`, `supply`, `load`, \
+                         `load_torque`"
+                            .into(),
+                    );
+                }
+            },
         };
         if r.expect_trip && matches!(action, Action::Command(_)) {
             return Err("key `expect_trip` belongs to a fault, supply or load event".into());
@@ -971,6 +1091,7 @@ impl TryFrom<RawEvent> for Event {
             at: r.at,
             action,
             expect_trip: r.expect_trip,
+            duty: r.duty.map_or(1.0, Pos::get),
         })
     }
 }
@@ -1018,6 +1139,19 @@ pub enum Property {
     ArmatureReleaseTime,
     /// Highest supply energy from a stroke's switch-on to its seating, J (`max`).
     ActuationEnergy,
+    /// Highest bus voltage of a motor bridge, V (`max`).
+    BusVoltage,
+    /// Longest time from a `forward` or `reverse` command to the rotor turning at `speed`
+    /// rad/s in that direction, s (`max`; infinite when it never gets there).
+    TimeToSpeed,
+    /// Time from the first `jam` fault to the firmware's trip, s (`max`; infinite without a
+    /// trip).
+    JamLatency,
+    /// Largest current magnitude from a command that reverses the motor to the next command,
+    /// A (`max`).
+    ReversalPeakCurrent,
+    /// Highest motor winding temperature (the plant's thermal model), °C (`max`).
+    WindingTemperature,
 }
 
 impl Property {
@@ -1042,7 +1176,25 @@ impl Property {
             Property::ImpactVelocity => "impact-velocity",
             Property::ArmatureReleaseTime => "armature-release-time",
             Property::ActuationEnergy => "actuation-energy",
+            Property::BusVoltage => "bus-voltage",
+            Property::TimeToSpeed => "time-to-speed",
+            Property::JamLatency => "jam-latency",
+            Property::ReversalPeakCurrent => "reversal-peak-current",
+            Property::WindingTemperature => "winding-temperature",
         }
+    }
+
+    /// A property of a motor bridge.
+    #[must_use]
+    pub const fn is_motor(self) -> bool {
+        matches!(
+            self,
+            Property::BusVoltage
+                | Property::TimeToSpeed
+                | Property::JamLatency
+                | Property::ReversalPeakCurrent
+                | Property::WindingTemperature
+        )
     }
 
     /// Name of the property in the closed loop's results.
@@ -1066,6 +1218,11 @@ impl Property {
             Property::ImpactVelocity => "impact_velocity",
             Property::ArmatureReleaseTime => "armature_release_time",
             Property::ActuationEnergy => "actuation_energy",
+            Property::BusVoltage => "bus_voltage",
+            Property::TimeToSpeed => "time_to_speed",
+            Property::JamLatency => "jam_latency",
+            Property::ReversalPeakCurrent => "reversal_peak_current",
+            Property::WindingTemperature => "winding_temperature",
         }
     }
 
@@ -1074,20 +1231,23 @@ impl Property {
     pub fn unit(self) -> crate::si::Unit {
         use crate::si::Unit;
         match self {
-            Property::PeakSwitchVoltage | Property::OutputBand => Unit::Volt,
+            Property::PeakSwitchVoltage | Property::OutputBand | Property::BusVoltage => Unit::Volt,
             Property::ClampEnergy | Property::SwitchEnergy | Property::ActuationEnergy => {
                 Unit::Joule
             }
             Property::ImpactVelocity => Unit::MetrePerSecond,
-            Property::PeakCurrent | Property::EstimatorError | Property::HoldCurrent => {
-                Unit::Ampere
-            }
+            Property::PeakCurrent
+            | Property::EstimatorError
+            | Property::HoldCurrent
+            | Property::ReversalPeakCurrent => Unit::Ampere,
             Property::TripLatency
             | Property::ReleaseTime
             | Property::PullInTime
             | Property::SeatTime
-            | Property::ArmatureReleaseTime => Unit::Second,
-            Property::CoilTemperature => Unit::Celsius,
+            | Property::ArmatureReleaseTime
+            | Property::TimeToSpeed
+            | Property::JamLatency => Unit::Second,
+            Property::CoilTemperature | Property::WindingTemperature => Unit::Celsius,
             Property::CoilPower => Unit::Watt,
             Property::NoTrip => Unit::None,
         }
@@ -1124,6 +1284,9 @@ pub struct Check {
     pub after: f64,
     /// Release time: the release current, A (default: the coil's `release_current`).
     pub current: Option<f64>,
+    /// Time to speed: the speed to reach, rad/s.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub speed: Option<f64>,
 }
 
 /// A limit as written: a number or a string with an SI prefix.
@@ -1142,6 +1305,7 @@ struct RawCheck {
     min: Option<RawLimit>,
     after: Option<NonNeg<Second>>,
     current: Option<Pos<Ampere>>,
+    speed: Option<Pos<Plain>>,
 }
 
 impl TryFrom<RawCheck> for Check {
@@ -1160,7 +1324,7 @@ impl TryFrom<RawCheck> for Check {
                 })?,
             };
             // A temperature may be below 0 °C; every other limit is a magnitude.
-            let lowest = if p == Property::CoilTemperature {
+            let lowest = if matches!(p, Property::CoilTemperature | Property::WindingTemperature) {
                 -273.15
             } else {
                 0.0
@@ -1195,12 +1359,20 @@ impl TryFrom<RawCheck> for Check {
         if r.current.is_some() && p != Property::ReleaseTime {
             return Err("key `current` belongs to release-time".into());
         }
+        match (p, r.speed) {
+            (Property::TimeToSpeed, None) => {
+                return Err("missing key `speed`: the speed time-to-speed waits for, rad/s".into());
+            }
+            (Property::TimeToSpeed, Some(_)) | (_, None) => {}
+            (_, Some(_)) => return Err("key `speed` belongs to time-to-speed".into()),
+        }
         Ok(Check {
             property: p,
             max,
             min,
             after: r.after.map_or(0.0, NonNeg::get),
             current: r.current.map(Pos::get),
+            speed: r.speed.map(Pos::get),
         })
     }
 }

@@ -56,10 +56,7 @@ fn at_s(t_ns: u64) -> String {
 }
 
 fn demand(c: Command) -> &'static str {
-    match c {
-        Command::On => "on",
-        Command::Off => "off",
-    }
+    c.name()
 }
 
 /// Checks every scenario of `file` (module docs).
@@ -70,12 +67,12 @@ fn demand(c: Command) -> &'static str {
 pub fn check(file: &File) -> Result<(), Ineffective> {
     let tick_ns = config_ns(file.system.tick.get()).max(1);
     for (k, sc) in file.scenarios.iter().enumerate() {
-        check_scenario(k, sc, tick_ns)?;
+        check_scenario(k, sc, tick_ns, file.system.motor.is_some())?;
     }
     Ok(())
 }
 
-fn check_scenario(k: usize, sc: &Scenario, tick_ns: u64) -> Result<(), Ineffective> {
+fn check_scenario(k: usize, sc: &Scenario, tick_ns: u64, motor: bool) -> Result<(), Ineffective> {
     let duration_ns = config_ns(sc.duration.get());
     let err = |table: Option<(&'static str, usize)>, key: String, problem: String| Ineffective {
         scenario: k,
@@ -121,7 +118,13 @@ fn check_scenario(k: usize, sc: &Scenario, tick_ns: u64) -> Result<(), Ineffecti
             _ => None,
         })
         .collect();
-    let mut now = Command::Off;
+    // A motor coasts at the start; a coil or a rail is off. A motor command is the same as
+    // the one in force only with the same duty.
+    let mut now = if motor {
+        (Command::Coast, 1.0)
+    } else {
+        (Command::Off, 1.0)
+    };
     for (n, &(j, c, tick)) in commands.iter().enumerate() {
         let key = format!("scenario[{k}].event[{j}].command");
         if tick >= n_ticks {
@@ -152,17 +155,26 @@ fn check_scenario(k: usize, sc: &Scenario, tick_ns: u64) -> Result<(), Ineffecti
                 ),
             ));
         }
-        if c == now {
+        let duty = sc.events[j].duty;
+        if (c, duty) == now {
             return Err(err(
                 event(j),
                 key,
-                format!(
-                    "has no effect: the demand is already {} here (it is off at the start)",
-                    demand(c)
-                ),
+                if motor {
+                    format!(
+                        "has no effect: the motor command is already {} here (it coasts at the \
+                         start)",
+                        demand(c)
+                    )
+                } else {
+                    format!(
+                        "has no effect: the demand is already {} here (it is off at the start)",
+                        demand(c)
+                    )
+                },
             ));
         }
-        now = c;
+        now = (c, duty);
     }
     let first_fault = order
         .iter()

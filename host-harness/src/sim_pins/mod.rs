@@ -7,7 +7,7 @@
 //!   switch drives the coil through [`lenz::drive::OnOffSwitch`].
 //! - [`SimBridge`]: the two direction pins of an H-bridge (one per leg), read back as the
 //!   bridge direction.
-//! - [`CoilDriverLoop`] and [`BoostLoopDriver`]: thin adapters from the
+//! - [`CoilDriverLoop`], [`BoostLoopDriver`] and [`MotorDriverLoop`]: thin adapters from the
 //!   [`Controller`](crate::closed_loop::Controller) interface to the drivers. Sensed ADC counts
 //!   go into the driver's `update` as the firmware's ADC would hand them over; the output's
 //!   state after the tick (pin level or duty register) becomes the
@@ -23,12 +23,14 @@
 
 mod adapter;
 mod bridge;
+mod motor_adapter;
 mod output;
 mod pin;
 mod pwm;
 
 pub use adapter::{BoostLoopDriver, CoilDriverLoop};
 pub use bridge::SimBridge;
+pub use motor_adapter::MotorDriverLoop;
 pub use output::{OutputFault, SimError, SimOutput};
 pub use pin::SimPin;
 pub use pwm::SimPwm;

@@ -130,6 +130,8 @@ pub struct FirmwareInputs {
     pub coil: Option<CoilInputs>,
     /// The boost stage's plan (`None` for a coil drive).
     pub boost: Option<BoostInputs>,
+    /// The motor bridge's model and driver settings (`None` unless `[system.motor]`).
+    pub motor: Option<super::MotorInputs>,
 }
 
 impl FirmwareInputs {
@@ -178,6 +180,34 @@ impl FirmwareInputs {
             monitor: c.settings.monitor,
             trip: c.trip_params,
         })
+    }
+
+    /// The motor inputs.
+    ///
+    /// # Errors
+    ///
+    /// The system is not a motor bridge.
+    pub fn motor(&self) -> Result<&super::MotorInputs, SetupError> {
+        self.motor
+            .as_ref()
+            .ok_or_else(|| SetupError::new("system: a motor firmware needs [system.motor]"))
+    }
+
+    /// The plan of a [`lenz::drive::MotorDriver`] for this system with `settings` (a user's
+    /// own, or `[controller.motor]`'s in [`super::MotorInputs::settings`]): the nominal motor,
+    /// the sense scaling, the bridge guard's limits at the highest supply and the coldest
+    /// winding of `file` (see [`super::motor::driver_params`]).
+    ///
+    /// # Errors
+    ///
+    /// The system is not a motor bridge.
+    pub fn motor_driver_params(
+        &self,
+        file: &File,
+        settings: &super::MotorSettings,
+    ) -> Result<lenz::drive::MotorDriverParams, SetupError> {
+        let m = self.motor()?;
+        Ok(super::motor::driver_params(file, self, m, settings))
     }
 
     /// Current reading → µA, as the firmware computes it.
@@ -236,6 +266,10 @@ pub fn inputs(file: &File, temp_c: f64) -> Result<FirmwareInputs, SetupError> {
         Some(b) => Some(boost_inputs(file, b, &sense)?),
         None => None,
     };
+    let motor = match &s.motor {
+        Some(m) => Some(super::motor::inputs(file, m)?),
+        None => None,
+    };
     Ok(FirmwareInputs {
         tick_s,
         pwm_frequency_hz: s.pwm_frequency.get() as f32,
@@ -245,6 +279,7 @@ pub fn inputs(file: &File, temp_c: f64) -> Result<FirmwareInputs, SetupError> {
         sense,
         coil,
         boost,
+        motor,
     })
 }
 
@@ -387,7 +422,7 @@ fn boost_inputs(
                 None,
             ))?,
         ),
-        Controller::Coil(_) | Controller::Own => None,
+        Controller::Coil(_) | Controller::Motor(_) | Controller::Own => None,
     };
     Ok(BoostInputs {
         stage,

@@ -6,8 +6,8 @@
 //! boost stage, tick and PWM, ratings, requirements, tolerances and scenarios. From it:
 //!
 //! - [`System::plan`]: the worst-case plan with its verdicts ([`plan`]);
-//! - [`System::coil_plant`], [`System::boost_plant`]: the plant for one draw of the tolerances
-//!   ([`plant`]);
+//! - [`System::coil_plant`], [`System::boost_plant`], [`System::motor_plant`]: the plant for
+//!   one draw of the tolerances ([`plant`], [`motor`]);
 //! - [`System::firmware_inputs`]: the kernel configurations that firmware computes at init from
 //!   the nominal description, and the sense scaling ([`FirmwareInputs`]);
 //! - [`System::run_all`], [`System::sweep`], [`System::replay`]: the scenarios in the closed
@@ -23,6 +23,7 @@ pub mod coil;
 pub mod emit;
 mod error;
 pub mod firmware;
+pub mod motor;
 pub mod plan;
 mod plan_armature;
 pub mod plant;
@@ -36,6 +37,7 @@ use std::path::Path;
 pub use clamp::ClampKind;
 pub use error::SetupError;
 pub use firmware::{BoostInputs, CoilInputs, CoilSettings, FirmwareInputs, SenseInputs};
+pub use motor::{MotorInputs, MotorSettings};
 pub use plan::{Figure, Report as PlanReport, Verdict};
 pub use report::{RunReport, SweepReport};
 pub use run::run_fallible;
@@ -183,6 +185,27 @@ impl System {
             .as_ref()
             .ok_or_else(|| SetupError::new("system: no [system.boost]"))?;
         plant::boost_plant(&self.file, b, p, supply_v)
+    }
+
+    /// The motor bridge's plant for part values `p` at `supply_v` and winding temperature
+    /// `temp_c`, at rest with the description's load torque.
+    ///
+    /// # Errors
+    ///
+    /// Not a motor bridge, or the plant rejects a value (named).
+    pub fn motor_plant(
+        &self,
+        p: &Params,
+        supply_v: f64,
+        temp_c: f64,
+    ) -> Result<crate::closed_loop::MotorBridge, SetupError> {
+        let m = self
+            .file
+            .system
+            .motor
+            .as_ref()
+            .ok_or_else(|| SetupError::new("system: no [system.motor]"))?;
+        motor::plant(&self.file, None, m, p, supply_v, temp_c)
     }
 
     /// The part values of run `index` of a sweep with `seed`.

@@ -456,6 +456,9 @@ fn boost_plan(f: &File, b: &BoostStage) -> Result<Report, SetupError> {
 ///
 /// A plan routine rejects a value of the file.
 pub fn plan(f: &File) -> Result<Report, SetupError> {
+    if let Some(m) = &f.system.motor {
+        return super::motor::plan(f, m);
+    }
     match (&f.system.coil, &f.system.clamp, &f.system.boost) {
         (Some(c), Some(k), _) => coil_plan(f, c, k),
         (_, _, Some(b)) => boost_plan(f, b),

@@ -36,6 +36,12 @@ pub fn run_fallible<C: Controller>(
         other => SetupError::new(format!("key `scenario[{index}]`: {other}")),
     };
     let s = &file.system;
+    if let Some(m) = &s.motor {
+        let mut plant = super::motor::plant(file, Some(index), m, p, pt.supply_v, pt.temp_c)?;
+        let inputs = firmware::inputs(file, pt.temp_c)?;
+        let mut ctrl = make(&inputs)?;
+        return closed_loop::run(&mut plant, &mut ctrl, &cfg).map_err(loop_err);
+    }
     if let Some(b) = &s.boost {
         let mut plant = plant::boost_plant(file, b, p, pt.supply_v)?;
         let inputs = firmware::inputs(file, pt.temp_c)?;
