@@ -7,6 +7,8 @@ use crate::closed_loop::Waveform;
 
 /// The column names, in order.
 pub const HEADER: &str = "t_s,current_a,estimate_a,switch_v,output_v,supply_v,drive";
+/// The column appended when the run has a moving armature (its air gap, m).
+pub const ARMATURE_COLUMN: &str = "armature_gap_m";
 
 /// Writes the waveform as CSV to `w`, row by row (nothing is built in memory).
 ///
@@ -14,7 +16,12 @@ pub const HEADER: &str = "t_s,current_a,estimate_a,switch_v,output_v,supply_v,dr
 ///
 /// What `w` reports.
 pub fn write_csv(w: &mut impl Write, wave: &Waveform) -> io::Result<()> {
-    writeln!(w, "{HEADER}")?;
+    let armature = !wave.armature_gap_m.is_empty();
+    if armature {
+        writeln!(w, "{HEADER},{ARMATURE_COLUMN}")?;
+    } else {
+        writeln!(w, "{HEADER}")?;
+    }
     let get = |v: &[f64], k: usize| v.get(k).copied().unwrap_or(f64::NAN);
     for k in 0..wave.t_s.len() {
         let cols = [
@@ -25,8 +32,10 @@ pub fn write_csv(w: &mut impl Write, wave: &Waveform) -> io::Result<()> {
             get(&wave.output_v, k),
             get(&wave.supply_v, k),
             get(&wave.drive, k),
+            get(&wave.armature_gap_m, k),
         ];
-        for (j, v) in cols.iter().enumerate() {
+        let n = if armature { cols.len() } else { cols.len() - 1 };
+        for (j, v) in cols[..n].iter().enumerate() {
             if j > 0 {
                 w.write_all(b",")?;
             }
@@ -70,5 +79,13 @@ mod tests {
         assert_eq!(lines[1], "0,0,,24,24,24,0");
         assert_eq!(lines[2], "0.0001,0.25,0.24,0.1,0.1,23.9,1");
         assert_eq!(lines.len(), 3);
+        let moving = Waveform {
+            armature_gap_m: vec![1.2e-3, 1.1e-3],
+            ..w
+        };
+        let csv = to_csv(&moving);
+        let lines: Vec<&str> = csv.lines().collect();
+        assert_eq!(lines[0], format!("{HEADER},{ARMATURE_COLUMN}"));
+        assert_eq!(lines[2], "0.0001,0.25,0.24,0.1,0.1,23.9,1,0.0011");
     }
 }

@@ -1018,6 +1018,16 @@ pub enum Property {
     ArmatureReleaseTime,
     /// Highest supply energy from a stroke's switch-on to its seating, J (`max`).
     ActuationEnergy,
+    /// Largest time from the armature's final seating to the controller's seated report, s
+    /// (`max`; negative when it reports before the last bounce; infinite when the armature
+    /// seated and no report came).
+    SeatDetectionLatency,
+    /// Largest time from the armature's release (it leaves the closed stop) to the
+    /// controller's drop-out report, s (`max`; infinite when a release was not reported).
+    DropoutDetectionLatency,
+    /// Armature reports made while the armature had not reached the closed stop (seated) or
+    /// not left it (drop-out) (`max`, default 0).
+    FalseDetections,
 }
 
 impl Property {
@@ -1042,6 +1052,9 @@ impl Property {
             Property::ImpactVelocity => "impact-velocity",
             Property::ArmatureReleaseTime => "armature-release-time",
             Property::ActuationEnergy => "actuation-energy",
+            Property::SeatDetectionLatency => "seat-detection-latency",
+            Property::DropoutDetectionLatency => "dropout-detection-latency",
+            Property::FalseDetections => "false-detections",
         }
     }
 
@@ -1066,6 +1079,9 @@ impl Property {
             Property::ImpactVelocity => "impact_velocity",
             Property::ArmatureReleaseTime => "armature_release_time",
             Property::ActuationEnergy => "actuation_energy",
+            Property::SeatDetectionLatency => "seat_detection_latency",
+            Property::DropoutDetectionLatency => "dropout_detection_latency",
+            Property::FalseDetections => "false_detections",
         }
     }
 
@@ -1086,10 +1102,12 @@ impl Property {
             | Property::ReleaseTime
             | Property::PullInTime
             | Property::SeatTime
-            | Property::ArmatureReleaseTime => Unit::Second,
+            | Property::ArmatureReleaseTime
+            | Property::SeatDetectionLatency
+            | Property::DropoutDetectionLatency => Unit::Second,
             Property::CoilTemperature => Unit::Celsius,
             Property::CoilPower => Unit::Watt,
-            Property::NoTrip => Unit::None,
+            Property::NoTrip | Property::FalseDetections => Unit::None,
         }
     }
 
@@ -1182,7 +1200,13 @@ impl TryFrom<RawCheck> for Check {
                         .into(),
                 );
             }
-            None if p == Property::NoTrip || p == Property::HoldCurrent => 0.0,
+            None if matches!(
+                p,
+                Property::NoTrip | Property::HoldCurrent | Property::FalseDetections
+            ) =>
+            {
+                0.0
+            }
             None => return Err(format!("missing key `max`: the limit of {}", p.name())),
             Some(raw) => limit("max", raw)?,
         };
