@@ -97,6 +97,7 @@ impl Controller for HostCoil {
             estimate_a: a.estimate_ua.map(|ua| f64::from(ua) * 1e-6),
             tripped: a.tripped,
             trip_cause: None,
+            ..Telemetry::default()
         };
         actuation(&a).unwrap_or(Actuation::OFF)
     }

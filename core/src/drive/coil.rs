@@ -371,10 +371,17 @@ where
             _ => {}
         }
 
-        // 3. Plausibility of that sample against the estimate for its instant.
-        if let Some(f) =
-            cfg.monitor()
-                .update(&mut st.mon, st.prev_estimate_ua, sense.current_counts)
+        // 3. Plausibility of that sample against the estimate for its instant. With the
+        //    movement detector the armature moves during the pull-in and the release, and its
+        //    inductance is then not the estimator's: the monitor is blanked from switch-on to
+        //    the seating (the trip detector and the detector's deadline watch the pull-in) and
+        //    from switch-off to the release, see `CoilDriverConfig::with_movement`.
+        let blanked = cfg.movement().is_some()
+            && (st.phase == CoilPhase::PullIn || (applied == 0 && st.flags & RELEASED == 0));
+        if !blanked
+            && let Some(f) =
+                cfg.monitor()
+                    .update(&mut st.mon, st.prev_estimate_ua, sense.current_counts)
             && st.fault.is_none()
         {
             st.fault = Some(CoilFault::Plausibility(f));
@@ -387,6 +394,17 @@ where
             && cfg.off_timer().update(&mut st.off, supply_mv) == OffStatus::Released
         {
             st.flags |= RELEASED;
+        }
+
+        // 4b. The armature's drop-out after a switch-off, if the detector watches it.
+        if applied == 0
+            && let Some(m) = cfg.movement()
+            && st.motion.motion() == Motion::Decaying
+        {
+            m.update(
+                &mut st.motion,
+                cfg.monitor().scale().to_ua(sense.current_counts),
+            );
         }
 
         // 5. The phase and the duty for the next tick.
@@ -423,7 +441,13 @@ where
                         Some(m) => {
                             let i = cfg.monitor().scale().to_ua(sense.current_counts);
                             match m.update(&mut st.motion, i) {
-                                Motion::Seated { .. } => (true, true),
+                                Motion::Seated { .. } => {
+                                    // The travel's back-EMF is over: the estimate starts
+                                    // again from the measured current, on the seated coil.
+                                    st.est = EstimatorState::with_current_ua(i);
+                                    st.prev_estimate_ua = i;
+                                    (true, true)
+                                }
                                 Motion::NoMotion => {
                                     st.fault = Some(CoilFault::Stuck);
                                     (false, false)
@@ -501,6 +525,13 @@ where
                 }
                 cfg.off_timer().start(&mut st.off, start);
                 st.flags &= !RELEASED;
+                // Watch the armature's drop-out (not after a stuck armature's fault, whose
+                // verdict stays readable).
+                if let Some(m) = cfg.movement()
+                    && st.fault.is_none()
+                {
+                    m.release(&mut st.motion);
+                }
             }
         }
         if st.duty == 0 {

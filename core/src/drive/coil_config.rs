@@ -404,6 +404,18 @@ impl CoilDriverConfig {
     /// (the driver gives it) and a dip deeper than its hysteresis (see [`MovementConfig`]);
     /// plan its deadline below the maximum pull-in time, or the fallback comes first.
     ///
+    /// The estimator's inductance is fixed, the moving armature's is not: during the pull-in
+    /// the plausibility monitor is blanked (the trip detector and the detector's deadline
+    /// watch it; an open coil shows no peak and ends in the stuck fault), and at the seating
+    /// the estimate starts again from the measured current; after a switch-off it is blanked
+    /// until the off-timer confirms the release (the opening armature's inductance falls and
+    /// its motion lifts the current above the seated coil's decay). Plan the coil model with the
+    /// seated armature's inductance, so the estimate in hold and in the decay after switch-off
+    /// follows the seated coil. At each switch-off (without a latched fault) the detector
+    /// watches the release: [`CoilDriver::motion`](super::CoilDriver::motion) then reports
+    /// `Decaying`, `DroppedOut { tick }` (ticks from the first tick after the switch-off) or
+    /// `NoDropOut`.
+    ///
     /// Without it the driver behaves exactly as before.
     ///
     /// # Examples

@@ -208,6 +208,7 @@ pub fn driver_plan_with_clamp(
             stuck_min_change_a: 0.1,
         },
         trip_threshold_a,
+        movement: None,
     })
 }
 

@@ -64,6 +64,7 @@ mod armature_watch;
 mod coil_watch;
 pub mod demo;
 pub mod demo_vent;
+mod detection_watch;
 mod envelope;
 pub mod motor;
 mod motor_plant;
@@ -182,6 +183,13 @@ pub struct Telemetry {
     /// Why it tripped, when it says.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub trip_cause: Option<TripCause>,
+    /// Its armature movement detector reports the armature seated (after a pull-in that ended
+    /// on the seating, until the switch-off). `false` for a controller without one.
+    #[serde(default)]
+    pub seated: bool,
+    /// Its movement detector reports the armature's drop-out after the last switch-off.
+    #[serde(default)]
+    pub dropped_out: bool,
 }
 
 /// Why a controller tripped.
@@ -333,6 +341,10 @@ pub trait Plant {
     }
     /// Starts a new window of [`MotorProbe::peak_current_since_mark_a`]. Default: nothing.
     fn motor_mark(&mut self) {}
+    /// The moving armature's air gap now, m (`None`: nothing moves).
+    fn armature_gap_m(&self) -> Option<f64> {
+        None
+    }
 }
 
 impl Plant for CoilDrive {
@@ -430,6 +442,9 @@ impl Plant for CoilDrive {
     }
     fn armature_strokes(&self) -> Option<&[Stroke]> {
         self.armature().map(|m| m.strokes())
+    }
+    fn armature_gap_m(&self) -> Option<f64> {
+        self.armature().map(|m| m.gap_m())
     }
 }
 
@@ -540,6 +555,15 @@ pub struct Limits {
     /// The motor properties' limits (`None`: no motor properties).
     #[serde(default)]
     pub motor: Option<MotorLimits>,
+    /// Largest allowed time from the armature's seating to the controller's seated report, s.
+    #[serde(default)]
+    pub seat_detection_latency_max_s: Option<f64>,
+    /// Largest allowed time from the armature's release to the controller's drop-out report, s.
+    #[serde(default)]
+    pub dropout_detection_latency_max_s: Option<f64>,
+    /// Most allowed false armature reports.
+    #[serde(default)]
+    pub false_detections_max: Option<f64>,
 }
 
 /// Pull-in: the current that pulls the armature in, and the longest allowed time to reach it.
@@ -691,6 +715,9 @@ pub struct Waveform {
     /// Bus voltage, V (a motor run; empty otherwise).
     #[serde(default)]
     pub bus_v: Vec<f64>,
+    /// The moving armature's air gap, m (empty when nothing moves).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub armature_gap_m: Vec<f64>,
 }
 
 /// Something that happened during a run.
@@ -820,6 +847,7 @@ pub fn run<P: Plant, C: Controller>(
     let mut band_worst = 0.0f64;
     let mut edges: Vec<(u64, Edge)> = Vec::with_capacity(128);
     let mut env = envelope::Envelope::new();
+    let mut detect = detection_watch::DetectionWatch::default();
     let mut direction = Direction::Forward;
     // A supply ramp in progress: (start s, end s, from V, to V).
     let mut ramp: Option<(f64, f64, f64, f64)> = None;
@@ -883,6 +911,12 @@ pub fn run<P: Plant, C: Controller>(
         };
         let act = ctrl.tick(&sensed);
         let telemetry = ctrl.telemetry();
+        for what in detect.note(t0_s, telemetry.seated, telemetry.dropped_out) {
+            events.push(RunEvent {
+                t_s: t0_s,
+                what: what.into(),
+            });
+        }
         let full_on = match act.drive {
             Drive::On => true,
             Drive::Off => false,
@@ -1004,6 +1038,9 @@ pub fn run<P: Plant, C: Controller>(
                         if let Some(m) = plant.motor() {
                             wave.speed_rad_s.push(m.speed_rad_s);
                             wave.bus_v.push(m.bus_v);
+                        }
+                        if let Some(x) = plant.armature_gap_m() {
+                            wave.armature_gap_m.push(x);
                         }
                     }
                 }
@@ -1235,6 +1272,38 @@ pub fn run<P: Plant, C: Controller>(
         }
         if let Some(r) = m.winding_temperature_max_c {
             add_m("winding_temperature", v.temp_max_c, r, "°C", None);
+        }
+    }
+    let detection_limits = [
+        l.seat_detection_latency_max_s,
+        l.dropout_detection_latency_max_s,
+        l.false_detections_max,
+    ];
+    if detection_limits.iter().any(Option::is_some) {
+        let d = detect.values(plant.armature_strokes().unwrap_or(&[]), &cfg.demand, end_s);
+        for (limit, name, value, unit) in [
+            (
+                l.seat_detection_latency_max_s,
+                "seat_detection_latency",
+                d.seat_latency_s,
+                "s",
+            ),
+            (
+                l.dropout_detection_latency_max_s,
+                "dropout_detection_latency",
+                d.dropout_latency_s,
+                "s",
+            ),
+            (
+                l.false_detections_max,
+                "false_detections",
+                d.false_detections as f64,
+                "reports",
+            ),
+        ] {
+            if let Some(r) = limit {
+                props.push(mk(name, value, r, unit, Bound::Max));
+            }
         }
     }
     Ok(RunResult {

@@ -14,7 +14,7 @@
 //! side is [`crate::sim_pins::CoilDriverLoop`].
 
 use lenz::drive::{CoilDriverConfig, CoilDriverParams, DriveError, Hold, PullInSource};
-use lenz::kernel::{MonitorParams, SenseScale, TripParams};
+use lenz::kernel::{MonitorParams, MovementConfig, SenseScale, TripParams};
 use lenz::turnoff::Clamp;
 use lenz::{Coil, Error, Range};
 
@@ -70,6 +70,11 @@ pub struct ValvePlan {
     /// Instantaneous overcurrent trip threshold, A (one sample at or above it trips and
     /// latches).
     pub trip_threshold_a: f32,
+    /// The armature movement detector: with it the pull-in ends on the seating (the pull-in
+    /// current and minimum time are then not used), a pull-in without seating by its deadline
+    /// latches the stuck-armature fault, and the release is watched for the drop-out
+    /// ([`CoilDriverConfig::with_movement`]). Plan `coil` with the seated inductance then.
+    pub movement: Option<MovementConfig>,
 }
 
 /// The driver's configuration and the PWM resolution it runs on.
@@ -140,6 +145,10 @@ impl ValveDriverConfig {
                 retry_delay_s: 0.0,
             },
         })?;
+        let driver = match p.movement {
+            Some(m) => driver.with_movement(m),
+            None => driver,
+        };
         let cfg = Self {
             driver,
             pwm_max_duty: p.pwm_max_duty,
@@ -237,6 +246,7 @@ mod tests {
                 stuck_min_change_a: 0.1,
             },
             trip_threshold_a: 2.0,
+            movement: None,
         }
     }
 

@@ -180,6 +180,7 @@ impl Controller for FirmwareController {
                         tripped: a.tripped,
                         // The exchange frame carries the trip, not its cause.
                         trip_cause: None,
+                        ..Telemetry::default()
                     };
                     self.last = Some(a);
                     if let Some(r) = &mut self.recorded {

@@ -9,6 +9,8 @@ use crate::closed_loop::Waveform;
 pub const HEADER: &str = "t_s,current_a,estimate_a,switch_v,output_v,supply_v,drive";
 /// The columns a motor run adds after [`HEADER`]: rotor speed and bus voltage.
 pub const MOTOR_COLUMNS: &str = "speed_rad_s,bus_v";
+/// The column appended when the run has a moving armature (its air gap, m).
+pub const ARMATURE_COLUMN: &str = "armature_gap_m";
 
 /// Writes the waveform as CSV to `w`, row by row (nothing is built in memory).
 ///
@@ -17,13 +19,18 @@ pub const MOTOR_COLUMNS: &str = "speed_rad_s,bus_v";
 /// What `w` reports.
 pub fn write_csv(w: &mut impl Write, wave: &Waveform) -> io::Result<()> {
     let motor = !wave.speed_rad_s.is_empty();
+    let armature = !wave.armature_gap_m.is_empty();
+    let mut header = String::from(HEADER);
     if motor {
-        writeln!(w, "{HEADER},{MOTOR_COLUMNS}")?;
-    } else {
-        writeln!(w, "{HEADER}")?;
+        header.push(',');
+        header.push_str(MOTOR_COLUMNS);
     }
+    if armature {
+        header.push(',');
+        header.push_str(ARMATURE_COLUMN);
+    }
+    writeln!(w, "{header}")?;
     let get = |v: &[f64], k: usize| v.get(k).copied().unwrap_or(f64::NAN);
-    let n = if motor { 9 } else { 7 };
     for k in 0..wave.t_s.len() {
         let cols = [
             get(&wave.t_s, k),
@@ -35,8 +42,19 @@ pub fn write_csv(w: &mut impl Write, wave: &Waveform) -> io::Result<()> {
             get(&wave.drive, k),
             get(&wave.speed_rad_s, k),
             get(&wave.bus_v, k),
+            get(&wave.armature_gap_m, k),
         ];
-        for (j, v) in cols.iter().take(n).enumerate() {
+        // The base columns, then the motor's and the armature's when the run has them.
+        let shown = [
+            true, true, true, true, true, true, true, motor, motor, armature,
+        ];
+        for (j, v) in cols
+            .iter()
+            .zip(shown)
+            .filter(|&(_, s)| s)
+            .map(|(v, _)| v)
+            .enumerate()
+        {
             if j > 0 {
                 w.write_all(b",")?;
             }
@@ -80,6 +98,14 @@ mod tests {
         assert_eq!(lines[1], "0,0,,24,24,24,0");
         assert_eq!(lines[2], "0.0001,0.25,0.24,0.1,0.1,23.9,1");
         assert_eq!(lines.len(), 3);
+        let moving = Waveform {
+            armature_gap_m: vec![1.2e-3, 1.1e-3],
+            ..w
+        };
+        let csv = to_csv(&moving);
+        let lines: Vec<&str> = csv.lines().collect();
+        assert_eq!(lines[0], format!("{HEADER},{ARMATURE_COLUMN}"));
+        assert_eq!(lines[2], "0.0001,0.25,0.24,0.1,0.1,23.9,1,0.0011");
     }
 
     #[test]

@@ -173,6 +173,15 @@ fn panel(
                     ),
                 ])
                 .map_err(err)?;
+        } else if let Some(report) = e.what.strip_prefix("firmware: ") {
+            // The firmware's armature reports (the detection marks).
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    report.to_string(),
+                    (t, y0 + 0.62 * (y1 - y0)),
+                    (FONT, 10).into_font().color(&c),
+                )))
+                .map_err(err)?;
         } else if e.what.starts_with("fault") {
             chart
                 .draw_series(std::iter::once(Text::new(
@@ -313,7 +322,12 @@ pub fn waveform_svg(o: &Outcome) -> Result<String, String> {
     let zooms = zoom_events(ev);
     let zoom_rows = zooms.len().div_ceil(2) as u32;
     let (title_h, big_h, drive_h, zoom_h) = (34u32, 230u32, 130u32, 360u32);
-    let height = title_h + 3 * big_h + drive_h + zoom_rows * zoom_h;
+    let gap_h = if w.armature_gap_m.is_empty() {
+        0
+    } else {
+        big_h
+    };
+    let height = title_h + 3 * big_h + drive_h + gap_h + zoom_rows * zoom_h;
     let (cur_title, cur_axis) = current_name(w);
     let x_full = (
         t_ms.first().copied().unwrap_or(0.0),
@@ -338,7 +352,8 @@ pub fn waveform_svg(o: &Outcome) -> Result<String, String> {
         let (a, rest) = rest.split_vertically(big_h);
         let (b, rest) = rest.split_vertically(big_h);
         let (c, rest) = rest.split_vertically(big_h);
-        let (d, zoom_area) = rest.split_vertically(drive_h);
+        let (d, rest) = rest.split_vertically(drive_h);
+        let (g, zoom_area) = rest.split_vertically(gap_h);
         let current = [
             Trace {
                 label: if cur_axis.starts_with("Coil") {
@@ -439,6 +454,20 @@ pub fn waveform_svg(o: &Outcome) -> Result<String, String> {
             Some((-0.05, 1.15)),
             ev,
         )?;
+        if gap_h > 0 {
+            let gap_mm: Vec<f64> = w.armature_gap_m.iter().map(|x| x * 1e3).collect();
+            panel(
+                &g,
+                "armature air gap (open stop at the top, seated at the bottom; marks: the \
+                 firmware's reports)",
+                "Air gap (mm)",
+                &t_ms,
+                x_full,
+                &[Trace::line("air gap", &gap_mm, GREEN)],
+                None,
+                ev,
+            )?;
+        }
         if !zooms.is_empty() {
             let cells = zoom_area.split_evenly((zoom_rows as usize, 2));
             for (z, cell) in zooms.iter().zip(&cells) {

@@ -605,6 +605,9 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 | Property::ImpactVelocity
                 | Property::ArmatureReleaseTime
                 | Property::ActuationEnergy
+                | Property::SeatDetectionLatency
+                | Property::DropoutDetectionLatency
+                | Property::FalseDetections
                     if f.system.coil.and_then(|k| k.armature).is_none() =>
                 {
                     Some("needs a [system.coil.armature]: without one nothing moves")
@@ -614,6 +617,8 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 | Property::CoilPower
                 | Property::SeatTime
                 | Property::ActuationEnergy
+                | Property::SeatDetectionLatency
+                | Property::DropoutDetectionLatency
                     if !commands_on =>
                 {
                     Some("needs an event with `command = \"on\"`: without one it checks nothing")

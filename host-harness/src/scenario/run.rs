@@ -597,6 +597,9 @@ pub(crate) fn loop_config(
             Property::ImpactVelocity => limits.impact_velocity_max_m_s = m,
             Property::ArmatureReleaseTime => limits.armature_release_time_max_s = m,
             Property::ActuationEnergy => limits.actuation_energy_max_j = m,
+            Property::SeatDetectionLatency => limits.seat_detection_latency_max_s = m,
+            Property::DropoutDetectionLatency => limits.dropout_detection_latency_max_s = m,
+            Property::FalseDetections => limits.false_detections_max = m,
         }
     }
     limits.motor = motor;
@@ -696,8 +699,20 @@ fn valve_driver(
     };
     let c = inputs.coil()?;
     let nominal = crate::system::sense::nominal(file);
+    // With the movement detector the estimator follows the seated coil (the monitor is blanked
+    // while the armature moves): its model has the seated inductance.
+    let coil = match &c.movement {
+        Some(m) => {
+            let mut params = *c.coil.params();
+            params.inductance_h = m.seated_inductance_h;
+            params
+                .validate()
+                .map_err(lenz_err(file, "system.coil.armature", None))?
+        }
+        None => c.coil,
+    };
     ValveDriverConfig::new(&ValvePlan {
-        coil: c.coil,
+        coil,
         temp_c: inputs.temp_c,
         tick_s: inputs.tick_s,
         clamp: c.clamp,
@@ -713,6 +728,7 @@ fn valve_driver(
         supply_adc: nominal.supply,
         monitor: c.settings.monitor,
         trip_threshold_a: c.settings.trip_a,
+        movement: c.movement.map(|m| m.config),
     })
     .map_err(|e| coil_plan_err(file, k, e))
 }

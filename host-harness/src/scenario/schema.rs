@@ -1152,6 +1152,16 @@ pub enum Property {
     ReversalPeakCurrent,
     /// Highest motor winding temperature (the plant's thermal model), °C (`max`).
     WindingTemperature,
+    /// Largest time from the armature's final seating to the controller's seated report, s
+    /// (`max`; negative when it reports before the last bounce; infinite when the armature
+    /// seated and no report came).
+    SeatDetectionLatency,
+    /// Largest time from the armature's release (it leaves the closed stop) to the
+    /// controller's drop-out report, s (`max`; infinite when a release was not reported).
+    DropoutDetectionLatency,
+    /// Armature reports made while the armature had not reached the closed stop (seated) or
+    /// not left it (drop-out) (`max`, default 0).
+    FalseDetections,
 }
 
 impl Property {
@@ -1181,6 +1191,9 @@ impl Property {
             Property::JamLatency => "jam-latency",
             Property::ReversalPeakCurrent => "reversal-peak-current",
             Property::WindingTemperature => "winding-temperature",
+            Property::SeatDetectionLatency => "seat-detection-latency",
+            Property::DropoutDetectionLatency => "dropout-detection-latency",
+            Property::FalseDetections => "false-detections",
         }
     }
 
@@ -1223,6 +1236,9 @@ impl Property {
             Property::JamLatency => "jam_latency",
             Property::ReversalPeakCurrent => "reversal_peak_current",
             Property::WindingTemperature => "winding_temperature",
+            Property::SeatDetectionLatency => "seat_detection_latency",
+            Property::DropoutDetectionLatency => "dropout_detection_latency",
+            Property::FalseDetections => "false_detections",
         }
     }
 
@@ -1246,10 +1262,12 @@ impl Property {
             | Property::SeatTime
             | Property::ArmatureReleaseTime
             | Property::TimeToSpeed
-            | Property::JamLatency => Unit::Second,
+            | Property::JamLatency
+            | Property::SeatDetectionLatency
+            | Property::DropoutDetectionLatency => Unit::Second,
             Property::CoilTemperature | Property::WindingTemperature => Unit::Celsius,
             Property::CoilPower => Unit::Watt,
-            Property::NoTrip => Unit::None,
+            Property::NoTrip | Property::FalseDetections => Unit::None,
         }
     }
 
@@ -1346,7 +1364,13 @@ impl TryFrom<RawCheck> for Check {
                         .into(),
                 );
             }
-            None if p == Property::NoTrip || p == Property::HoldCurrent => 0.0,
+            None if matches!(
+                p,
+                Property::NoTrip | Property::HoldCurrent | Property::FalseDetections
+            ) =>
+            {
+                0.0
+            }
             None => return Err(format!("missing key `max`: the limit of {}", p.name())),
             Some(raw) => limit("max", raw)?,
         };

@@ -96,6 +96,11 @@ where
                 Some(lenz::drive::CoilFault::Stuck) => Some(TripCause::StuckArmature),
                 None => self.last_trip.map(|e| TripCause::from(e.cause)),
             },
+            seated: matches!(self.driver.motion(), lenz::kernel::Motion::Seated { .. }),
+            dropped_out: matches!(
+                self.driver.motion(),
+                lenz::kernel::Motion::DroppedOut { .. }
+            ),
         }
     }
 }
@@ -166,6 +171,7 @@ where
             estimate_a: None,
             tripped: self.driver.faulted(),
             trip_cause: self.driver.faulted().then_some(TripCause::Other),
+            ..Telemetry::default()
         }
     }
 }

@@ -87,6 +87,7 @@ impl<C: Borrow<MotorDriverConfig>> Controller for MotorDriverLoop<C> {
             estimate_a: None,
             tripped: cause.is_some(),
             trip_cause: cause,
+            ..Telemetry::default()
         }
     }
 }

@@ -31,6 +31,7 @@ use lenz::kernel::{
 };
 use lenz::{Coil, Range};
 
+use super::firmware_movement::{MovementInputs, movement_inputs};
 use super::{SetupError, clamp, coil, sense};
 use crate::scenario::{self, Controller, File};
 
@@ -100,6 +101,10 @@ pub struct CoilInputs {
     pub trip_params: TripParams,
     /// Trip detector.
     pub trip: TripConfig,
+    /// The armature movement detector and the seated inductance (with
+    /// `[system.coil.armature]`; `None` without one), planned with the example driver's
+    /// longest pull-in as its deadline ([`super::firmware_movement`]).
+    pub movement: Option<MovementInputs>,
 }
 
 /// The plan of a boost stage.
@@ -389,6 +394,18 @@ fn coil_inputs(
     };
     let trip =
         TripConfig::new(&trip_params).map_err(crate::scenario::run::lenz_err(file, table, None))?;
+    let movement = match &c.armature {
+        Some(a) => Some(movement_inputs(
+            file,
+            a,
+            &model,
+            tick_s,
+            sense.amps_per_count,
+            st.pull_in_min_s + crate::controllers::PULL_IN_GRACE_S,
+            temp_c,
+        )?),
+        None => None,
+    };
     Ok(CoilInputs {
         coil: model,
         clamp,
@@ -401,6 +418,7 @@ fn coil_inputs(
         monitor,
         trip_params,
         trip,
+        movement,
     })
 }
 

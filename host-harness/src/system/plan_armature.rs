@@ -42,7 +42,11 @@ fn reach(t: Option<RelTolerance>) -> f32 {
     })
 }
 
-fn spread(f: &File, a: &ArmatureKeys, l_tol: f32) -> Result<ArmatureSpread, lenz::Error> {
+pub(super) fn spread(
+    f: &File,
+    a: &ArmatureKeys,
+    l_tol: f32,
+) -> Result<ArmatureSpread, lenz::Error> {
     let nominal = Armature::new(
         MagneticCircuit::new(
             GapInductance::Reluctance {

@@ -64,6 +64,7 @@ impl Controller for InTheLoop {
                 LockFault::Trip(c) => TripCause::from(c),
                 LockFault::Plausibility(k) => TripCause::Plausibility(k),
             }),
+            ..Telemetry::default()
         }
     }
 }
