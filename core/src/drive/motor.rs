@@ -179,7 +179,7 @@ pub type MotorDriveError<P, A, B> = DriveError<
 ///     tick_s,
 ///     speed_filter_s: 0.0,
 ///     guard: BridgeGuardParams {
-///         supply_v: 13.2, temp_c: -20.0, load_torque_nm: 0.0, current_limit_a: 4.0, tick_s,
+///         supply_v: 13.2, temp_c: -20.0, max_temp_c: 60.0, load_torque_nm: 0.0, current_limit_a: 4.0, tick_s,
 ///         dead_time_s: 200e-6, reverse_speed_rad_s: 20.0, probe_interval_s: 5e-3,
 ///     },
 ///     jam: JamParams {

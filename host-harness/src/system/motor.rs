@@ -135,6 +135,7 @@ pub fn driver_params(
         guard: BridgeGuardParams {
             supply_v: s.supply.max.get() as f32,
             temp_c: s.temperature.min.get() as f32,
+            max_temp_c: s.temperature.max.get() as f32,
             load_torque_nm: m.load_torque_nm,
             current_limit_a: settings.current_limit_a,
             tick_s,
