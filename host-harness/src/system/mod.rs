@@ -24,6 +24,7 @@ pub mod emit;
 mod error;
 pub mod firmware;
 pub mod motor;
+pub mod motor_stall;
 pub mod plan;
 mod plan_armature;
 pub mod plant;
