@@ -124,7 +124,7 @@ proptest! {
             }))?;
             ok_finite(SpeedEstimatorConfig::pwm_voltage_error_v(&m, t, x, v, y))?;
             let _ = BridgeGuardConfig::new(&m, &BridgeGuardParams {
-                supply_v: v, temp_c: t, load_torque_nm: load, current_limit_a: x, tick_s: y,
+                supply_v: v, temp_c: t, max_temp_c: t, load_torque_nm: load, current_limit_a: x, tick_s: y,
                 dead_time_s: z, reverse_speed_rad_s: x, probe_interval_s: y,
             });
             for rail in [Rail::Sinks, Rail::Capacitor { capacitance_f: y }] {

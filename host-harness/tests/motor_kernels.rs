@@ -165,6 +165,7 @@ impl Firmware {
                 &BridgeGuardParams {
                     supply_v: 12.0,
                     temp_c: 20.0,
+                    max_temp_c: 20.0,
                     load_torque_nm: LOAD as f32,
                     current_limit_a: 4.0,
                     tick_s: TICK as f32,

@@ -31,6 +31,7 @@ fn demo_params() -> BridgeGuardParams {
     BridgeGuardParams {
         supply_v: 13.2,
         temp_c: -20.0,
+        max_temp_c: 60.0,
         load_torque_nm: 0.0,
         current_limit_a: 4.0,
         tick_s: 100e-6,

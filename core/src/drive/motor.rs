@@ -125,6 +125,12 @@ pub type MotorDriveError<P, A, B> = DriveError<
 ///    (all off), then writes the pin going low, then the pin going high, then the new duty: the
 ///    bridge never drives while its direction changes.
 ///
+/// The current reading of a tick must be sampled **at the end of the tick** that ended (the
+/// ADC triggered at the end of the tick, the end of a PWM period, and read at the next tick):
+/// the speed estimator weighs the current step over exactly one tick, and a sample taken early
+/// in the tick is off by the current's slew (see
+/// [`SpeedEstimatorConfig`](crate::kernel::SpeedEstimatorConfig), "Sampling instant").
+///
 /// Integer only in the tick: no float, no division, no allocation, no panic.
 ///
 /// # Faults and the safe state
@@ -179,7 +185,7 @@ pub type MotorDriveError<P, A, B> = DriveError<
 ///     tick_s,
 ///     speed_filter_s: 0.0,
 ///     guard: BridgeGuardParams {
-///         supply_v: 13.2, temp_c: -20.0, load_torque_nm: 0.0, current_limit_a: 4.0, tick_s,
+///         supply_v: 13.2, temp_c: -20.0, max_temp_c: 60.0, load_torque_nm: 0.0, current_limit_a: 4.0, tick_s,
 ///         dead_time_s: 200e-6, reverse_speed_rad_s: 20.0, probe_interval_s: 5e-3,
 ///     },
 ///     jam: JamParams {

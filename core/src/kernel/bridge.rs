@@ -114,6 +114,10 @@ pub struct BridgeGuardParams {
     pub supply_v: f32,
     /// Winding temperature at which they must hold (the coldest: lowest resistance). Units: °C.
     pub temp_c: f32,
+    /// The hottest winding temperature: the creep speed at which the load turns the braked
+    /// rotor backwards, `R·T/(k² + R·b)`, grows with the resistance, and the reversal speed
+    /// must clear it at its largest (checked at the higher of the two temperatures). Units: °C.
+    pub max_temp_c: f32,
     /// Load torque during start and brake. Units: N·m.
     pub load_torque_nm: f32,
     /// Peak current the start and the brake may reach. Units: A.
@@ -156,6 +160,7 @@ pub struct BridgeGuardRaw {
 /// let cfg = BridgeGuardConfig::new(&m, &BridgeGuardParams {
 ///     supply_v: 13.2,
 ///     temp_c: -20.0,
+///     max_temp_c: 60.0,
 ///     load_torque_nm: 0.0,
 ///     current_limit_a: 4.0,
 ///     tick_s: 100e-6,
@@ -263,7 +268,12 @@ impl BridgeGuardConfig {
         }
         let reverse = in_range("reverse_speed_rad_s", p.reverse_speed_rad_s, 0.0, 2.0e6)?;
         let creep = {
-            let r = f64::from(motor.loop_resistance_ohm(p.temp_c)?);
+            // Largest at the largest resistance: the hotter of the two temperatures.
+            let r = f64::from(
+                motor
+                    .loop_resistance_ohm(p.temp_c)?
+                    .max(motor.loop_resistance_ohm(p.max_temp_c)?),
+            );
             let k = f64::from(motor.torque_constant_nm_per_a());
             let b = f64::from(motor.params().friction_nm_s_per_rad);
             let load = f64::from(crate::error::non_negative(
@@ -517,6 +527,7 @@ mod tests {
             &BridgeGuardParams {
                 supply_v: 12.0,
                 temp_c: 20.0,
+                max_temp_c: 20.0,
                 load_torque_nm: 0.02,
                 current_limit_a: limit,
                 tick_s: 100e-6,
@@ -532,6 +543,41 @@ mod tests {
     fn state_size_is_as_documented() {
         // The kernel rule: at most 32 bytes of state per channel.
         assert_eq!(core::mem::size_of::<BridgeGuardState>(), 8);
+    }
+
+    #[test]
+    fn creep_speed_is_checked_at_the_hottest_winding() {
+        // The braked rotor creeps backwards under the load at R·T/(k² + R·b) (the steady state
+        // of the motor equations with the winding shorted), largest at the largest R.
+        let m = vent();
+        let creep = |temp: f32| {
+            let r = f64::from(m.loop_resistance_ohm(temp).unwrap());
+            r * 0.02 / (0.03 * 0.03 + r * 1e-6)
+        };
+        let (cold, hot) = (creep(-20.0), creep(60.0));
+        assert!(cold < 30.0 && hot > 38.0, "{cold} {hot}");
+        let params = |max_temp_c: f32, reverse: f32| BridgeGuardParams {
+            supply_v: 13.2,
+            temp_c: -20.0,
+            max_temp_c,
+            load_torque_nm: 0.02,
+            current_limit_a: 4.0,
+            tick_s: 100e-6,
+            dead_time_s: 200e-6,
+            reverse_speed_rad_s: reverse,
+            probe_interval_s: 0.0,
+        };
+        // Between the two: enough at -20 °C, not at 60 °C.
+        let between = 0.5 * (cold + hot) as f32;
+        assert!(BridgeGuardConfig::new(&m, &params(-20.0, between)).is_ok());
+        match BridgeGuardConfig::new(&m, &params(60.0, between)) {
+            Err(Error::OutOfRange { param, min, .. }) => {
+                assert_eq!(param, "reverse_speed_rad_s");
+                assert!((f64::from(min) - hot).abs() < 1e-3 * hot, "{min} vs {hot}");
+            }
+            other => panic!("{other:?}"),
+        }
+        assert!(BridgeGuardConfig::new(&m, &params(60.0, hot as f32 + 0.1)).is_ok());
     }
 
     #[test]
@@ -605,6 +651,7 @@ mod tests {
             &BridgeGuardParams {
                 supply_v: 12.0,
                 temp_c: 20.0,
+                max_temp_c: 20.0,
                 load_torque_nm: 0.02,
                 current_limit_a: 4.0,
                 tick_s: 100e-6,

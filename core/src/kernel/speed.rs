@@ -20,6 +20,17 @@
 //! decay the off interval applies `−V_supply` and `u` would be `(2d − 1)·V_supply`. An
 //! optional first-order low-pass `ω̃ += c·(ω̂ − ω̃)`, `c = 1 − e^(−T/τ_f)`, smooths ADC noise.
 //!
+//! # Sampling instant
+//!
+//! `i₁` must be the current **at the end of the tick** (and `i₀` at the end of the previous
+//! one): the gains weigh the current step over exactly one tick, `G₁ ≈ L/T`, so a sample taken
+//! `τ` before the tick's end, while the current still slews at up to `V/L`, moves the estimate
+//! by up to about `G₁·(V/L)·τ/k ≈ V·τ/(T·k)` (the whole back-EMF range for `τ = T`). Trigger the
+//! ADC at the end of the tick (the end of a PWM period when the tick holds whole periods) and
+//! read it at the next tick; a sample early in the tick makes the estimate wrong by the
+//! current's slew, not by noise. (The stall estimate does not depend on it: a stalled rotor at
+//! full duty draws a steady current.)
+//!
 //! While the bridge coasts the applied voltage is not known (the diodes conduct against the
 //! bus, or they block and the back-EMF leaves no trace in the current at all): such ticks call
 //! [`SpeedEstimatorConfig::hold`], which keeps the last estimate and only records the current.
@@ -269,7 +280,8 @@ impl SpeedEstimatorConfig {
     /// - `duty_q16`: the duty held during the tick that ends now, signed by direction,
     ///   saturated to `±DUTY_ONE_Q16`.
     /// - `supply_mv`: the measured supply during that tick, mV; negative readings count as 0.
-    /// - `current_ua`: the sensed winding current at the end of the tick, µA, signed.
+    /// - `current_ua`: the sensed winding current at the end of the tick, µA, signed (sampled
+    ///   at the tick's end: see the module docs, "Sampling instant").
     ///
     /// # Returns
     ///

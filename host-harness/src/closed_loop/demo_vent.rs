@@ -166,6 +166,7 @@ pub fn vent_driver_params(sensors: &Sensors) -> Result<MotorDriverParams, Error>
         guard: BridgeGuardParams {
             supply_v: 13.2,
             temp_c: -20.0,
+            max_temp_c: 60.0,
             load_torque_nm: VENT_LOAD_NM as f32,
             current_limit_a: 4.0,
             tick_s,

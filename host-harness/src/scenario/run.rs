@@ -145,6 +145,13 @@ fn unit_draw(d: Dist, u: f64) -> f64 {
     }
 }
 
+/// The largest relative deviation a tolerance draws: `rel` (uniform) or `3·rel` (normal,
+/// truncated at ±3σ).
+#[must_use]
+pub fn tolerance_half_width(t: RelTolerance) -> f64 {
+    t.rel.get() * span(t.dist)
+}
+
 /// Half-width of [`unit_draw`]'s support: a range is ±1 (uniform) or ±3σ (normal).
 fn span(d: Dist) -> f64 {
     match d {

@@ -25,6 +25,7 @@ mod error;
 pub mod firmware;
 pub mod firmware_movement;
 pub mod motor;
+pub mod motor_stall;
 pub mod plan;
 mod plan_armature;
 pub mod plant;

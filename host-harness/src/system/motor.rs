@@ -135,6 +135,7 @@ pub fn driver_params(
         guard: BridgeGuardParams {
             supply_v: s.supply.max.get() as f32,
             temp_c: s.temperature.min.get() as f32,
+            max_temp_c: s.temperature.max.get() as f32,
             load_torque_nm: m.load_torque_nm,
             current_limit_a: settings.current_limit_a,
             tick_s,
@@ -230,7 +231,8 @@ fn corner(c: &MotorCorner) -> String {
 /// the unguarded start, reversal and brake peaks too without `[controller.motor]` (with it,
 /// the driver's current limit); the bus voltage when the motor coasts from its steady speed
 /// into a supply that cannot sink against the bus rating; the load torque against the stall
-/// torque.
+/// torque; with `[controller.motor]`, its reversal and jam speeds against the speed
+/// estimator's error at stall ([`super::motor_stall`]).
 ///
 /// # Errors
 ///
@@ -370,6 +372,14 @@ pub fn plan(f: &File, m: &MotorStage) -> Result<Report, SetupError> {
                 "V",
             ));
         }
+    }
+    if let Controller::Motor(c) = &f.controller {
+        let e = super::motor_stall::stall_error(f, &motor_model(f, m)?)?;
+        verdicts.extend(super::motor_stall::verdicts(
+            &e,
+            c.reverse_speed.get(),
+            c.jam_speed.get(),
+        ));
     }
     if let Some(c) = match &f.controller {
         Controller::Motor(c) => Some(c),

@@ -42,6 +42,7 @@ pub fn vent_params() -> MotorDriverParams {
         guard: BridgeGuardParams {
             supply_v: 12.0,
             temp_c: 20.0,
+            max_temp_c: 20.0,
             load_torque_nm: 0.0,
             current_limit_a: 4.0,
             tick_s: TICK_S,

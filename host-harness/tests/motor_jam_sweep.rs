@@ -1,0 +1,134 @@
+//! Missed jams of the shipped `motor.toml` (the demo's vent motor, invented values): a sweep
+//! over its tolerances detects the jam in every run within its limit, and the plan's
+//! stall-error verdicts fail the reversal and jam speeds that let a sweep miss jams
+//! (`reverse_speed = 50`, `jam_speed = 60`: runs 7:5 and 7:7 of `lenz sweep --runs 8
+//! --seed 7` never tripped).
+//!
+//! The sweep runs the file's system and tolerances with its jam scenario brought forward
+//! (jam at 200 ms instead of 500 ms: the rotor is at its loaded speed after about 115 ms and the
+//! jam detector's start blanking ends at 150 ms) to keep
+//! the debug-build time down. Run with `--nocapture` to see the latencies.
+
+use lenz_harness::System;
+use lenz_harness::system::SweepOptions;
+
+fn text() -> String {
+    std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/motor.toml"))
+        .expect("the demo motor file")
+}
+
+/// `motor.toml` with its scenarios replaced by one jam scenario (the shipped checks).
+fn jam_only(text: &str) -> String {
+    let head = &text[..text.find("\n[[scenario]]").expect("a scenario")];
+    format!(
+        "{head}\n[[scenario]]\nname = \"jam\"\nduration = \"235ms\"\n\
+         [[scenario.event]]\nat = 0\ncommand = \"forward\"\n\
+         [[scenario.event]]\nat = \"200ms\"\nfault = \"jam\"\nexpect_trip = true\n\
+         [[scenario.check]]\nproperty = \"jam-latency\"\nmax = \"30ms\"\n\
+         [[scenario.check]]\nproperty = \"trip-latency\"\nmax = \"30ms\"\n\
+         [[scenario.check]]\nproperty = \"peak-current\"\nmax = \"10A\"\n"
+    )
+}
+
+fn with(text: &str, old: &str, new: &str) -> String {
+    assert!(text.contains(old), "motor.toml has `{old}`");
+    text.replacen(old, new, 1)
+}
+
+#[test]
+fn every_jam_of_a_sweep_is_detected_within_its_limit() {
+    const RUNS: u64 = 24;
+    let sys =
+        System::from_toml("motor-jam.toml", &jam_only(&text())).unwrap_or_else(|e| panic!("{e}"));
+    let opts = SweepOptions::runs(RUNS).seed(7);
+    let make = |fw: &lenz_harness::system::FirmwareInputs| {
+        let m = fw.motor().unwrap();
+        let params = fw
+            .motor_driver_params(sys.description(), &m.settings.unwrap())
+            .unwrap();
+        lenz_harness::controllers::BridgeMotorDriver::new(
+            lenz::drive::MotorDriverConfig::new(&params).unwrap(),
+            1000,
+        )
+        .unwrap()
+    };
+    let rep = sys.sweep(&opts, make).unwrap_or_else(|e| panic!("{e}"));
+    let out = &rep.output;
+    assert_eq!(out.records.len(), RUNS as usize);
+    let col = out
+        .keys
+        .iter()
+        .position(|k| k.property == "jam_latency")
+        .expect("a jam-latency column");
+    let limit = out.keys[col].limit;
+    let mut latencies: Vec<f64> = out
+        .records
+        .iter()
+        .map(|r| {
+            let v = r.values[col].unwrap_or_else(|| panic!("run 7:{}: jam not detected", r.index));
+            assert!(
+                r.pass[col] && v <= limit,
+                "run 7:{}: jam latency {v} s over {limit} s",
+                r.index
+            );
+            v
+        })
+        .collect();
+    assert!(rep.all_hold(), "{:?}", rep.failures());
+    latencies.sort_by(f64::total_cmp);
+    println!(
+        "jam latency over {RUNS} runs: min {:.2} ms, median {:.2} ms, max {:.2} ms",
+        latencies[0] * 1e3,
+        latencies[latencies.len() / 2] * 1e3,
+        latencies[latencies.len() - 1] * 1e3
+    );
+}
+
+fn plan_verdicts(text: &str) -> Vec<(String, bool)> {
+    let sys = System::from_toml("motor.toml", text).unwrap_or_else(|e| panic!("{e}"));
+    let plan = sys.plan().unwrap_or_else(|e| panic!("{e}"));
+    let json = serde_json::to_value(&plan).expect("plan as JSON");
+    let mut found = Vec::new();
+    let mut stack = vec![&json];
+    while let Some(v) = stack.pop() {
+        match v {
+            serde_json::Value::Object(o) => {
+                if let (Some(serde_json::Value::String(c)), Some(serde_json::Value::Bool(p))) =
+                    (o.get("check"), o.get("pass"))
+                    && c.starts_with("speed estimate's stall error")
+                {
+                    found.push((c.clone(), *p));
+                }
+                stack.extend(o.values());
+            }
+            serde_json::Value::Array(a) => stack.extend(a),
+            _ => {}
+        }
+    }
+    found.sort();
+    found
+}
+
+#[test]
+fn the_plan_fails_the_settings_that_missed_jams() {
+    let shipped = text();
+    let ok = plan_verdicts(&shipped);
+    assert_eq!(ok.len(), 2, "{ok:?}");
+    assert!(ok.iter().all(|(_, pass)| *pass), "{ok:?}");
+    let old_reverse = with(&shipped, "reverse_speed = 90 ", "reverse_speed = 50 ");
+    let v = plan_verdicts(&old_reverse);
+    println!("reverse_speed = 50: {v:?}");
+    assert!(v.iter().any(|(c, p)| c.contains("reverse speed") && !p));
+    assert!(v.iter().any(|(c, p)| c.contains("jam speed") && *p));
+    let old_jam = with(&shipped, "jam_speed = 90 ", "jam_speed = 60 ");
+    let v = plan_verdicts(&old_jam);
+    println!("jam_speed = 60: {v:?}");
+    assert!(v.iter().any(|(c, p)| c.contains("jam speed") && !p));
+    // A wider resistance spread raises the bound past the shipped speeds as well.
+    let wide = with(
+        &shipped,
+        "resistance = { dist = \"uniform\", rel = 0.1 }",
+        "resistance = { dist = \"uniform\", rel = 0.3 }",
+    );
+    assert!(plan_verdicts(&wide).iter().all(|(_, p)| !p));
+}
