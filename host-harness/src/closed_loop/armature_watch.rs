@@ -29,21 +29,7 @@ pub(super) struct ArmatureValues {
 /// The values over `strokes` for the demand `schedule` (time, on) up to `end_s`.
 pub(super) fn values(strokes: &[Stroke], schedule: &[(f64, bool)], end_s: f64) -> ArmatureValues {
     // On periods: (start, end) of each demand-on, in order.
-    let mut periods: Vec<(f64, f64)> = Vec::new();
-    let mut on_from: Option<f64> = None;
-    for &(t, on) in schedule {
-        match (on, on_from) {
-            (true, None) => on_from = Some(t),
-            (false, Some(t0)) => {
-                periods.push((t0, t));
-                on_from = None;
-            }
-            _ => {}
-        }
-    }
-    if let Some(t0) = on_from {
-        periods.push((t0, end_s));
-    }
+    let periods = super::detection_watch::on_periods(schedule, end_s);
     let mut seat = 0.0f64;
     let mut release = 0.0f64;
     for (k, &(t_on, t_off)) in periods.iter().enumerate() {

@@ -137,7 +137,7 @@ impl DetectionWatch {
 }
 
 /// (start, end) of each on period of the demand schedule.
-fn on_periods(schedule: &[(f64, bool)], end_s: f64) -> Vec<(f64, f64)> {
+pub(super) fn on_periods(schedule: &[(f64, bool)], end_s: f64) -> Vec<(f64, f64)> {
     let mut periods = Vec::new();
     let mut on_from: Option<f64> = None;
     for &(t, on) in schedule {
