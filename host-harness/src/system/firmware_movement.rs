@@ -18,7 +18,6 @@
 //!   hold and in the decay follows the seated coil; the monitor is blanked during the pull-in,
 //!   see `lenz::drive::CoilDriverConfig::with_movement`).
 
-use lenz::armature::GapInductance;
 use lenz::kernel::{MovementConfig, MovementParams};
 
 use super::SetupError;
@@ -72,12 +71,7 @@ pub fn movement_inputs(
     let spread = super::plan_armature::spread(file, a, l_tol).map_err(bad)?;
     let pull = spread.pull_in_current_a().map_err(bad)?;
     let hold = spread.hold_current_a().map_err(bad)?;
-    let seated = GapInductance::Reluctance {
-        zero_gap_h: a.zero_gap_inductance.get() as f32,
-        halving_gap_m: a.halving_gap.get() as f32,
-    }
-    .inductance_h(a.closed_gap.get() as f32)
-    .map_err(bad)?;
+    let seated = super::plan_armature::seated_inductance_h(a).map_err(bad)?;
     let off_r = coil.off_loop_resistance_ohm(temp_c).map_err(bad)?;
     let noise = file.system.sense.noise.get() as f32;
     let lsb = (HYSTERESIS_PER_NOISE_RMS * noise).max(HYSTERESIS_MIN_LSB);

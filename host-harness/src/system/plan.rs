@@ -166,8 +166,27 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, SetupEr
         coil.resistance_tolerance.get() as f32,
     )
     .map_err(err(f, "system.coil"))?;
+    // A coil with a moving armature is held and switched off seated: its stored energy, its
+    // hold and every switch-off figure (release time included) use the seated inductance
+    // `L(closed_gap)` over the same tolerances; the pull-in figures keep the coil's
+    // `inductance` (the open gap, where the pull-in starts).
+    let seated = match &coil.armature {
+        None => spread,
+        Some(a) => CoilSpread::new(
+            lenz::CoilParams {
+                inductance_h: super::plan_armature::seated_inductance_h(a)
+                    .map_err(err(f, "system.coil.armature"))?,
+                ..params
+            },
+            supply,
+            temp,
+            coil.inductance_tolerance.get() as f32,
+            coil.resistance_tolerance.get() as f32,
+        )
+        .map_err(err(f, "system.coil.armature"))?,
+    };
     let off = TurnOffSpread {
-        spread,
+        spread: seated,
         clamp: clamp::core_clamp(clamp),
     };
     let mut figures = Vec::new();
@@ -181,7 +200,7 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, SetupEr
     };
     add("steady current", "A", spread.steady_current_a()).map_err(fig_err(f, "steady current"))?;
     add("time constant", "s", spread.time_constant_s()).map_err(fig_err(f, "time constant"))?;
-    add("stored energy", "J", spread.stored_energy_j()).map_err(fig_err(f, "stored energy"))?;
+    add("stored energy", "J", seated.stored_energy_j()).map_err(fig_err(f, "stored energy"))?;
     let pull_in = add(
         "pull-in time",
         "s",
@@ -236,7 +255,11 @@ fn coil_plan(f: &File, coil: &Coil, clamp: &ClampSpec) -> Result<Report, SetupEr
         ));
     }
     if let crate::scenario::Controller::Coil(c) = &f.controller {
-        settings_verdicts(f, coil, clamp, c, &spread, &mut figures, &mut verdicts)?;
+        let spreads = Spreads {
+            unmoved: &spread,
+            seated: &seated,
+        };
+        settings_verdicts(f, coil, clamp, c, &spreads, &mut figures, &mut verdicts)?;
     }
     let find = |name: &str| figures.iter().find(|f| f.figure == name);
     let r = &s.ratings;
@@ -527,6 +550,13 @@ pub fn duty_limiter_params(
     })
 }
 
+/// The coil's spreads: as described (`inductance`) and seated (the armature at its closed
+/// stop; the same spread when nothing moves).
+struct Spreads<'a> {
+    unmoved: &'a CoilSpread,
+    seated: &'a CoilSpread,
+}
+
 /// The coil controller's settings against the worst-case coil:
 ///
 /// - the pull-in current setting must lie below the lowest steady current (the hot,
@@ -535,16 +565,18 @@ pub fn duty_limiter_params(
 ///   PWM hold (the valley of the periodic steady state, [`lenz::Coil::pwm_steady_state`]) at
 ///   the worst corner must stay at or above it. The steady state is the closed form for a
 ///   freewheel diode; a hold through another clamp kind is a failed verdict that says so.
+///   The hold is planned on the seated coil (an armature is held at its closed stop).
 fn settings_verdicts(
     f: &File,
     coil: &Coil,
     clamp: &ClampSpec,
     c: &crate::scenario::CoilController,
-    spread: &CoilSpread,
+    spreads: &Spreads<'_>,
     figures: &mut Vec<Figure>,
     verdicts: &mut Vec<Verdict>,
 ) -> Result<(), SetupError> {
-    let steady = spread
+    let steady = spreads
+        .unmoved
         .steady_current_a()
         .map_err(fig_err(f, "steady current"))?;
     let setting = c.pull_in_current.get() as f32;
@@ -564,7 +596,11 @@ fn settings_verdicts(
         // The hold's valley, planned for a freewheel diode only (see below).
         let freq = f.system.pwm_frequency.get() as f32;
         let valley = (clamp::ClampKind::of_spec(clamp) == clamp::ClampKind::Freewheel)
-            .then(|| spread.figure(|k, v, t| k.pwm_steady_state(v, t, duty, freq).map(|s| s.min_a)))
+            .then(|| {
+                spreads
+                    .seated
+                    .figure(|k, v, t| k.pwm_steady_state(v, t, duty, freq).map(|s| s.min_a))
+            })
             .transpose()
             .map_err(err(f, "controller.coil.hold_duty"))?
             .map(|b| b.min);
@@ -597,7 +633,8 @@ fn settings_verdicts(
         return Ok(());
     }
     let freq = f.system.pwm_frequency.get() as f32;
-    let hold = spread
+    let hold = spreads
+        .seated
         .figure(|k, v, t| k.pwm_steady_state(v, t, duty, freq).map(|s| s.min_a))
         .map_err(err(f, "controller.coil.hold_duty"))?;
     let fig = figure("hold current (PWM valley)", "A", &hold, coil_corner);

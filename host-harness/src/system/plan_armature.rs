@@ -42,19 +42,32 @@ fn reach(t: Option<RelTolerance>) -> f32 {
     })
 }
 
+/// The gap curve of `[system.coil.armature]` (the plan's form of it).
+#[must_use]
+pub(super) fn gap_inductance(a: &ArmatureKeys) -> GapInductance {
+    GapInductance::Reluctance {
+        zero_gap_h: a.zero_gap_inductance.get() as f32,
+        halving_gap_m: a.halving_gap.get() as f32,
+    }
+}
+
+/// The nominal inductance of the seated armature, `L(closed_gap)` (unsaturated), H: the coil
+/// the hold and every switch-off see.
+///
+/// # Errors
+///
+/// The gap curve rejects the closed gap.
+pub(super) fn seated_inductance_h(a: &ArmatureKeys) -> Result<f32, lenz::Error> {
+    gap_inductance(a).inductance_h(a.closed_gap.get() as f32)
+}
+
 pub(super) fn spread(
     f: &File,
     a: &ArmatureKeys,
     l_tol: f32,
 ) -> Result<ArmatureSpread, lenz::Error> {
     let nominal = Armature::new(
-        MagneticCircuit::new(
-            GapInductance::Reluctance {
-                zero_gap_h: a.zero_gap_inductance.get() as f32,
-                halving_gap_m: a.halving_gap.get() as f32,
-            },
-            a.saturation_flux.map(|v| v.get() as f32),
-        )?,
+        MagneticCircuit::new(gap_inductance(a), a.saturation_flux.map(|v| v.get() as f32))?,
         Mechanics {
             open_gap_m: a.open_gap.get() as f32,
             closed_gap_m: a.closed_gap.get() as f32,
