@@ -56,7 +56,8 @@
 //!   most half a PWM period apart while switching) is not seen; in CCM the capacitor's
 //!   extremes fall on the switch edges.
 //! - **Estimator error** is evaluated at every tick instant before the first fault, the instant
-//!   the estimate belongs to.
+//!   the estimate belongs to; on a coil with a moving armature only while the armature rests
+//!   seated and the controller has reported it (`estimate_scope`).
 //! - A supply ramp is applied as a staircase stepped at the harness edges.
 
 pub mod adc;
@@ -66,6 +67,7 @@ pub mod demo;
 pub mod demo_vent;
 mod detection_watch;
 mod envelope;
+mod estimate_scope;
 pub mod motor;
 mod motor_plant;
 mod motor_watch;
@@ -345,6 +347,10 @@ pub trait Plant {
     fn armature_gap_m(&self) -> Option<f64> {
         None
     }
+    /// The moving armature rests at its closed stop now (`None`: nothing moves).
+    fn armature_seated(&self) -> Option<bool> {
+        None
+    }
 }
 
 impl Plant for CoilDrive {
@@ -445,6 +451,10 @@ impl Plant for CoilDrive {
     }
     fn armature_gap_m(&self) -> Option<f64> {
         self.armature().map(|m| m.gap_m())
+    }
+    fn armature_seated(&self) -> Option<bool> {
+        self.armature()
+            .map(|m| m.mode() == crate::plant::ArmatureMode::RestClosed)
     }
 }
 
@@ -839,6 +849,10 @@ pub fn run<P: Plant, C: Controller>(
     let mut watch = coil_watch::CoilWatch::new(cfg.limits.pull_in);
     let mut was_tripped = false;
     let mut est_err = 0.0f64;
+    // The controller has reported the armature seated since the last on command.
+    let mut reported_seated = false;
+    // Ticks at which the estimator error was measured.
+    let mut est_ticks = 0u64;
     let mut demand = false;
     let mut release_from: Option<f64> = None;
     let mut release_worst = 0.0f64;
@@ -878,6 +892,8 @@ pub fn run<P: Plant, C: Controller>(
             });
             if !want {
                 release_from = Some(t0_s);
+            } else {
+                reported_seated = false;
             }
             watch.demand(plant, t0_s, want);
             demand = want;
@@ -947,10 +963,15 @@ pub fn run<P: Plant, C: Controller>(
             });
         }
         was_tripped = telemetry.tripped;
+        if telemetry.seated {
+            reported_seated = true;
+        }
         if let Some(e) = telemetry.estimate_a
             && first_fault_ns.is_none_or(|f| t0 < f)
+            && estimate_scope::in_scope(plant.armature_seated(), reported_seated)
         {
             est_err = est_err.max((e - plant.probe().current_a).abs());
+            est_ticks += 1;
         }
 
         // The edges of this tick, in time order.
@@ -1176,7 +1197,13 @@ pub fn run<P: Plant, C: Controller>(
         add("output_within_band", band_worst, b, "V");
     }
     if let Some(r) = l.estimator_error_max_a {
-        add("estimator_error", est_err, r, "A");
+        // Nothing measured must not pass: infinite (estimate_scope).
+        let value = if est_ticks == 0 {
+            f64::INFINITY
+        } else {
+            est_err
+        };
+        add("estimator_error", value, r, "A");
     }
     if let Some(r) = l.pull_in.and_then(|p| p.max_s) {
         add("pull_in_time", coil.pull_in_s, r, "s");
@@ -1305,6 +1332,9 @@ pub fn run<P: Plant, C: Controller>(
                 props.push(mk(name, value, r, unit, Bound::Max));
             }
         }
+    }
+    if let Some(p) = props.iter_mut().find(|p| p.name == "estimator_error") {
+        p.detail = estimate_scope::detail(plant.armature_seated().is_some(), est_ticks);
     }
     Ok(RunResult {
         properties: props,

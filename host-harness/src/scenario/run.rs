@@ -694,8 +694,13 @@ fn coil_plan_err(file: &File, c: &super::CoilController, e: lenz::Error) -> RunS
     }
 }
 
-/// The example valve driver planned from `inputs` (the firmware inputs of `file`).
-fn valve_driver(
+/// The example valve driver planned from `inputs` (the firmware inputs of `file`): the
+/// controller `run` uses for a `[controller.coil]`.
+///
+/// # Errors
+///
+/// No `[controller.coil]`, or a plan rejects a value (named).
+pub fn valve_driver(
     file: &File,
     inputs: &crate::system::FirmwareInputs,
 ) -> Result<ValveDriverConfig, RunSetupError> {

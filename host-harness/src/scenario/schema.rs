@@ -1119,7 +1119,10 @@ pub enum Property {
     /// and after each load step, V (`max`).
     OutputBand,
     /// Largest difference between the firmware's current estimate and the plant current
-    /// while the coil is on, A (`max`).
+    /// while the coil is on, A (`max`). With `[system.coil.armature]`, measured only while
+    /// the armature rests seated and the controller has reported it seated (the estimate
+    /// models one inductance; the motion is checked by the armature properties); infinite
+    /// when no tick was measured.
     EstimatorError,
     /// Longest time from an on command to the coil current first reaching the coil's
     /// `pull_in_current`, s (`max`; infinite when it never gets there).
@@ -1240,6 +1243,21 @@ impl Property {
             Property::DropoutDetectionLatency => "dropout_detection_latency",
             Property::FalseDetections => "false_detections",
         }
+    }
+
+    /// The property is measured on a moving armature (`[system.coil.armature]`).
+    #[must_use]
+    pub const fn needs_armature(self) -> bool {
+        matches!(
+            self,
+            Property::SeatTime
+                | Property::ImpactVelocity
+                | Property::ArmatureReleaseTime
+                | Property::ActuationEnergy
+                | Property::SeatDetectionLatency
+                | Property::DropoutDetectionLatency
+                | Property::FalseDetections
+        )
     }
 
     /// Unit of the value and the limits.
