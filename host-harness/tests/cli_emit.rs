@@ -30,13 +30,34 @@ fn scratch(name: &str) -> PathBuf {
     d
 }
 
-/// Emits the C header of `file` into `dir`, compiles `main` (a C body printing `NAME VALUE`
+/// The shipped coil file `file` without its armature, written into `dir`: the C API's coil
+/// driver plans no movement detector, so `emit --lang c` refuses a coil with an armature
+/// (`the_c_header_refuses_a_coil_with_an_armature`); the other constants are the same.
+fn without_armature(file: &str, dir: &Path) -> String {
+    let text = std::fs::read_to_string(scenario_path(file)).expect("read");
+    let (head, _) = text
+        .split_once("# -------")
+        .expect("the scenario separator");
+    let (a, b) = head
+        .split_once("[system.coil.armature]")
+        .expect("the armature section");
+    let plain = format!(
+        "{a}{}\n[[scenario]]\nname = \"on\"\nduration = \"10ms\"\n[[scenario.event]]\nat = \"1ms\"\n\
+         command = \"on\"\n[[scenario.check]]\nproperty = \"peak-current\"\nmax = \"10A\"\n",
+        &b[b.find("\n[").expect("a table after it")..]
+    );
+    let path = dir.join(file);
+    std::fs::write(&path, plain).expect("write");
+    path.to_str().expect("utf-8").to_string()
+}
+
+/// Emits the C header of `file` (a path) into `dir`, compiles `main` (a C body printing `NAME VALUE`
 /// lines) against it with warnings as errors, runs it and returns its lines.
 fn c_values(file: &str, header: &str, dir: &Path, main: &str) -> Vec<(String, i128)> {
     let h = dir.join(header);
     let out = lenz(&[
         "emit",
-        &scenario_path(file),
+        file,
         "--lang",
         "c",
         "--out",
@@ -99,8 +120,9 @@ fn assert_values(got: &[(String, i128)], want: &[(&str, i128)]) {
 #[test]
 fn the_valve_header_compiles_and_holds_the_planned_values() {
     let dir = scratch("valve");
+    let valve = without_armature("valve.toml", &dir);
     let got = c_values(
-        "valve.toml",
+        &valve,
         "lenz_valve.h",
         &dir,
         r#"    printf("estimator.on_step_q31 %d\n", (int)EMITTED_ESTIMATOR.on_step_q31);
@@ -117,7 +139,7 @@ fn the_valve_header_compiles_and_holds_the_planned_values() {
     printf("coil_driver.pull_in_max_ticks %u\n", (unsigned)EMITTED_COIL_DRIVER.pull_in_max_ticks);
     printf("coil_driver.hold_regulated %u\n", (unsigned)EMITTED_COIL_DRIVER.hold_regulated);"#,
     );
-    let s = System::from_file(scenario_path("valve.toml")).unwrap_or_else(|e| panic!("{e}"));
+    let s = System::from_file(&valve).unwrap_or_else(|e| panic!("{e}"));
     let fw = s.firmware_inputs().unwrap_or_else(|e| panic!("{e}"));
     let c = fw.coil.expect("a coil drive");
     let est = c.estimator.raw();
@@ -166,7 +188,7 @@ fn the_valve_header_compiles_and_holds_the_planned_values() {
 fn the_boost_header_compiles_and_holds_the_planned_values() {
     let dir = scratch("boost");
     let got = c_values(
-        "boost.toml",
+        &scenario_path("boost.toml"),
         "lenz_boost.h",
         &dir,
         r#"    long long sat = 0;
@@ -303,14 +325,15 @@ fn bad_input_is_exit_2_naming_it() {
 #[test]
 fn the_relay_header_compiles_and_holds_the_planned_trip() {
     let dir = scratch("relay");
+    let relay = without_armature("relay.toml", &dir);
     let got = c_values(
-        "relay.toml",
+        &relay,
         "lenz_relay.h",
         &dir,
         r#"    printf("trip.instantaneous_counts %u\n", (unsigned)EMITTED_COIL_DRIVER.trip.instantaneous_counts);
     printf("off_timer.threshold_ua %d\n", (int)EMITTED_COIL_DRIVER.off_timer.threshold_ua);"#,
     );
-    let s = System::from_file(scenario_path("relay.toml")).unwrap_or_else(|e| panic!("{e}"));
+    let s = System::from_file(&relay).unwrap_or_else(|e| panic!("{e}"));
     let c = s
         .firmware_inputs()
         .unwrap_or_else(|e| panic!("{e}"))
@@ -330,4 +353,23 @@ fn the_relay_header_compiles_and_holds_the_planned_trip() {
         ],
     );
     let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The shipped valve and relay have a plunger: the driver runs the movement detector, which
+/// the C API's coil driver cannot carry. The C header is refused with the reason (exit 2),
+/// never written without the detector; the Rust form carries it.
+#[test]
+fn the_c_header_refuses_a_coil_with_an_armature() {
+    for file in ["valve.toml", "relay.toml"] {
+        let out = lenz(&["emit", &scenario_path(file), "--lang", "c"]);
+        assert_eq!(out.status.code(), Some(2), "{file}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            err.contains("the C API plans no armature movement detector; emit --lang rust"),
+            "{err}"
+        );
+        assert!(out.stdout.is_empty(), "{file}: nothing written");
+        let rust = lenz(&["emit", &scenario_path(file), "--lang", "rust"]);
+        assert_eq!(rust.status.code(), Some(0), "{file}");
+    }
 }

@@ -7,38 +7,9 @@
 
 use lenz_harness::scenario::{self, run};
 
-const VALVE: &str = include_str!("../scenarios/valve.toml");
-
-/// The armature section: the demo plunger (invented values).
-const ARMATURE: &str = r#"
-[system.coil.armature]
-zero_gap_inductance = "360mH"
-halving_gap = "0.6mm"
-mass = "8g"
-open_gap = "1.2mm"
-closed_gap = "0.05mm"
-spring_preload = "5N"
-spring_rate = "1kN/m"
-damping = "2N·s/m"
-load = "1.5N"
-restitution = 0.3
-"#;
-
-/// The valve file's system and controller with the armature, and `scenarios`.
-///
-/// With the armature the example driver runs the movement detector and plans its estimator
-/// with the seated plunger's inductance (monitor blanked while the plunger moves): the
-/// shipped 50 mA monitor tolerance holds (`closed_loop_detection.rs`).
-fn file_text(scenarios: &str) -> String {
-    let (head, _) = VALVE
-        .split_once("# -------")
-        .expect("the scenario separator");
-    let head = head.to_string();
-    let (before, after) = head
-        .split_once("# One clamp kind")
-        .expect("the clamp comment");
-    format!("{before}{ARMATURE}\n# One clamp kind{after}\n{scenarios}")
-}
+#[path = "common/demo_valve.rs"]
+mod demo_valve;
+use demo_valve::{valve_with as file_text, valve_without_armature};
 
 const CYCLE: &str = r#"
 [[scenario]]
@@ -89,9 +60,11 @@ fn the_valve_seats_and_opens_within_its_limits() {
     let v = value(&r, "impact_velocity");
     assert!(v > 0.9 && v < 1.2, "{v}");
     assert!(value(&r, "armature_release_time").is_finite());
-    // The seated plunger's 0.33 H decays slower than the fixed 120 mH coil of the shipped
-    // file, whose current-based release time (12 ms limit) it exceeds: 13.8 ms as measured.
-    assert!(value(&r, "release_time") > 12e-3);
+    // The seated plunger's 0.33 H decays slower than a fixed 120 mH coil would (11.0 ms to
+    // 75 mA from the same hold current, the closed form of `cli_plan.rs`): 13.8 ms as measured,
+    // within the plan's worst-case bound on the seated coil (`system_plan_seated.rs`).
+    let release = value(&r, "release_time");
+    assert!(release > 12e-3 && release < 20e-3, "{release}");
 }
 
 #[test]
@@ -150,7 +123,7 @@ fn bad_armature_values_and_misplaced_keys_are_named() {
     let e = run::run(&f, 0, &run::Params::NOMINAL, run::Record::None).unwrap_err();
     assert!(e.0.contains("system.coil.armature.closed_gap"), "{e}");
     // Armature checks and faults need an armature.
-    let plain = VALVE.split_once("# -------").unwrap().0.to_string() + CYCLE;
+    let plain = valve_without_armature(CYCLE);
     let e = scenario::parse("bad.toml", &plain).unwrap_err();
     assert!(e.problem.contains("[system.coil.armature]"), "{e}");
     assert_eq!(e.key, "scenario[0].check[0].property");

@@ -10,38 +10,9 @@ use lenz_harness::controllers::{
 };
 use lenz_harness::scenario::{self, run};
 
-const VALVE: &str = include_str!("../scenarios/valve.toml");
-
-/// The armature section: the demo plunger (invented values, as in `closed_loop_armature.rs`).
-const ARMATURE: &str = r#"
-[system.coil.armature]
-zero_gap_inductance = "360mH"
-halving_gap = "0.6mm"
-mass = "8g"
-open_gap = "1.2mm"
-closed_gap = "0.05mm"
-spring_preload = "5N"
-spring_rate = "1kN/m"
-damping = "2N·s/m"
-load = "1.5N"
-restitution = 0.3
-"#;
-
-/// The valve file's system and controller with the armature (without its own, if it has
-/// one), and `scenarios`.
-fn file_text(scenarios: &str) -> String {
-    let (head, _) = VALVE
-        .split_once("# -------")
-        .expect("the scenario separator");
-    let head = match head.split_once("[system.coil.armature]") {
-        Some((a, b)) => format!("{a}{}", &b[b.find("\n[").expect("a table after it")..]),
-        None => head.to_string(),
-    };
-    let (before, after) = head
-        .split_once("# One clamp kind")
-        .expect("the clamp comment");
-    format!("{before}{ARMATURE}\n# One clamp kind{after}\n{scenarios}")
-}
+#[path = "common/demo_valve.rs"]
+mod demo_valve;
+use demo_valve::valve_with as file_text;
 
 const CYCLE: &str = r#"
 [[scenario]]

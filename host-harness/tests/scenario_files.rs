@@ -103,12 +103,12 @@ fn values_across_a_table_are_checked() {
 #[test]
 fn limits_of_checks_take_the_property_unit() {
     // The first release-time limit, written in volts.
-    let text = edit("max = \"12ms\"", "max = \"12mV\"");
+    let text = edit("max = \"35ms\"", "max = \"35mV\"");
     let e = err(&text);
     assert_eq!(e.key, "scenario[0].check[3].max");
     assert_eq!(
         e.problem,
-        "'12mV' has an unknown prefix or unit (expected a value in s)"
+        "'35mV' has an unknown prefix or unit (expected a value in s)"
     );
     let text = edit("property = \"release-time\"", "property = \"release-tme\"");
     let e = err(&text);
@@ -173,7 +173,7 @@ fn values_beyond_the_f32_core_are_errors_at_their_position() {
     assert_eq!(e.key, "system.ratings.switch_voltage");
     assert!(e.problem.contains("too large"), "{e}");
     assert_eq!((e.line, e.column), pos(&text, "1e308"));
-    let text = edit("release_time = \"12ms\"", "release_time = \"1e-40s\"");
+    let text = edit("release_time = \"35ms\"", "release_time = \"1e-40s\"");
     let e = err(&text);
     assert_eq!(e.key, "system.requirements.release_time");
     assert!(e.problem.contains("too small"), "{e}");

@@ -126,7 +126,7 @@ fn the_plan_fails_a_hold_below_the_must_hold_current() {
         with_must_hold(duty)
             .verdicts
             .into_iter()
-            .find(|v| v.check.starts_with("lowest hold current"))
+            .find(|v| v.check == "lowest hold current ≥ must-hold current")
             .expect("the hold verdict")
     };
     // Mean hold current (D·V − (1 − D)·V_f)/R at the hot, low-supply corner, R = 42.70 Ω:
@@ -134,11 +134,16 @@ fn the_plan_fails_a_hold_below_the_must_hold_current() {
     // below the mean at 20 kHz; copper per published: IEC28; computed: closed form).
     let low = verdict("0.45");
     assert!(!low.pass, "{low:?}");
-    let r = 32.0 * 1.05 * (1.0 + 0.00393 * 65.0) + 0.31;
+    // The mean of the averaged loop: the on path has the winding and the 0.31 Ω of switch,
+    // source and shunt, the freewheel path the winding alone, so the resistance is their
+    // duty-weighted mean. The valve's plunger holds seated (332 mH, L −10 %): a ripple of
+    // about 1 mA, so the valley lies within 1 mA under this mean.
+    let winding = 32.0 * 1.05 * (1.0 + 0.00393 * 65.0);
+    let r = 0.45 * (winding + 0.31) + 0.55 * winding;
     let mean = (0.45 * 21.6 - 0.55 * 0.7) / r;
     let got = f64::from(low.value.expect("a value"));
     assert!(
-        got < mean && got > mean - 0.01,
+        got < mean && got > mean - 0.001,
         "{got} against the mean {mean}"
     );
     assert!(verdict("0.7").pass);

@@ -79,6 +79,7 @@ pub mod run;
 pub mod schema;
 mod schema_motor;
 pub mod timing;
+mod unmoved;
 
 use std::fmt;
 use std::path::Path;
@@ -601,15 +602,7 @@ fn check_consistency(f: &File) -> Result<(), Inconsistency> {
                 {
                     Some("applies to a coil drive")
                 }
-                Property::SeatTime
-                | Property::ImpactVelocity
-                | Property::ArmatureReleaseTime
-                | Property::ActuationEnergy
-                | Property::SeatDetectionLatency
-                | Property::DropoutDetectionLatency
-                | Property::FalseDetections
-                    if f.system.coil.and_then(|k| k.armature).is_none() =>
-                {
+                p if p.needs_armature() && f.system.coil.and_then(|k| k.armature).is_none() => {
                     Some("needs a [system.coil.armature]: without one nothing moves")
                 }
                 Property::PullInTime
