@@ -77,9 +77,55 @@ pub(crate) fn expm<const N: usize>(a: &Mat<N>, t: f64) -> Mat<N> {
     e
 }
 
+/// The orbit `τ ↦ exp(m·τ)·x` of one state for `‖m·τ‖∞ ≤ 1/4`: the same degree-14 Taylor
+/// series as [`expm`] applied to the vector, `Σ τᵏ/k!·mᵏx`, with the vectors `mᵏx` computed
+/// once, so each point costs 15 vector updates instead of 14 matrix products.
+pub(crate) struct Orbit<const N: usize> {
+    /// `mᵏ·x` for `k = 0 ..= 14`.
+    v: [[f64; N]; 15],
+}
+
+impl<const N: usize> Orbit<N> {
+    /// The orbit of `x` under `m`.
+    pub(crate) fn new(m: &Mat<N>, x: &[f64; N]) -> Self {
+        let mut v = [[0.0; N]; 15];
+        v[0] = *x;
+        for k in 1..15 {
+            v[k] = mul_vec(m, &v[k - 1]);
+        }
+        Self { v }
+    }
+
+    /// `exp(m·τ)·x`; the caller keeps `‖m·τ‖∞ ≤ 1/4` (truncation as [`expm`]'s).
+    pub(crate) fn at(&self, tau: f64) -> [f64; N] {
+        let mut y = self.v[14];
+        for k in (1..=14u32).rev() {
+            let c = tau / f64::from(k);
+            for (yi, lower) in y.iter_mut().zip(&self.v[k as usize - 1]) {
+                *yi = lower + c * *yi;
+            }
+        }
+        y
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn orbit_equals_the_exponential_within_a_quarter() {
+        // A damped oscillator with an input, scaled so that ‖m‖∞ = 1.
+        let m: Mat<3> = [[-0.3, -0.5, 0.2], [0.5, -0.1, 0.0], [0.0, 0.0, 0.0]];
+        let x = [0.7, -0.2, 1.0];
+        let orbit = Orbit::new(&m, &x);
+        for tau in [0.0, 0.01, 0.1, 0.2, 0.25] {
+            let want = mul_vec(&expm(&m, tau), &x);
+            for (g, w) in orbit.at(tau).iter().zip(&want) {
+                assert!(libm::fabs(g - w) < 1e-15, "{tau}: {g} vs {w}");
+            }
+        }
+    }
 
     #[test]
     fn rotation_and_augmented_step() {

@@ -24,7 +24,7 @@
 //! `V₀·q + q²/(2C)` with the capacitor alone (`∫u·i dt = C·∫u du`), whose peak is `V₀ + q/C`.
 
 use super::Motor;
-use super::expm::{Mat, expm, mul_vec, norm_inf};
+use super::expm::{Mat, Orbit, expm, mul_vec, norm_inf};
 use super::params::{check_load, check_supply};
 use crate::coil::SUPPLY_MAX_V;
 use crate::error::{Error, finite_result, in_range, non_negative, positive};
@@ -208,8 +208,9 @@ fn slope(m: &Mat<4>, x: &[f64; 4]) -> f64 {
     m[0].iter().zip(x).map(|(a, b)| a * b).sum()
 }
 
-/// Bisection on `g(τ)` over `(lo, hi]` with `g(lo) > 0 ≥ g(hi)`, evaluating the state by
-/// `exp(m·τ)·x`; returns `(τ, state)` at the upper end of the final bracket.
+/// Bisection on `g(τ)` over `(lo, hi]` with `g(lo) > 0 ≥ g(hi)`, evaluating the state as
+/// `exp(m·τ)·x` on its [`Orbit`] (`hi` is at most the bracketing step, so `‖m·τ‖∞ ≤ 1/4`);
+/// returns `(τ, state)` at the upper end of the final bracket.
 fn bisect(
     m: &Mat<4>,
     x: &[f64; 4],
@@ -217,13 +218,14 @@ fn bisect(
     mut hi: f64,
     g: impl Fn(&[f64; 4]) -> f64,
 ) -> (f64, [f64; 4]) {
-    let mut x_hi = mul_vec(&expm(m, hi), x);
+    let orbit = Orbit::new(m, x);
+    let mut x_hi = orbit.at(hi);
     for _ in 0..200 {
         let mid = 0.5 * (lo + hi);
         if mid <= lo || mid >= hi {
             break;
         }
-        let xm = mul_vec(&expm(m, mid), x);
+        let xm = orbit.at(mid);
         if g(&xm) > 0.0 {
             lo = mid;
         } else {

@@ -41,7 +41,11 @@
 //! Every topology is linear, `ẋ = A·x + c`, and is propagated exactly by the matrix
 //! exponential of the augmented 5×5 matrix (module `linalg`), in steps of at most a quarter
 //! over the fastest rate of the system (`R/L + b/J + k/√(L·J) + 1/(R_s·C) + 1/√(L·C)`), so no
-//! event can pass unseen between two steps. Events (the current reaching zero in coast, the
+//! event can pass unseen between two steps. Full steps repeat, and their exponentials are
+//! cached; a shorter step (to a PWM edge or a sample) and every point inside a step (an event,
+//! an extremum) come from one `linalg::Orbit` of the step (the exponential series on the state,
+//! in a balanced basis), or, when the step is too long for it, from the matrix exponential
+//! itself. Events (the current reaching zero in coast, the
 //! diodes starting to conduct, the supply blocking or conducting, the current changing sign
 //! while driven) are linear in the state and located by bisection on the exact solution to
 //! 2⁻⁵⁰ of the step. The current's and the bus voltage's extrema inside a step are located the
@@ -51,16 +55,20 @@
 //! of order `(h·λ)^10`, far below 10⁻¹²); the returned charge is exact (`−Δq` while returning).
 //! Accuracy against `ode_solvers` Dop853 is asserted in `host-harness/tests/plant_motor.rs`.
 
+use std::cell::OnceCell;
+
 use lenz::Error;
 use lenz::kernel::BridgeMode;
 use serde::{Deserialize, Serialize};
 
-use super::linalg::{Mat, expm, mul_vec};
+use super::linalg::{Mat, Orbit, expm, mul_vec};
 use super::thermal::Thermal;
 use super::{finite, in_range, non_negative, positive};
 
 /// Length of the thermal update step, s.
 const THERMAL_STEP_S: f64 = 1e-3;
+/// Full-step exponentials kept (the drive, the off interval and a spare).
+const CACHE_ENTRIES: usize = 4;
 /// Augmented state size: `[i, ω, v_b, q, 1]`.
 const N: usize = 5;
 /// 5-point Gauss–Legendre nodes on `[0, 1]` and weights (sum 1).
@@ -222,7 +230,9 @@ pub struct MotorPlant {
     peak_current_a: f64,
     peak_bus_v: f64,
     events: Vec<MotorEvent>,
-    cache: Option<(Topology, f64, f64, Mat<N>, [Mat<N>; 5])>,
+    /// Exponentials of full steps, keyed by the matrix and the step: the few topologies a PWM
+    /// alternates between stay hot (at most [`CACHE_ENTRIES`], the oldest replaced).
+    cache: Vec<(Mat<N>, f64, Mat<N>, [Mat<N>; 5])>,
 }
 
 impl MotorPlant {
@@ -313,7 +323,7 @@ impl MotorPlant {
             peak_current_a: 0.0,
             peak_bus_v: spec.supply_v,
             events: Vec::new(),
-            cache: None,
+            cache: Vec::new(),
             spec,
         };
         p.update_resistance();
@@ -323,7 +333,6 @@ impl MotorPlant {
     fn update_resistance(&mut self) {
         let s = &self.spec;
         self.r_w = s.r20_ohm * (1.0 + s.alpha20_per_k * (self.temp_c - 20.0));
-        self.cache = None;
     }
 
     /// Time, s.
@@ -492,7 +501,6 @@ impl MotorPlant {
     pub fn set_load_torque_nm(&mut self, torque_nm: f64) -> bool {
         if torque_nm.is_finite() {
             self.load_nm = torque_nm;
-            self.cache = None;
             true
         } else {
             false
@@ -504,7 +512,6 @@ impl MotorPlant {
         if !self.topo.jammed {
             self.topo.jammed = true;
             self.x[1] = 0.0;
-            self.cache = None;
             self.events.push(MotorEvent {
                 t_s: self.t,
                 kind: MotorEventKind::Jammed,
@@ -521,7 +528,6 @@ impl MotorPlant {
             self.topo.open = true;
             self.x[0] = 0.0;
             self.topo.coast = Coast::Blocked;
-            self.cache = None;
         }
     }
 
@@ -562,7 +568,6 @@ impl MotorPlant {
             if !self.spec.supply_sinks && self.x[2] > v {
                 self.topo.supply_on = false;
             }
-            self.cache = None;
             true
         } else {
             false
@@ -578,7 +583,6 @@ impl MotorPlant {
                 self.x[2] = self.spec.supply_v;
             }
         }
-        self.cache = None;
     }
 
     /// Sets the bridge mode at the present time.
@@ -612,7 +616,6 @@ impl MotorPlant {
                 kind: MotorEventKind::SupplyBlocks,
             });
         }
-        self.cache = None;
     }
 
     /// From blocked coast: the diodes conduct when the back-EMF exceeds the bus plus two drops.
@@ -746,17 +749,17 @@ impl MotorPlant {
     }
 
     fn exps(&mut self, h: f64) -> (Mat<N>, [Mat<N>; 5]) {
-        if let Some((topo, load, hh, e, nodes)) = &self.cache
-            && *topo == self.topo
-            && *load == self.load_nm
-            && *hh == h
+        let a = self.matrix();
+        if let Some((_, _, e, nodes)) = self.cache.iter().find(|(m, hh, _, _)| *m == a && *hh == h)
         {
             return (*e, *nodes);
         }
-        let a = self.matrix();
         let e = expm(&a, h);
         let nodes = GL.map(|(c, _)| expm(&a, c * h));
-        self.cache = Some((self.topo, self.load_nm, h, e, nodes));
+        if self.cache.len() >= CACHE_ENTRIES {
+            self.cache.remove(0);
+        }
+        self.cache.push((a, h, e, nodes));
         (e, nodes)
     }
 
@@ -768,7 +771,6 @@ impl MotorPlant {
             }
             self.load_nm = tq;
             self.next_step += 1;
-            self.cache = None;
             self.events.push(MotorEvent {
                 t_s: self.t,
                 kind: MotorEventKind::LoadStep(tq),
@@ -824,7 +826,7 @@ impl MotorPlant {
                 }
                 continue;
             }
-            self.step(h);
+            self.step(h, span > h_max);
             self.maybe_thermal();
         }
         if self.t < t_s && guard >= 50_000_000 {
@@ -833,30 +835,39 @@ impl MotorPlant {
     }
 
     /// One step of at most `h`: to its end or to the first event inside it.
-    fn step(&mut self, h: f64) {
-        let (e, _) = self.exps(h);
-        let x0 = self.x;
-        let x1 = mul_vec(&e, &x0);
+    fn step(&mut self, h: f64, full: bool) {
         let a = self.matrix();
+        let x0 = self.x;
+        let path = Path {
+            a: &a,
+            x0,
+            h,
+            orbit: OnceCell::new(),
+        };
+        // Full steps repeat: their exponentials are cached. A shorter step (to a boundary)
+        // is seldom seen twice, and its points come from the orbit.
+        let (x1, nodes) = if full {
+            let (e, n) = self.exps(h);
+            (mul_vec(&e, &x0), Some(n.map(|m| mul_vec(&m, &x0))))
+        } else {
+            (path.at(h), None)
+        };
         // The earliest event inside the step.
         let mut first: Option<(f64, Watch)> = None;
         for (kind, c) in self.watches() {
             let g0 = dot(&c, &x0);
             let g1 = dot(&c, &x1);
             if g0 >= 0.0 && g1 < 0.0 {
-                let tau = root(&a, &x0, h, |x| dot(&c, x));
+                let tau = root(&path, h, |x| dot(&c, x));
                 if first.is_none_or(|(t, _)| tau < t) {
                     first = Some((tau, kind));
                 }
             }
         }
         let dt = first.map_or(h, |(t, _)| t);
-        let x_end = if first.is_some() {
-            mul_vec(&expm(&a, dt), &x0)
-        } else {
-            x1
-        };
-        self.integrate(&a, &x0, &x_end, dt, h);
+        let x_end = if first.is_some() { path.at(dt) } else { x1 };
+        let nodes = nodes.filter(|_| first.is_none());
+        self.integrate(&path, nodes, &x_end, dt);
         self.t += dt;
         self.x = x_end;
         self.x[4] = 1.0;
@@ -865,15 +876,11 @@ impl MotorPlant {
         }
     }
 
-    /// Integrals and exact peaks over a step of length `dt` from `x0` to `x1`.
-    fn integrate(&mut self, a: &Mat<N>, x0: &[f64; N], x1: &[f64; N], dt: f64, h: f64) {
-        // Gauss–Legendre nodes: cached for full steps, computed for shortened ones.
-        let nodes: [[f64; N]; 5] = if dt == h {
-            let (_, n) = self.exps(h);
-            n.map(|m| mul_vec(&m, x0))
-        } else {
-            GL.map(|(c, _)| mul_vec(&expm(a, c * dt), x0))
-        };
+    /// Integrals and exact peaks over a step of length `dt` along `path` to `x1`; `nodes` are
+    /// the states at the Gauss–Legendre nodes when known.
+    fn integrate(&mut self, path: &Path<'_>, nodes: Option<[[f64; N]; 5]>, x1: &[f64; N], dt: f64) {
+        let (a, x0) = (path.a, &path.x0);
+        let nodes = nodes.unwrap_or_else(|| GL.map(|(c, _)| path.at(c * dt)));
         let sb = self.drive_terms().2;
         let returning = sb * (x0[0] + x1[0]) < 0.0;
         let mut copper = 0.0;
@@ -897,8 +904,8 @@ impl MotorPlant {
             let d1 = dot(&row, x1);
             if (d0 > 0.0 && d1 < 0.0) || (d0 < 0.0 && d1 > 0.0) {
                 let s = if d0 > 0.0 { 1.0 } else { -1.0 };
-                let tau = root(a, x0, dt, |x| s * dot(&row, x));
-                let xm = mul_vec(&expm(a, tau), x0);
+                let tau = root(path, dt, |x| s * dot(&row, x));
+                let xm = path.at(tau);
                 if is_current {
                     peak_i = peak_i.max(xm[0].abs());
                 } else {
@@ -971,7 +978,6 @@ impl MotorPlant {
                 }
             }
         }
-        self.cache = None;
     }
 
     fn maybe_thermal(&mut self) {
@@ -1043,17 +1049,38 @@ fn dot(c: &[f64; N], x: &[f64; N]) -> f64 {
     c.iter().zip(x).map(|(a, b)| a * b).sum()
 }
 
+/// The state along one step of length `h`: `e^(A·τ)·x₀`, from the step's [`Orbit`] (made on
+/// first use), or from a matrix exponential per point when the step is too long for it.
+struct Path<'a> {
+    a: &'a Mat<N>,
+    x0: [f64; N],
+    h: f64,
+    orbit: OnceCell<Option<Orbit<N>>>,
+}
+
+impl Path<'_> {
+    fn at(&self, tau: f64) -> [f64; N] {
+        match self
+            .orbit
+            .get_or_init(|| Orbit::new(self.a, &self.x0, self.h))
+        {
+            Some(o) => o.at(tau),
+            None => mul_vec(&expm(self.a, tau), &self.x0),
+        }
+    }
+}
+
 /// Bisection for the first zero of `g(e^(Aτ)x0)` in `(0, h]`, with `g > 0` at 0 and `< 0` at
 /// `h` (an event function or a derivative, linear in the state); returns the upper end of the
 /// final bracket (where `g ≤ 0`).
-fn root(a: &Mat<N>, x0: &[f64; N], h: f64, g: impl Fn(&[f64; N]) -> f64) -> f64 {
+fn root(path: &Path<'_>, h: f64, g: impl Fn(&[f64; N]) -> f64) -> f64 {
     let (mut lo, mut hi) = (0.0, h);
     for _ in 0..60 {
         let mid = 0.5 * (lo + hi);
         if mid <= lo || mid >= hi {
             break;
         }
-        if g(&mul_vec(&expm(a, mid), x0)) > 0.0 {
+        if g(&path.at(mid)) > 0.0 {
             lo = mid;
         } else {
             hi = mid;
