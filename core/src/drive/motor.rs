@@ -150,7 +150,7 @@ pub type MotorDriveError<P, A, B> = DriveError<
 /// # Memory
 ///
 /// RAM per channel: the state ([`MotorDriverState`], 56 bytes), the configuration handle `C`
-/// (a reference: one pointer; or the configuration itself, 84 bytes), the outputs (the PWM
+/// (a reference: one pointer; or the configuration itself, 92 bytes), the outputs (the PWM
 /// and the two pins, zero-sized for most HALs' typed pins) and 8 bytes of PWM resolution,
 /// padded to 4: 68 bytes in all with a reference and zero-sized outputs on a 32-bit target
 /// (asserted by the unit tests).
@@ -187,6 +187,7 @@ pub type MotorDriveError<P, A, B> = DriveError<
 ///     guard: BridgeGuardParams {
 ///         supply_v: 13.2, temp_c: -20.0, max_temp_c: 60.0, load_torque_nm: 0.0, current_limit_a: 4.0, tick_s,
 ///         dead_time_s: 200e-6, reverse_speed_rad_s: 20.0, probe_interval_s: 5e-3,
+///         resume_margin_rad_s: Some(40.0),
 ///     },
 ///     jam: JamParams {
 ///         jam_current_a: 3.0, jam_speed_rad_s: 20.0, persistence_s: 20e-3, blanking_s: 150e-3,
