@@ -17,8 +17,10 @@
 //!   rotor turning at full speed.)
 //! - Driver: [`lenz::drive::MotorDriver`] with start and brake peaks held to 4 A (at 13.2 V
 //!   and −20 °C, with the vent's load), 200 µs dead time, reversal below 50 rad/s, brake
-//!   probes every 5 ms, jam at 3 A below 60 rad/s (above the speed estimate's error at stall
-//!   over the resistance tolerance) for 20 ms after 150 ms start blanking.
+//!   probes every 5 ms, a restart while coasting resumed at the back-EMF's duty less the
+//!   coasting estimate's error ([`vent_resume_margin_rad_s`]), jam at 3 A below 60 rad/s
+//!   (above the speed estimate's error at stall over the resistance tolerance) for 20 ms after
+//!   150 ms start blanking.
 
 use lenz::Error;
 use lenz::drive::{MotorDriverConfig, MotorDriverParams};
