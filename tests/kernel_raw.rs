@@ -46,6 +46,8 @@ const BRIDGE_RAW: BridgeGuardRaw = BridgeGuardRaw {
     reverse_speed_mrad_s: 20_000,
     dead_ticks: 2,
     probe_ticks: 50,
+    resume_duty_q24: 2_497_000,
+    resume_margin_mrad_s: 40_000,
 };
 const BRIDGE: BridgeGuardConfig = BridgeGuardConfig::from_raw(BRIDGE_RAW);
 

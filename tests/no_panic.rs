@@ -125,7 +125,7 @@ proptest! {
             ok_finite(SpeedEstimatorConfig::pwm_voltage_error_v(&m, t, x, v, y))?;
             let _ = BridgeGuardConfig::new(&m, &BridgeGuardParams {
                 supply_v: v, temp_c: t, max_temp_c: t, load_torque_nm: load, current_limit_a: x, tick_s: y,
-                dead_time_s: z, reverse_speed_rad_s: x, probe_interval_s: y,
+                dead_time_s: z, reverse_speed_rad_s: x, probe_interval_s: y, resume_margin_rad_s: Some(z),
             });
             for rail in [Rail::Sinks, Rail::Capacitor { capacitance_f: y }] {
                 for path in [ReturnPath::Switches, ReturnPath::Diodes { diode_drop_v: z }] {

@@ -18,7 +18,7 @@
 #define LENZ_BOOST_LOOP_STATE_DWORDS 3
 
 // Words of `LenzBridgeGuardConfig`.
-#define LENZ_BRIDGE_GUARD_CONFIG_WORDS 4
+#define LENZ_BRIDGE_GUARD_CONFIG_WORDS 6
 
 // Words of `LenzBridgeGuardState`.
 #define LENZ_BRIDGE_GUARD_STATE_WORDS 2
@@ -414,6 +414,11 @@ typedef struct {
   uint16_t dead_ticks;
   // Coasting ticks between one-tick brake probes; 0 for none.
   uint16_t probe_ticks;
+  // Resume duty per speed `k/V` of a restart in the rotation's direction: duty Q16 per
+  // mrad/s, Q24 (0 or negative: every start ramps from zero).
+  int32_t resume_duty_q24;
+  // Speed margin taken off the estimate before the resume duty, mrad/s.
+  int32_t resume_margin_mrad_s;
 } LenzBridgeGuardRaw;
 
 // One channel's bridge guard state (opaque; fill with `lenz_bridge_guard_state_init`).
@@ -1543,8 +1548,8 @@ LENZ_STATIC_ASSERT(sizeof(LenzJamRaw) == 32, lenz_size_of_LenzJamRaw);
 LENZ_STATIC_ASSERT(sizeof(LenzJamConfig) == 32, lenz_size_of_LenzJamConfig);
 LENZ_STATIC_ASSERT(sizeof(LenzJamState) == 20, lenz_size_of_LenzJamState);
 LENZ_STATIC_ASSERT(sizeof(LenzJamStatus) == 1, lenz_size_of_LenzJamStatus);
-LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardRaw) == 16, lenz_size_of_LenzBridgeGuardRaw);
-LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardConfig) == 16, lenz_size_of_LenzBridgeGuardConfig);
+LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardRaw) == 24, lenz_size_of_LenzBridgeGuardRaw);
+LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardConfig) == 24, lenz_size_of_LenzBridgeGuardConfig);
 LENZ_STATIC_ASSERT(sizeof(LenzBridgeGuardState) == 8, lenz_size_of_LenzBridgeGuardState);
 LENZ_STATIC_ASSERT(sizeof(LenzBridgeMode) == 1, lenz_size_of_LenzBridgeMode);
 LENZ_STATIC_ASSERT(sizeof(LenzBridgeCommand) == 8, lenz_size_of_LenzBridgeCommand);

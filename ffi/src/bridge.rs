@@ -9,7 +9,7 @@ use crate::LenzStatus;
 use crate::opaque::{Out, get, inner, inner_mut, opaque};
 
 /// Words of `LenzBridgeGuardConfig`.
-pub const LENZ_BRIDGE_GUARD_CONFIG_WORDS: usize = 4;
+pub const LENZ_BRIDGE_GUARD_CONFIG_WORDS: usize = 6;
 /// Words of `LenzBridgeGuardState`.
 pub const LENZ_BRIDGE_GUARD_STATE_WORDS: usize = 2;
 
@@ -28,6 +28,11 @@ pub struct LenzBridgeGuardRaw {
     pub dead_ticks: u16,
     /// Coasting ticks between one-tick brake probes; 0 for none.
     pub probe_ticks: u16,
+    /// Resume duty per speed `k/V` of a restart in the rotation's direction: duty Q16 per
+    /// mrad/s, Q24 (0 or negative: every start ramps from zero).
+    pub resume_duty_q24: i32,
+    /// Speed margin taken off the estimate before the resume duty, mrad/s.
+    pub resume_margin_mrad_s: i32,
 }
 
 /// Bridge guard limits (opaque; fill with `lenz_bridge_guard_init`). Read-only after init.
@@ -99,6 +104,8 @@ impl From<LenzBridgeGuardRaw> for BridgeGuardRaw {
             reverse_speed_mrad_s: c.reverse_speed_mrad_s,
             dead_ticks: c.dead_ticks,
             probe_ticks: c.probe_ticks,
+            resume_duty_q24: c.resume_duty_q24,
+            resume_margin_mrad_s: c.resume_margin_mrad_s,
         }
     }
 }
@@ -111,6 +118,8 @@ impl From<BridgeGuardRaw> for LenzBridgeGuardRaw {
             reverse_speed_mrad_s: r.reverse_speed_mrad_s,
             dead_ticks: r.dead_ticks,
             probe_ticks: r.probe_ticks,
+            resume_duty_q24: r.resume_duty_q24,
+            resume_margin_mrad_s: r.resume_margin_mrad_s,
         }
     }
 }

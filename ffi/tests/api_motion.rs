@@ -62,15 +62,24 @@ fn jam_raw() -> impl Strategy<Value = LenzJamRaw> {
 }
 
 fn bridge_raw() -> impl Strategy<Value = LenzBridgeGuardRaw> {
-    (any::<i32>(), any::<i32>(), any::<i32>(), 0u16..4, 0u16..8).prop_map(|(s, b, r, d, p)| {
-        LenzBridgeGuardRaw {
+    (
+        any::<i32>(),
+        any::<i32>(),
+        any::<i32>(),
+        0u16..4,
+        0u16..8,
+        any::<i32>(),
+        any::<i32>(),
+    )
+        .prop_map(|(s, b, r, d, p, c, m)| LenzBridgeGuardRaw {
             slew_q16: s,
             brake_speed_mrad_s: b,
             reverse_speed_mrad_s: r,
             dead_ticks: d,
             probe_ticks: p,
-        }
-    })
+            resume_duty_q24: c,
+            resume_margin_mrad_s: m,
+        })
 }
 
 /// What the detector said, as the C API says it.

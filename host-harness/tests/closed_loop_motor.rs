@@ -16,10 +16,11 @@
 //!
 //! Run with `--nocapture` to see the measured figures.
 
+use lenz::drive::MotorDriverConfig;
 use lenz_harness::closed_loop::demo_vent::{
     VENT_BUS_RATING_V, VENT_FRICTION, VENT_INDUCTANCE_H, VENT_LOAD_NM, VENT_PWM_MAX_DUTY,
     VENT_RESISTANCE_OHM, VENT_SUPPLY_V, VENT_SWITCH_OHM, VENT_TORQUE_CONSTANT, vent_driver_config,
-    vent_loop, vent_plant, vent_plant_of, vent_spec,
+    vent_driver_params, vent_loop, vent_plant, vent_plant_of, vent_sensors, vent_spec,
 };
 use lenz_harness::closed_loop::{
     Actuation, Controller, Direction, Drive, MotorBridge, MotorCommand, MotorLimits, RunResult,
@@ -303,6 +304,71 @@ fn reversal_without_braking_fails_the_reversal_peak() {
     let (peak_g, pass) = prop(&guarded, "reversal_peak_current");
     assert!(pass && peak_g <= 6.0, "{peak_g}");
     println!("reversal peaks: without braking {peak:.3} A, driver {peak_g:.3} A");
+}
+
+/// The largest current magnitude from `from_s` on (the envelope between recorded points).
+fn peak_after(r: &RunResult, from_s: f64) -> f64 {
+    let w = &r.waveform;
+    (0..w.t_s.len())
+        .filter(|&k| w.t_s[k] >= from_s)
+        .map(|k| w.current_max_a[k].abs().max(w.current_min_a[k].abs()))
+        .fold(0.0, f64::max)
+}
+
+#[test]
+fn restart_while_coasting_stays_within_the_guard_limit() {
+    // Full speed, stop (the guard coasts: too fast to brake), forward again while the rotor
+    // still turns at about 300 rad/s. Ramping from duty zero, the slow-decay PWM shorts the
+    // spinning winding for most of each period: a brake of −k·ω/R that exceeds the guard's
+    // 4 A. Resumed at the back-EMF's duty less the coasting estimate's error (bridge.rs,
+    // "Soft start"), it stays within.
+    let limit = 4.0;
+    let sensors = vent_sensors();
+    let with_fix = vent_driver_params(&sensors).unwrap();
+    let margin = with_fix
+        .guard
+        .resume_margin_rad_s
+        .expect("the vent's guard probes");
+    let mut without_fix = with_fix;
+    without_fix.guard.resume_margin_rad_s = None;
+    println!("resume margin {margin:.2} rad/s");
+    for resume_s in [0.53, 0.56] {
+        let cfg = vent_loop(
+            resume_s + 0.15,
+            vec![
+                (0.0, fwd(1.0)),
+                (0.5, MotorCommand::Coast),
+                (resume_s, fwd(1.0)),
+            ],
+            vec![],
+        );
+        let mut peaks = Vec::new();
+        for (label, params) in [("from duty zero", without_fix), ("resumed", with_fix)] {
+            let config = MotorDriverConfig::new(&params).unwrap();
+            let mut ctrl = BridgeMotorDriver::new(config, VENT_PWM_MAX_DUTY).unwrap();
+            let mut plant = vent_plant(20.0, VENT_SUPPLY_V);
+            let res = run(&mut plant, &mut ctrl, &cfg).unwrap();
+            let k = res
+                .waveform
+                .t_s
+                .iter()
+                .position(|&t| t >= resume_s)
+                .unwrap();
+            let w = res.waveform.speed_rad_s[k];
+            let peak = peak_after(&res, resume_s);
+            println!(
+                "restart at {resume_s} s, rotor at {w:.1} rad/s, {label}: peak {peak:.3} A (limit {limit} A)"
+            );
+            assert!(w > 250.0, "{w}");
+            assert!(
+                prop(&res, "no_trip_in_normal_operation").1,
+                "{label}: tripped"
+            );
+            peaks.push(peak);
+        }
+        assert!(peaks[0] > limit, "from duty zero: {} A", peaks[0]);
+        assert!(peaks[1] < limit, "resumed: {} A", peaks[1]);
+    }
 }
 
 #[test]

@@ -173,6 +173,7 @@ impl Firmware {
                     // Above the 33.3 rad/s at which the load turns the braked rotor.
                     reverse_speed_rad_s: 40.0,
                     probe_interval_s: 2e-3,
+                    resume_margin_rad_s: None,
                 },
             )
             .unwrap()
@@ -184,6 +185,8 @@ impl Firmware {
                 reverse_speed_mrad_s: i32::MAX,
                 dead_ticks: 0,
                 probe_ticks: 0,
+                resume_duty_q24: 0,
+                resume_margin_mrad_s: i32::MAX,
             })
         };
         let jam = JamConfig::new(&JamParams {

@@ -1,7 +1,8 @@
 //! Vectors of the bridge guard: the demo vent motor's guard (invented values) in a closed
 //! loop with a coarse rotor model on the host (the speed follows the bridge command), through
 //! a soft start, a reversal request at full speed (coast or brake first, then reverse), a stop
-//! with brake probes, and a restart; plus raw edge configurations (any limits, any inputs).
+//! with brake probes, a restart, and a restart while still coasting fast (the ramp resumes at
+//! the back-EMF's duty); plus raw edge configurations (any limits, any inputs).
 
 use std::fmt::Write as _;
 
@@ -38,6 +39,7 @@ fn demo_params() -> BridgeGuardParams {
         dead_time_s: 200e-6,
         reverse_speed_rad_s: 20.0,
         probe_interval_s: 5e-3,
+        resume_margin_rad_s: Some(40.0),
     }
 }
 
@@ -65,6 +67,10 @@ pub fn generate() -> String {
     requests.extend((0..150).map(|_| -ONE));
     requests.extend((0..100).map(|_| 0));
     requests.extend((0..40).map(|_| ONE / 2));
+    // Up to speed, a short stop (coasting: too fast to brake), then forward again.
+    requests.extend((0..60).map(|_| ONE));
+    requests.extend((0..10).map(|_| 0));
+    requests.extend((0..30).map(|_| ONE));
 
     // Closed loop on the host: the inputs are what the loop fed the guard.
     let mut cases: Vec<(BridgeGuardConfig, Vec<(i32, i32)>)> = Vec::new();
@@ -93,6 +99,16 @@ pub fn generate() -> String {
             } else {
                 rng.next_u64() as u16
             },
+            resume_duty_q24: if rng.bool() {
+                rng.range(0, 5_000_000)
+            } else {
+                rng.any_i32()
+            },
+            resume_margin_mrad_s: if rng.bool() {
+                rng.range(-50_000, 100_000)
+            } else {
+                rng.any_i32()
+            },
         });
         let steps = (0..50)
             .map(|_| {
@@ -111,6 +127,7 @@ pub fn generate() -> String {
     src.push_str("/// Generated sequences.\npub static CASES: &[Case] = &[\n");
     let mut seen = [false; 4];
     let mut ramp = false;
+    let mut resumed = false;
     for (config, steps) in &cases {
         let mut s = BridgeGuardState::new();
         let _ = write!(
@@ -119,7 +136,11 @@ pub fn generate() -> String {
             config_expr(config)
         );
         for &(req, speed) in steps {
+            let before = s.mode();
             let want = config.update(&mut s, req, speed);
+            resumed |= before != want.mode
+                && want.mode == BridgeMode::Forward
+                && want.duty_q16 > config.slew_q16().max(0).saturating_mul(2);
             seen[usize::from(match want.mode {
                 BridgeMode::Coast => 0u8,
                 BridgeMode::Forward => 1,
@@ -133,8 +154,8 @@ pub fn generate() -> String {
     }
     src.push_str("];\n\n");
     assert!(
-        seen.iter().all(|&b| b) && ramp,
-        "bridge vectors miss a mode or the soft start: {seen:?} {ramp}"
+        seen.iter().all(|&b| b) && ramp && resumed,
+        "bridge vectors miss a mode, the soft start or a resumed start: {seen:?} {ramp} {resumed}"
     );
     let _ = writeln!(
         src,
@@ -152,13 +173,15 @@ pub fn generate() -> String {
     let p = demo_params();
     let _ = writeln!(
         src,
-        "/// The straightforward version's parameters for the cost run.\npub const NAIVE: Naive = Naive {{ slew_per_tick: {:?}, brake_speed_rad_s: {:?}, reverse_speed_rad_s: {:?}, dead_time_s: {:?}, probe_interval_s: {:?}, tick_s: {:?} }};",
+        "/// The straightforward version's parameters for the cost run.\npub const NAIVE: Naive = Naive {{ slew_per_tick: {:?}, brake_speed_rad_s: {:?}, reverse_speed_rad_s: {:?}, dead_time_s: {:?}, probe_interval_s: {:?}, tick_s: {:?}, resume_duty_per_rad_s: {:?}, resume_margin_rad_s: {:?} }};",
         demo.slew_q16() as f32 / 65_536.0,
         demo.brake_speed_mrad_s() as f32 * 1e-3,
         p.reverse_speed_rad_s,
         p.dead_time_s,
         p.probe_interval_s,
-        p.tick_s
+        p.tick_s,
+        motor.torque_constant_nm_per_a() / p.supply_v,
+        p.resume_margin_rad_s.unwrap_or(f32::INFINITY)
     );
     src
 }

@@ -34,7 +34,7 @@
 //! | Driver | State | Configuration (shareable, flash) |
 //! |---|---|---|
 //! | [`CoilDriver`] | [`CoilDriverState`]: 128 bytes, plus the output handle, the configuration handle and 10 bytes (PWM resolution, hold duty), padded to 8: 144 bytes with a reference on a 32-bit target | [`CoilDriverConfig`]: 880 bytes |
-//! | [`MotorDriver`] | [`MotorDriverState`]: 56 bytes, plus the configuration handle, the three outputs and 8 bytes (PWM resolution): 68 bytes with a reference and zero-sized outputs on a 32-bit target | [`MotorDriverConfig`]: 84 bytes |
+//! | [`MotorDriver`] | [`MotorDriverState`]: 56 bytes, plus the configuration handle, the three outputs and 8 bytes (PWM resolution): 68 bytes with a reference and zero-sized outputs on a 32-bit target | [`MotorDriverConfig`]: 92 bytes |
 //! | [`BoostLoop`] | [`BoostLoopState`]: 24 bytes, plus the output and configuration handles | [`BoostLoopConfig`]: 424 bytes |
 //!
 //! (Sizes asserted by unit tests; a reference as the configuration handle is one pointer.)

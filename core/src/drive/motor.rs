@@ -20,6 +20,8 @@ const PIN_A: u8 = 1;
 const PIN_B: u8 = 2;
 /// The safe state (PWM 0, both pins low) is not confirmed: retry it every tick.
 const OFF_PENDING: u8 = 4;
+/// The request that chose the command in force asked to drive (non-zero).
+const REQ_DRIVE: u8 = 8;
 
 /// The readings of one control tick, as the ADC gave them (the conversion of the previous
 /// tick, taken with the bridge as it was then).
@@ -114,7 +116,13 @@ pub type MotorDriveError<P, A, B> = DriveError<
 ///    command that was in force (a `Brake` tick is a measurement at zero volts; a `Coast` tick
 ///    keeps the estimate, see [`SpeedEstimatorConfig`](crate::kernel::SpeedEstimatorConfig)).
 /// 2. **Jam**: the jam detector judges the tick (start blanking, jam, overload, open
-///    winding); a fault latches the driver.
+///    winding); a fault latches the driver. Its start blanking follows the application's
+///    command, not the guard: a tick the guard held the bridge off (coast or brake) while the
+///    request asked to drive leaves the detector as it was, so when the guard restarts the
+///    bridge in the same direction the detector goes on counting where it stopped instead of
+///    blanking again (a jammed rotor whose speed estimate strays past the reversal speed would
+///    otherwise be restarted, and blanked, for ever). A stop request (0) or a new direction
+///    starts a new blanking.
 /// 3. **Sense**: a current reading outside the sense's valid window latches the driver
 ///    ([`MotorDriverFault::Sense`]).
 /// 4. **Guard**: the bridge guard turns the request and the speed estimate into the next
@@ -150,7 +158,7 @@ pub type MotorDriveError<P, A, B> = DriveError<
 /// # Memory
 ///
 /// RAM per channel: the state ([`MotorDriverState`], 56 bytes), the configuration handle `C`
-/// (a reference: one pointer; or the configuration itself, 84 bytes), the outputs (the PWM
+/// (a reference: one pointer; or the configuration itself, 92 bytes), the outputs (the PWM
 /// and the two pins, zero-sized for most HALs' typed pins) and 8 bytes of PWM resolution,
 /// padded to 4: 68 bytes in all with a reference and zero-sized outputs on a 32-bit target
 /// (asserted by the unit tests).
@@ -187,6 +195,7 @@ pub type MotorDriveError<P, A, B> = DriveError<
 ///     guard: BridgeGuardParams {
 ///         supply_v: 13.2, temp_c: -20.0, max_temp_c: 60.0, load_torque_nm: 0.0, current_limit_a: 4.0, tick_s,
 ///         dead_time_s: 200e-6, reverse_speed_rad_s: 20.0, probe_interval_s: 5e-3,
+///         resume_margin_rad_s: Some(40.0),
 ///     },
 ///     jam: JamParams {
 ///         jam_current_a: 3.0, jam_speed_rad_s: 20.0, persistence_s: 20e-3, blanking_s: 150e-3,
@@ -369,10 +378,12 @@ where
             )
         };
 
-        // 2. Jam, overload, open winding.
-        if let JamStatus::Fault(f) =
-            cfg.jam()
-                .update(&mut st.jam, applied.signed_duty_q16(), current_ua, speed)
+        // 2. Jam, overload, open winding; not judged while the guard holds a drive request off.
+        let held_by_guard = applied.signed_duty_q16() == 0 && st.flags & REQ_DRIVE != 0;
+        if !held_by_guard
+            && let JamStatus::Fault(f) =
+                cfg.jam()
+                    .update(&mut st.jam, applied.signed_duty_q16(), current_ua, speed)
             && st.fault.is_none()
         {
             st.fault = Some(MotorDriverFault::Motor(f));
@@ -425,6 +436,12 @@ where
             first = first.or(retry);
         }
 
+        // The request behind the command now in force (a latched driver drives nothing).
+        if request_q16 != 0 && st.fault.is_none() {
+            st.flags |= REQ_DRIVE;
+        } else {
+            st.flags &= !REQ_DRIVE;
+        }
         // The command now in force, as the outputs were set.
         st.applied = if st.flags & OFF_PENDING != 0 || st.pwm == 0 {
             BridgeCommand {

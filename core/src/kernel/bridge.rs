@@ -28,10 +28,26 @@
 //! 2. **Dead time.** A change between two of `Forward`, `Reverse`, `Brake` passes through
 //!    `Coast` for `dead_ticks` ticks; leaving `Coast` waits until it has lasted that long. With
 //!    `dead_ticks = 0` modes change directly.
-//! 3. **Soft start.** Entering a drive mode starts the duty at zero; it rises by at most
-//!    `slew_q16` per tick towards the request and falls at once. The plan picks the slew so
-//!    that the start's peak current stays at or below the limit
-//!    ([`crate::motor::Motor::soft_start_ramp_s`]).
+//! 3. **Soft start.** Entering a drive mode starts the ramp at the *resume duty* `d₀`; the duty
+//!    rises by at most `slew_q16` per tick from there towards the request and falls at once.
+//!    The plan picks the slew so that the start's peak current from standstill stays at or
+//!    below the limit ([`crate::motor::Motor::soft_start_ramp_s`]). From standstill, or when the
+//!    rotor turns the other way, `d₀ = 0`. When the rotor still turns in the direction of the
+//!    drive (a restart while coasting), `d₀` is the duty whose mean voltage at the plan's
+//!    highest supply matches the estimated back-EMF less a margin:
+//!    `d₀ = k_p·max(0, ω̂ − m)/V_p` (`ω̂` the speed estimate in the drive's direction, `m` the
+//!    margin, `k_p` the plan's torque constant, `V_p` its highest supply). Starting from duty
+//!    zero instead shorts the spinning winding through the low sides for most of each period
+//!    (slow decay): a brake, whose current `−k·ω/R` can exceed the limit the soft start keeps.
+//!    **Bound.** With the back-EMF estimate within `k_p·m` of the true back-EMF `e` (the margin
+//!    is the estimator's error bound while coasting, from the plan) and a supply `V ≤ V_p`,
+//!    `0 ≤ d₀·V ≤ e`: the first tick's voltage excess over the back-EMF is at most the slew's,
+//!    as from standstill, and the braking voltage `e − d₀·V` lies between 0 and `e` (the start
+//!    from duty zero) — at most `e·(1 − V/V_p) + 2·k_p·m`. So an estimate within its bound
+//!    never makes the start worse than a start from duty zero; an estimate wrong by more than
+//!    `m` upwards drives forward by at most `k_p·(ω̂ − ω − m)·V/V_p` at the first tick.
+//!    `d₀` rounds down (the coefficient and the product are floored). A plan without a margin
+//!    (`resume_margin_rad_s: None`) always starts from zero.
 //! 4. **Speed probes while coasting.** A coasting rotor leaves no trace in the current once
 //!    the diodes block, so the speed estimate ([`super::SpeedEstimatorConfig::hold`]) cannot
 //!    fall and the guard would coast forever. Every `probe_ticks` ticks of coasting (and not
@@ -40,7 +56,8 @@
 //!    that one such tick from the no-load speed stays within the current limit. With
 //!    `probe_ticks = 0` there are no probes (the firmware then needs another speed source).
 //!
-//! No float, no division: compares, a saturating add. State: 8 bytes.
+//! No float, no division: compares, a saturating add, and at a mode change one 32×32→64
+//! multiply for `d₀`. State: 8 bytes.
 
 use crate::error::{Error, in_range, non_negative, positive};
 use crate::kernel::DUTY_ONE_Q16;
@@ -130,6 +147,13 @@ pub struct BridgeGuardParams {
     pub reverse_speed_rad_s: f32,
     /// Interval of the one-tick brake probes while coasting; 0 for none. Units: s.
     pub probe_interval_s: f32,
+    /// Restart while the rotor turns the drive's way: the error bound of the back-EMF speed
+    /// estimate while coasting (the back-EMF estimate's error over the plan's torque constant,
+    /// plus the slow-down between two brake probes); the ramp starts at the duty matching the
+    /// estimate less this margin (module docs, "Soft start"). `None`: always from duty zero.
+    /// Units: rad/s.
+    #[cfg_attr(feature = "serde", serde(default))]
+    pub resume_margin_rad_s: Option<f32>,
 }
 
 /// Raw coefficients of a [`BridgeGuardConfig`] (emitted constants can live in flash).
@@ -147,6 +171,11 @@ pub struct BridgeGuardRaw {
     pub dead_ticks: u16,
     /// Coasting ticks between one-tick brake probes; 0 for none.
     pub probe_ticks: u16,
+    /// Resume duty per speed, `k_p/V_p`: duty Q16 per mrad/s, Q24 (0 or negative: the ramp
+    /// always starts from zero).
+    pub resume_duty_q24: i32,
+    /// Speed margin taken off the estimate before the resume duty. Units: mrad/s.
+    pub resume_margin_mrad_s: i32,
 }
 
 /// Bridge guard coefficients (shared by channels); decisions in the module docs of this file.
@@ -167,11 +196,17 @@ pub struct BridgeGuardRaw {
 ///     dead_time_s: 200e-6,
 ///     reverse_speed_rad_s: 20.0,
 ///     probe_interval_s: 5e-3,
+///     resume_margin_rad_s: Some(40.0),
 /// })?;
 /// let mut s = BridgeGuardState::new();
 /// let first = cfg.update(&mut s, DUTY_ONE_Q16, 0);
 /// assert_eq!(first.mode, BridgeMode::Forward);
 /// assert!(first.duty_q16 < DUTY_ONE_Q16); // soft start
+/// // A restart while the rotor coasts forward at 300 rad/s: the ramp starts near the duty
+/// // of the back-EMF less the margin, 0.03·(300 − 40)/13.2 = 0.59.
+/// let mut s = BridgeGuardState::new();
+/// let resumed = cfg.update(&mut s, DUTY_ONE_Q16, 300_000);
+/// assert!((resumed.duty_q16 - cfg.slew_q16() - 38_725).abs() <= 2);
 /// # Ok::<(), lenz::Error>(())
 /// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -366,12 +401,40 @@ impl BridgeGuardConfig {
             }
             f64::from(lo)
         };
+        let (resume_duty_q24, resume_margin_mrad_s) = match p.resume_margin_rad_s {
+            None => (0, i32::MAX),
+            Some(m) => {
+                let m = in_range(
+                    "resume_margin_rad_s",
+                    non_negative("resume_margin_rad_s", m)?,
+                    0.0,
+                    2.0e6,
+                )?;
+                // Duty Q16 per mrad/s, Q24: 2^16·k/(1000·V)·2^24, floored (d₀ rounds down).
+                let v = f64::from(positive("supply_v", p.supply_v)?);
+                let c = libm::floor(
+                    f64::from(DUTY_ONE_Q16) * f64::from(k) / (1.0e3 * v) * 16_777_216.0,
+                );
+                if c >= f64::from(i32::MAX) {
+                    // A no-load speed below 0.5 rad/s.
+                    return Err(Error::OutOfRange {
+                        param: "supply_v",
+                        value: p.supply_v,
+                        min: (f64::from(k) * 65.536 * 16_777_216.0 / f64::from(i32::MAX)) as f32,
+                        max: crate::coil::SUPPLY_MAX_V,
+                    });
+                }
+                (c as i32, libm::ceil(f64::from(m) * 1e3) as i32)
+            }
+        };
         Ok(Self::from_raw(BridgeGuardRaw {
             slew_q16: slew,
             brake_speed_mrad_s: libm::floor(brake_speed * 1e3) as i32,
             reverse_speed_mrad_s: libm::floor(f64::from(reverse) * 1e3) as i32,
             dead_ticks: dead_ticks as u16,
             probe_ticks: probe_ticks as u16,
+            resume_duty_q24,
+            resume_margin_mrad_s,
         }))
     }
 
@@ -415,6 +478,29 @@ impl BridgeGuardConfig {
     #[must_use]
     pub const fn probe_ticks(&self) -> u16 {
         self.r.probe_ticks
+    }
+
+    /// The resume duty `d₀` (module docs, "Soft start") for a rotor turning the drive's way at
+    /// `speed_mrad_s` (negative: the other way, `d₀ = 0`), Q16, at most `DUTY_ONE_Q16`.
+    #[inline]
+    #[must_use]
+    pub const fn resume_duty_q16(&self, speed_mrad_s: i32) -> i32 {
+        let excess = speed_mrad_s as i64 - self.r.resume_margin_mrad_s as i64;
+        let c = if self.r.resume_duty_q24 > 0 {
+            self.r.resume_duty_q24
+        } else {
+            0
+        };
+        if excess <= 0 || c == 0 {
+            return 0;
+        }
+        // excess < 2^33, c < 2^31: the product fits i64.
+        let d = (excess * c as i64) >> 24;
+        if d > DUTY_ONE_Q16 as i64 {
+            DUTY_ONE_Q16
+        } else {
+            d as i32
+        }
     }
 
     /// One tick: the application's request in, the bridge command out.
@@ -481,7 +567,11 @@ impl BridgeGuardConfig {
             BridgeMode::Coast
         };
         if next != cur {
-            state.duty_q16 = 0;
+            state.duty_q16 = match next {
+                BridgeMode::Forward => self.resume_duty_q16(speed_mrad_s),
+                BridgeMode::Reverse => self.resume_duty_q16(speed_mrad_s.saturating_neg()),
+                _ => 0,
+            };
             if next == BridgeMode::Coast {
                 state.off_ticks = 0;
             }
@@ -534,6 +624,7 @@ mod tests {
                 dead_time_s: dead,
                 reverse_speed_rad_s: 40.0,
                 probe_interval_s: 0.0,
+                resume_margin_rad_s: None,
             },
         )
         .unwrap()
@@ -566,6 +657,7 @@ mod tests {
             dead_time_s: 200e-6,
             reverse_speed_rad_s: reverse,
             probe_interval_s: 0.0,
+            resume_margin_rad_s: None,
         };
         // Between the two: enough at -20 °C, not at 60 °C.
         let between = 0.5 * (cold + hot) as f32;
@@ -658,6 +750,7 @@ mod tests {
                 dead_time_s: 0.0,
                 reverse_speed_rad_s: 20.0,
                 probe_interval_s: 0.0,
+                resume_margin_rad_s: None,
             },
         )
         .unwrap_err();
@@ -675,6 +768,131 @@ mod tests {
         assert_eq!(c.mode, BridgeMode::Reverse);
         assert_eq!(c.duty_q16, g.slew_q16());
         assert_eq!(c.signed_duty_q16(), -g.slew_q16());
+    }
+
+    fn resuming_guard(margin: Option<f32>) -> BridgeGuardConfig {
+        BridgeGuardConfig::new(
+            &vent(),
+            &BridgeGuardParams {
+                supply_v: 13.2,
+                temp_c: -20.0,
+                max_temp_c: 60.0,
+                load_torque_nm: 0.02,
+                current_limit_a: 4.0,
+                tick_s: 100e-6,
+                dead_time_s: 200e-6,
+                reverse_speed_rad_s: 50.0,
+                probe_interval_s: 5e-3,
+                resume_margin_rad_s: margin,
+            },
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn restart_while_coasting_starts_at_the_back_emf_duty() {
+        let g = resuming_guard(Some(40.0));
+        // d₀ = k·(ω̂ − m)/V_p = 0.03·(300 − 40)/13.2 of 65 536, floored.
+        let expect = (0.03 * 260.0 / 13.2 * 65_536.0f64).floor() as i32;
+        let d0 = g.resume_duty_q16(300_000);
+        assert!((expect - d0).abs() <= 1, "{d0} vs {expect}");
+        // Running forward at 300 rad/s, stopped (coasting: too fast to brake) for the dead
+        // time, then a forward request: the first drive tick is d₀ plus one slew step, then
+        // the ramp goes on from there.
+        let mut s = BridgeGuardState::new();
+        assert_eq!(
+            g.update(&mut s, DUTY_ONE_Q16, 300_000).mode,
+            BridgeMode::Forward
+        );
+        assert_eq!(g.update(&mut s, 0, 300_000).mode, BridgeMode::Coast);
+        assert_eq!(g.update(&mut s, 0, 300_000).mode, BridgeMode::Coast);
+        let c = g.update(&mut s, DUTY_ONE_Q16, 300_000);
+        assert_eq!(
+            (c.mode, c.duty_q16),
+            (BridgeMode::Forward, d0 + g.slew_q16())
+        );
+        let c = g.update(&mut s, DUTY_ONE_Q16, 300_000);
+        assert_eq!(c.duty_q16, d0 + 2 * g.slew_q16());
+        // The same for reverse with the rotor turning backwards.
+        let mut s = BridgeGuardState::new();
+        let c = g.update(&mut s, -DUTY_ONE_Q16, -300_000);
+        assert_eq!(
+            (c.mode, c.duty_q16),
+            (BridgeMode::Reverse, d0 + g.slew_q16())
+        );
+        // Below the margin, turning the other way, or without a margin: from zero.
+        for (g, w) in [
+            (g, 40_000),
+            (g, 0),
+            (resuming_guard(None), 300_000),
+            (resuming_guard(Some(40.0)), -30_000),
+        ] {
+            let mut s = BridgeGuardState::new();
+            assert_eq!(
+                g.update(&mut s, DUTY_ONE_Q16, w).duty_q16,
+                g.slew_q16(),
+                "{w}"
+            );
+        }
+        // A lower request than d₀ is taken as it is (the application asks for it).
+        let mut s = BridgeGuardState::new();
+        assert_eq!(g.update(&mut s, 1_000, 300_000).duty_q16, 1_000);
+        // Saturation: any speed gives at most full duty, never a panic.
+        assert_eq!(g.resume_duty_q16(i32::MAX), DUTY_ONE_Q16);
+        assert_eq!(g.resume_duty_q16(i32::MIN), 0);
+        // A margin that is negative or not finite is refused, by name.
+        for bad in [-1.0, f32::NAN, f32::INFINITY] {
+            let mut p = BridgeGuardParams {
+                supply_v: 13.2,
+                temp_c: -20.0,
+                max_temp_c: 60.0,
+                load_torque_nm: 0.02,
+                current_limit_a: 4.0,
+                tick_s: 100e-6,
+                dead_time_s: 200e-6,
+                reverse_speed_rad_s: 50.0,
+                probe_interval_s: 5e-3,
+                resume_margin_rad_s: None,
+            };
+            p.resume_margin_rad_s = Some(bad);
+            assert_eq!(
+                BridgeGuardConfig::new(&vent(), &p).unwrap_err().param(),
+                "resume_margin_rad_s"
+            );
+        }
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig {
+            cases: 2000,
+            rng_seed: RngSeed::Fixed(0x0052_4553),
+            ..ProptestConfig::default()
+        })]
+
+        /// The bound of the module docs: an estimate within the margin of the true speed and
+        /// a supply at or below the plan's give `0 ≤ d₀·V ≤ k·ω` (never more voltage than the
+        /// back-EMF), and the braking voltage `k·ω − d₀·V` at most `k·ω·(1 − V/V_p) + 2·k·m`
+        /// plus one LSB of d₀.
+        #[test]
+        fn resume_duty_stays_within_the_back_emf(
+            w in 0.0f64..450.0, err in -1.0f64..=1.0, v in 9.0f64..=13.2, m in 0.0f32..100.0,
+        ) {
+            let g = resuming_guard(Some(m));
+            let m = f64::from(m);
+            let est = ((w + err * m) * 1e3).round() as i32;
+            // The estimate rounds to mrad/s; the margin is rounded up to it.
+            let d0 = f64::from(g.resume_duty_q16(est)) / 65_536.0;
+            let e = 0.03 * w;
+            let emf = f64::from(0.03f32);
+            prop_assert!(d0 >= 0.0);
+            // Plus the estimate's own rounding to 1 mrad/s.
+            prop_assert!(d0 * v <= emf * (w + 1e-3), "{d0} {v} {w}");
+            let braking = e - d0 * v;
+            prop_assert!(
+                braking <= e * (1.0 - v / 13.2) + 2.0 * 0.03 * m + 13.2 / 65_536.0 + 1e-6,
+                "{braking}"
+            );
+        }
     }
 
     /// Plain model of the rules (module docs), written with i64 and explicit mode history.
@@ -719,7 +937,24 @@ mod tests {
         } else {
             BridgeMode::Coast
         };
-        let mut duty = if next != cur { 0 } else { duty };
+        let resume = |w: i64| -> i64 {
+            let c = i64::from(r.resume_duty_q24.max(0));
+            let excess = w - i64::from(r.resume_margin_mrad_s);
+            if excess <= 0 {
+                0
+            } else {
+                ((excess * c) >> 24).min(65_536)
+            }
+        };
+        let mut duty = if next == cur {
+            duty
+        } else {
+            match next {
+                BridgeMode::Forward => resume(w),
+                BridgeMode::Reverse => resume((-w).min(i64::from(i32::MAX))),
+                _ => 0,
+            }
+        };
         let mut off = if next != cur && next == BridgeMode::Coast {
             0
         } else {
@@ -754,14 +989,14 @@ mod tests {
         #[test]
         fn matches_model_and_keeps_dead_time(
             slew in any::<i32>(), bs in any::<i32>(), rs in any::<i32>(), dead in 0u16..5,
-            probe in 0u16..8,
+            probe in 0u16..8, resume_c in any::<i32>(), resume_m in any::<i32>(),
             seq in proptest::collection::vec((
                 prop_oneof![Just(0i32), Just(DUTY_ONE_Q16), Just(-DUTY_ONE_Q16), any::<i32>()],
                 any::<i32>()), 1..150),
         ) {
             let raw = BridgeGuardRaw {
                 slew_q16: slew, brake_speed_mrad_s: bs, reverse_speed_mrad_s: rs, dead_ticks: dead,
-                probe_ticks: probe,
+                probe_ticks: probe, resume_duty_q24: resume_c, resume_margin_mrad_s: resume_m,
             };
             let g = BridgeGuardConfig::from_raw(raw);
             let mut s = BridgeGuardState::new();

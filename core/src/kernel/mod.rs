@@ -75,6 +75,7 @@ mod movement;
 mod offtimer;
 pub mod q;
 mod speed;
+mod speed_margin;
 mod trip;
 
 pub use bridge::{
@@ -97,6 +98,7 @@ pub use offtimer::{
 pub use speed::{
     DUTY_ONE_Q16, SpeedErrorTerms, SpeedEstimatorConfig, SpeedEstimatorRaw, SpeedEstimatorState,
 };
+pub use speed_margin::{CoastingErrorParams, coasting_error_bound_rad_s, noise_rms_rad_s};
 pub use trip::{
     BLOCK_LOG2_MAX, BLOCK_TAU_FRACTION, Cause, INVERSE_M_MAX, INVERSE_M_MIN,
     INVERSE_TABLE_ERROR_MAX, INVERSE_TABLE_LEN, INVERSE_TABLE_OCTAVES, INVERSE_TABLE_STEPS,

@@ -17,12 +17,16 @@
 //!   rotor turning at full speed.)
 //! - Driver: [`lenz::drive::MotorDriver`] with start and brake peaks held to 4 A (at 13.2 V
 //!   and −20 °C, with the vent's load), 200 µs dead time, reversal below 50 rad/s, brake
-//!   probes every 5 ms, jam at 3 A below 60 rad/s (above the speed estimate's error at stall
-//!   over the resistance tolerance) for 20 ms after 150 ms start blanking.
+//!   probes every 5 ms, a restart while coasting resumed at the back-EMF's duty less the
+//!   coasting estimate's error ([`vent_resume_margin_rad_s`]), jam at 3 A below 60 rad/s
+//!   (above the speed estimate's error at stall over the resistance tolerance) for 20 ms after
+//!   150 ms start blanking.
 
 use lenz::Error;
 use lenz::drive::{MotorDriverConfig, MotorDriverParams};
-use lenz::kernel::{BridgeGuardParams, JamParams, SenseScale};
+use lenz::kernel::{
+    BridgeGuardParams, CoastingErrorParams, JamParams, SenseScale, coasting_error_bound_rad_s,
+};
 use lenz::motor::{Motor, MotorParams};
 
 use super::motor::{MotorCommand, MotorLimits, TimeToSpeed};
@@ -148,6 +152,42 @@ pub fn vent_motor() -> Result<Motor, Error> {
     .validate()
 }
 
+/// The guard's brake probes while coasting, every this long, s.
+pub const VENT_PROBE_INTERVAL_S: f64 = 5e-3;
+
+/// The margin of the guard's resumed start (a forward command while the rotor still coasts
+/// forward starts the ramp at the back-EMF's duty less this): the speed estimate's error
+/// while coasting ([`lenz::kernel::coasting_error_bound_rad_s`]) for the vent's plan, no part
+/// spread (the demo runs the nominal motor), the ADC noise of `sensors` at
+/// [`crate::system::motor_stall::NOISE_SIGMAS`], rad/s (`None`: no probes, no bound).
+///
+/// # Errors
+///
+/// The plan's rejection of a value.
+pub fn vent_resume_margin_rad_s(sensors: &Sensors) -> Result<Option<f32>, Error> {
+    let bound = coasting_error_bound_rad_s(
+        &vent_motor()?,
+        &CoastingErrorParams {
+            supply_v: 13.2,
+            temp_c: 20.0,
+            tick_s: (VENT_TICK_NS as f64 * 1e-9) as f32,
+            probe_interval_s: VENT_PROBE_INTERVAL_S as f32,
+            load_torque_nm: VENT_LOAD_NM as f32,
+            current_limit_a: 4.0,
+            inductance_rel: 0.0,
+            resistance_rel: 0.0,
+            voltage_error_v: 0.0,
+            current_noise_a: (sensors.current.noise_rms_lsb * sensors.current.units_per_count())
+                as f32,
+            supply_noise_v: (sensors.supply.noise_rms_lsb * sensors.supply.units_per_count())
+                as f32,
+            noise_sigmas: crate::system::motor_stall::NOISE_SIGMAS as f32,
+        },
+    )?;
+    // None without probes: no resumed start.
+    Ok(bound)
+}
+
 /// The example firmware's driver plan for the vent (module docs), with the sense scaling of
 /// `sensors`.
 ///
@@ -172,7 +212,8 @@ pub fn vent_driver_params(sensors: &Sensors) -> Result<MotorDriverParams, Error>
             tick_s,
             dead_time_s: 200e-6,
             reverse_speed_rad_s: VENT_REVERSE_SPEED_RAD_S as f32,
-            probe_interval_s: 5e-3,
+            probe_interval_s: VENT_PROBE_INTERVAL_S as f32,
+            resume_margin_rad_s: vent_resume_margin_rad_s(sensors)?,
         },
         jam: JamParams {
             jam_current_a: 3.0,

@@ -242,12 +242,14 @@ pub(super) fn append(c: &mut String, n: &mut Counts) -> Result<(), String> {
         c.push_str("};\n");
         let r = case.config.raw();
         lines.push(format!(
-            "{{ {{ .slew_q16 = {}, .brake_speed_mrad_s = {}, .reverse_speed_mrad_s = {}, .dead_ticks = {}, .probe_ticks = {} }}, {}u, BRIDGE_{i} }}",
+            "{{ {{ .slew_q16 = {}, .brake_speed_mrad_s = {}, .reverse_speed_mrad_s = {}, .dead_ticks = {}, .probe_ticks = {}, .resume_duty_q24 = {}, .resume_margin_mrad_s = {} }}, {}u, BRIDGE_{i} }}",
             i32c(r.slew_q16),
             i32c(r.brake_speed_mrad_s),
             i32c(r.reverse_speed_mrad_s),
             r.dead_ticks,
             r.probe_ticks,
+            i32c(r.resume_duty_q24),
+            i32c(r.resume_margin_mrad_s),
             case.steps.len().min(STEPS)
         ));
         n.steps += case.steps.len().min(STEPS);

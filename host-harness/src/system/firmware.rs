@@ -205,14 +205,14 @@ impl FirmwareInputs {
     ///
     /// # Errors
     ///
-    /// The system is not a motor bridge.
+    /// The system is not a motor bridge; the resume margin's bound rejects a value.
     pub fn motor_driver_params(
         &self,
         file: &File,
         settings: &super::MotorSettings,
     ) -> Result<lenz::drive::MotorDriverParams, SetupError> {
         let m = self.motor()?;
-        Ok(super::motor::driver_params(file, self, m, settings))
+        super::motor::driver_params(file, self, m, settings)
     }
 
     /// Current reading → µA, as the firmware computes it.

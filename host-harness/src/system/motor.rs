@@ -117,17 +117,29 @@ pub fn inputs(file: &File, m: &MotorStage) -> Result<MotorInputs, SetupError> {
 /// The driver plan for `settings`: the bridge guard's limits hold at the highest supply and
 /// the coldest winding of the description, with its load torque; the speed estimator is
 /// planned at `temp_c` without a filter; no overload or open-winding check (the jam check
-/// only).
-#[must_use]
+/// only). A restart while the rotor coasts resumes at the back-EMF's duty less the coasting
+/// estimate's error ([`super::motor_resume`]).
+///
+/// # Errors
+///
+/// The resume margin's bound rejects a value (named).
 pub fn driver_params(
     file: &File,
     inputs: &super::FirmwareInputs,
     m: &MotorInputs,
     settings: &MotorSettings,
-) -> MotorDriverParams {
+) -> Result<MotorDriverParams, SetupError> {
     let s = &file.system;
     let tick_s = inputs.tick_s;
-    MotorDriverParams {
+    let resume_margin_rad_s = super::motor_resume::resume_margin_rad_s(
+        file,
+        &m.motor,
+        inputs.temp_c,
+        settings.probe_interval_s,
+        settings.current_limit_a,
+        m.load_torque_nm,
+    )?;
+    Ok(MotorDriverParams {
         motor: m.motor,
         temp_c: inputs.temp_c,
         tick_s,
@@ -142,6 +154,7 @@ pub fn driver_params(
             dead_time_s: settings.dead_time_s,
             reverse_speed_rad_s: settings.reverse_speed_rad_s,
             probe_interval_s: settings.probe_interval_s,
+            resume_margin_rad_s,
         },
         jam: JamParams {
             jam_current_a: settings.jam_current_a,
@@ -157,7 +170,7 @@ pub fn driver_params(
         current_sense: inputs.sense.current,
         supply_v_per_count: inputs.sense.supply_v_per_count,
         supply_zero_counts: inputs.sense.supply_zero_counts,
-    }
+    })
 }
 
 /// The motor bridge of a run at `supply_v` and winding (and ambient) temperature `temp_c`:

@@ -22,9 +22,10 @@
 //! highest supply, the temperature range (the firmware plans its model at the winding
 //! temperature it is given, so only the part spread remains: `[tolerances] resistance`), plus
 //! [`NOISE_SIGMAS`] standard deviations of the estimate's noise from the ADC noise,
-//! `σ_ω = √(σ_v² + (G₁² + G₀²)·σ_i²)/k_p` (one tick, no filter; the detector and the guard
-//! act on single ticks).
+//! `σ_ω = √(σ_v² + (G₁² + G₀²)·σ_i²)/k_p` (`lenz::kernel::noise_rms_rad_s`; one tick, no
+//! filter; the detector and the guard act on single ticks).
 
+use lenz::kernel::noise_rms_rad_s;
 use lenz::motor::Motor;
 
 use super::SetupError;
@@ -84,7 +85,6 @@ pub fn stall_error(f: &File, motor: &Motor) -> Result<StallError, SetupError> {
     let v = s.supply.max.get();
     let r_s = s.supply.source_resistance.get();
     let k_p = f64::from(motor.torque_constant_nm_per_a());
-    let l = f64::from(motor.inductance_h());
     let tick = s.tick.get();
     let (t_lo, t_hi) = (s.temperature.min.get(), s.temperature.max.get());
     let mut worst = StallError {
@@ -99,11 +99,16 @@ pub fn stall_error(f: &File, motor: &Motor) -> Result<StallError, SetupError> {
         let r_p = f64::from(motor.loop_resistance_ohm(temp as f32).map_err(&err)?);
         let winding = f64::from(motor.resistance_ohm(temp as f32).map_err(&err)?);
         let bridge = r_p - winding;
-        // Zero-order-hold gains of the estimator (its module docs), the plan's values.
-        let x = tick * r_p / l;
-        let g1 = r_p / -(-x).exp_m1();
-        let g0 = g1 - r_p;
-        let noise = (sigma_v * sigma_v + (g1 * g1 + g0 * g0) * sigma_i * sigma_i).sqrt() / k_p;
+        let noise = f64::from(
+            noise_rms_rad_s(
+                motor,
+                temp as f32,
+                tick as f32,
+                sigma_i as f32,
+                sigma_v as f32,
+            )
+            .map_err(&err)?,
+        );
         worst.noise_rms_rad_s = worst.noise_rms_rad_s.max(noise);
         for r_factor in [1.0 - dr, 1.0 + dr] {
             let r = winding * r_factor + bridge;

@@ -31,6 +31,10 @@ pub struct Naive {
     pub probe_interval_s: f32,
     /// Tick, s.
     pub tick_s: f32,
+    /// Duty per rad/s of a restart in the rotation's direction, `k/V`.
+    pub resume_duty_per_rad_s: f32,
+    /// Speed margin taken off before, rad/s.
+    pub resume_margin_rad_s: f32,
 }
 
 /// State of the straightforward guard.
@@ -92,7 +96,15 @@ pub fn lenz_naive_bridge(p: &Naive, s: &mut NaiveState, x: (i32, i32)) -> f32 {
         0
     };
     if next != s.mode {
-        s.duty = 0.0;
+        let along = match next {
+            1 => w,
+            2 => -w,
+            _ => 0.0,
+        };
+        s.duty = libm::fminf(
+            libm::fmaxf(along - p.resume_margin_rad_s, 0.0) * p.resume_duty_per_rad_s,
+            1.0,
+        );
         if next == 0 {
             s.off_s = 0.0;
         }

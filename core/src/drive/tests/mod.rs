@@ -5,6 +5,7 @@ mod boost;
 mod faults;
 mod hold_accuracy;
 mod motor_physics;
+mod motor_restart;
 mod motor_support;
 mod motor_transactions;
 mod movement;

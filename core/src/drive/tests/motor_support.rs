@@ -49,6 +49,7 @@ pub fn vent_params() -> MotorDriverParams {
             dead_time_s: 200e-6,
             reverse_speed_rad_s: 20.0,
             probe_interval_s: 5e-3,
+            resume_margin_rad_s: None,
         },
         jam: JamParams {
             jam_current_a: 3.0,

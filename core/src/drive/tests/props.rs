@@ -34,7 +34,7 @@ fn ram_per_channel() {
     // outputs and a borrowed configuration (state, reference and the 8-byte PWM resolution,
     // 4-byte aligned: 68 bytes on a 32-bit target, 72 on a 64-bit host).
     assert_eq!(size_of::<MotorDriverState>(), 56);
-    assert_eq!(size_of::<MotorDriverConfig>(), 84);
+    assert_eq!(size_of::<MotorDriverConfig>(), 92);
     assert_eq!(
         size_of::<MotorDriver<&MotorDriverConfig, Nothing, Nothing, Nothing>>(),
         56 + size_of::<usize>() + 8
