@@ -43,7 +43,7 @@ fn without_armature(text: &str) -> String {
 
 /// The freewheel release from the steady current of the cold (−20 °C, R −5 %), high-supply
 /// corner to `ix`, with inductance `l`: t = τ·ln((I0 + Vf/R)/(Ix + Vf/R)), τ = L/R, R the
-/// winding (F2.1 of CHECKS.md; closed form). `loop_ohm`: switch, source and shunt.
+/// winding (docs/references.md F2.1; closed form). `loop_ohm`: switch, source and shunt.
 fn release_closed_form(l: f64, r20: f64, v: f64, loop_ohm: f64, ix: f64) -> f64 {
     let r = r20 * 0.95 * (1.0 + 0.00393 * (-20.0 - 20.0));
     let i0 = v / (r + loop_ohm);
