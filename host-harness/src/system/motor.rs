@@ -118,7 +118,7 @@ pub fn inputs(file: &File, m: &MotorStage) -> Result<MotorInputs, SetupError> {
 /// the coldest winding of the description, with its load torque; the speed estimator is
 /// planned at `temp_c` without a filter; no overload or open-winding check (the jam check
 /// only). A restart while the rotor coasts resumes at the back-EMF's duty less the coasting
-/// estimate's error ([`super::motor_resume`]).
+/// estimate's error (`system::motor_resume`).
 ///
 /// # Errors
 ///
