@@ -24,6 +24,10 @@ const RELEASED: u8 = 1;
 const PULL_IN_TIMED_OUT: u8 = 2;
 /// Writing duty 0 failed: retry every tick.
 const OFF_PENDING: u8 = 4;
+/// With the movement detector: the monitor is blanked from the switch-off until the off
+/// timer has confirmed the release and the detector has left `Decaying` (drop-out seen or
+/// its deadline passed).
+const OFF_BLANKED: u8 = 8;
 
 /// The readings of one control tick, as the ADC gave them (the conversion of the previous
 /// tick: the current sample was taken while the switch was as it was then).
@@ -375,9 +379,11 @@ where
         //    movement detector the armature moves during the pull-in and the release, and its
         //    inductance is then not the estimator's: the monitor is blanked from switch-on to
         //    the seating (the trip detector and the detector's deadline watch the pull-in) and
-        //    from switch-off to the release, see `CoilDriverConfig::with_movement`.
+        //    from switch-off until both the off timer's release and the detector's drop-out
+        //    (or its deadline), see `CoilDriverConfig::with_movement`: a plunger that drops
+        //    out after the off timer's release lifts the current above the estimate.
         let blanked = cfg.movement().is_some()
-            && (st.phase == CoilPhase::PullIn || (applied == 0 && st.flags & RELEASED == 0));
+            && (st.phase == CoilPhase::PullIn || st.flags & OFF_BLANKED != 0);
         if !blanked
             && let Some(f) =
                 cfg.monitor()
@@ -407,6 +413,19 @@ where
             );
         }
 
+        // 4c. The release is over (decay and drop-out): the monitor watches again, from an
+        //     estimate that starts at the measured current (the drop-out's rise is not the
+        //     estimator's), as at the seating.
+        if st.flags & OFF_BLANKED != 0
+            && st.flags & RELEASED != 0
+            && st.motion.motion() != Motion::Decaying
+        {
+            st.flags &= !OFF_BLANKED;
+            st.est =
+                EstimatorState::with_current_ua(cfg.monitor().scale().to_ua(sense.current_counts));
+            st.prev_estimate_ua = st.est.current_ua();
+        }
+
         // 5. The phase and the duty for the next tick.
         let measured = measured_ua(cfg, sense.current_counts);
         let allowed = verdict.switch_allowed() && st.fault.is_none();
@@ -418,7 +437,7 @@ where
                     if released {
                         st.phase = CoilPhase::PullIn;
                         st.pull_in_ticks = 0;
-                        st.flags &= !PULL_IN_TIMED_OUT;
+                        st.flags &= !(PULL_IN_TIMED_OUT | OFF_BLANKED);
                         if let Some(m) = cfg.movement() {
                             m.start(&mut st.motion);
                         }
@@ -531,6 +550,7 @@ where
                     && st.fault.is_none()
                 {
                     m.release(&mut st.motion);
+                    st.flags |= OFF_BLANKED;
                 }
             }
         }

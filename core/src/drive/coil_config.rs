@@ -408,8 +408,11 @@ impl CoilDriverConfig {
     /// the plausibility monitor is blanked (the trip detector and the detector's deadline
     /// watch it; an open coil shows no peak and ends in the stuck fault), and at the seating
     /// the estimate starts again from the measured current; after a switch-off it is blanked
-    /// until the off-timer confirms the release (the opening armature's inductance falls and
-    /// its motion lifts the current above the seated coil's decay). Plan the coil model with the
+    /// until the off-timer confirms the release and the detector has seen the drop-out (or
+    /// passed its release deadline): the opening armature's inductance falls and its motion
+    /// lifts the current above the seated coil's decay, and a plunger that drops out late
+    /// (a low-resistance, high-inductance coil) does so after the off-timer's release. The
+    /// estimate then starts again from the measured current. Plan the coil model with the
     /// seated armature's inductance, so the estimate in hold and in the decay after switch-off
     /// follows the seated coil. At each switch-off (without a latched fault) the detector
     /// watches the release: [`CoilDriver::motion`](super::CoilDriver::motion) then reports

@@ -158,3 +158,92 @@ fn raw_round_trip_with_and_without_the_detector() {
     assert_eq!(plain.raw().movement, None);
     assert_eq!(plain.movement(), None);
 }
+
+/// The reading that matches the estimate after the driver's last tick.
+fn following<C: core::borrow::Borrow<CoilDriverConfig>>(
+    drv: &CoilDriver<C, RecordingPwm>,
+) -> CoilSense {
+    sense(f64::from(drv.estimate_ua()) * 1e-6)
+}
+
+/// Pulls in on the dip, holds 200 ticks on readings that follow the estimate, switches off and
+/// follows the estimate's decay until the off-timer confirms the release. Returns the driver
+/// (released, idle, no fault) and the last reading, A.
+fn released_after_a_cycle(
+    cfg: &CoilDriverConfig,
+) -> (CoilDriver<&CoilDriverConfig, RecordingPwm>, f64) {
+    let mut drv = CoilDriver::new(cfg, RecordingPwm::new(1000)).unwrap();
+    for c in 0..52 {
+        drv.update(true, reading(dip, c)).unwrap();
+    }
+    assert_eq!(drv.phase(), CoilPhase::Hold);
+    for _ in 0..200 {
+        let s = following(&drv);
+        drv.update(true, s).unwrap();
+    }
+    let mut last = 0.0;
+    let mut phase = CoilPhase::Hold;
+    for _ in 0..2000 {
+        let s = following(&drv);
+        last = f64::from(s.current_counts - OFFSET_COUNTS) * f64::from(AMPS_PER_COUNT);
+        phase = drv.update(false, s).unwrap();
+        if phase == CoilPhase::Idle {
+            break;
+        }
+    }
+    assert_eq!(phase, CoilPhase::Idle);
+    assert!(drv.released());
+    assert_eq!(drv.fault(), None);
+    (drv, last)
+}
+
+/// A plunger that drops out after the off-timer's release: its rise lifts the current 0.12 A
+/// above the decaying estimate for 6 ticks, longer than the monitor's persistence (5). The
+/// monitor stays blanked until the detector has seen the drop-out, then watches again from
+/// the measured current: a later implausible reading faults.
+#[test]
+fn a_late_drop_out_is_not_a_plausibility_fault() {
+    let cfg = with_detector(0.02);
+    let (mut drv, last) = released_after_a_cycle(&cfg);
+    // The detector counts a rise only from a minimum above its 50 mA.
+    assert!(last >= 0.05, "released at {last} A");
+    assert_eq!(drv.motion(), Motion::Decaying);
+    for _ in 0..6 {
+        drv.update(false, sense(last + 0.12)).unwrap();
+        assert_eq!(drv.fault(), None);
+    }
+    assert!(matches!(drv.motion(), Motion::DroppedOut { .. }));
+    for _ in 0..100 {
+        let s = following(&drv);
+        drv.update(false, s).unwrap();
+    }
+    assert_eq!(drv.fault(), None);
+    assert_eq!(drv.estimate_ua(), 0);
+    // Watching again: 0.3 A with the coil off is a fault after the persistence.
+    for _ in 0..6 {
+        drv.update(false, sense(0.3)).unwrap();
+    }
+    assert!(matches!(drv.fault(), Some(CoilFault::Plausibility(_))));
+}
+
+/// No drop-out seen: the monitor is blanked until the detector's release deadline (40 ms) and
+/// watches again after it.
+#[test]
+fn the_release_deadline_ends_the_blanking() {
+    let cfg = with_detector(0.02);
+    let (mut drv, _) = released_after_a_cycle(&cfg);
+    let deadline = cfg.movement().unwrap().release_deadline_ticks();
+    let mut ticks = 0;
+    while drv.motion() == Motion::Decaying {
+        let s = following(&drv);
+        drv.update(false, s).unwrap();
+        ticks += 1;
+        assert!(ticks <= deadline);
+    }
+    assert_eq!(drv.motion(), Motion::NoDropOut);
+    assert_eq!(drv.fault(), None);
+    for _ in 0..6 {
+        drv.update(false, sense(0.3)).unwrap();
+    }
+    assert!(matches!(drv.fault(), Some(CoilFault::Plausibility(_))));
+}
