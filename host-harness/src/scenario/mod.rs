@@ -86,8 +86,8 @@ use std::path::Path;
 
 pub use schema::{
     Action, Armature, BoostController, BoostStage, Check, ClampSpec, Coil, CoilController, Command,
-    Controller, Dist, Event, Fault, FaultSpec, File, MotorController, MotorStage, Property,
-    PwmDecay, Scenario, System,
+    Controller, Dist, Event, Fault, FaultSpec, File, MotorController, MotorOpenWinding,
+    MotorOverload, MotorStage, Property, PwmDecay, Scenario, System,
 };
 
 /// A problem in a scenario file, with its position.

@@ -413,6 +413,10 @@ fn motor_key(param: &str) -> Option<&'static str> {
         "jam_speed_rad_s" => "controller.motor.jam_speed",
         "persistence_s" => "controller.motor.jam_time",
         "blanking_s" => "controller.motor.start_blanking",
+        "overload_current_a" => "controller.motor.overload.current",
+        "overload_s" => "controller.motor.overload.time",
+        "open_current_a" => "controller.motor.open_winding.current",
+        "open_min_duty" => "controller.motor.open_winding.min_duty",
         _ => return None,
     })
 }

@@ -11,7 +11,9 @@ use super::quantity::{
     Ampere, Celsius, Farad, Henry, Joule, Kilogram, Metre, Newton, NewtonMetre, NewtonPerMetre,
     NewtonSecondPerMetre, NonNeg, Ohm, Plain, Pos, Q, Second, Volt,
 };
-pub use super::schema_motor::{MotorController, MotorStage, PwmDecay};
+pub use super::schema_motor::{
+    MotorController, MotorOpenWinding, MotorOverload, MotorStage, PwmDecay,
+};
 
 /// A whole scenario file.
 #[derive(Debug, Clone, Deserialize, Serialize)]

@@ -95,4 +95,52 @@ pub struct MotorController {
     /// Blanking of the jam detector after each start, s.
     #[serde(default = "zero")]
     pub start_blanking: NonNeg<Second>,
+    /// The overload check (`[controller.motor.overload]`; absent: none).
+    pub overload: Option<MotorOverload>,
+    /// The open-winding check (`[controller.motor.open_winding]`; absent: none).
+    pub open_winding: Option<MotorOpenWinding>,
+}
+
+/// The driver's overload check: a current at or above `current` for `time` latches the
+/// bridge off (`lenz::kernel::JamParams::overload_current_a`), after each start's blanking.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct MotorOverload {
+    /// Overload current, A.
+    pub current: Pos<Ampere>,
+    /// How long it may last, s.
+    pub time: Pos<Second>,
+}
+
+/// The driver's open-winding check: a current at or below `current` while the bridge drives
+/// at a duty of at least `min_duty`, for the jam time, latches the bridge off
+/// (`lenz::kernel::JamParams::open_current_a`), after each start's blanking.
+#[derive(Debug, Clone, Copy, Deserialize, Serialize)]
+#[serde(deny_unknown_fields, try_from = "RawMotorOpenWinding")]
+pub struct MotorOpenWinding {
+    /// Open-winding current, A.
+    pub current: Pos<Ampere>,
+    /// Smallest duty judged, 0 … 1 (default 1: full drive only).
+    pub min_duty: Pos<Plain>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawMotorOpenWinding {
+    current: Pos<Ampere>,
+    min_duty: Option<Pos<Plain>>,
+}
+
+impl TryFrom<RawMotorOpenWinding> for MotorOpenWinding {
+    type Error = String;
+    fn try_from(r: RawMotorOpenWinding) -> Result<Self, String> {
+        let min_duty = r.min_duty.unwrap_or(Pos::new(1.0));
+        if min_duty.get() > 1.0 {
+            return Err(format!("key `min_duty`: {} is above 1", min_duty.get()));
+        }
+        Ok(MotorOpenWinding {
+            current: r.current,
+            min_duty,
+        })
+    }
 }

@@ -25,6 +25,7 @@ mod error;
 pub mod firmware;
 pub mod firmware_movement;
 pub mod motor;
+mod motor_currents;
 mod motor_resume;
 pub mod motor_stall;
 pub mod plan;

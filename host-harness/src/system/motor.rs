@@ -86,6 +86,14 @@ pub struct MotorSettings {
     pub jam_time_s: f32,
     /// Jam detector blanking after each start, s.
     pub start_blanking_s: f32,
+    /// Overload: a current at or above this …, A (`None`: no overload check) …
+    pub overload_current_a: Option<f32>,
+    /// … for this long, s.
+    pub overload_time_s: f32,
+    /// Open winding: a current at or below this …, A (`None`: no open-winding check) …
+    pub open_current_a: Option<f32>,
+    /// … while driven at a duty of at least this (0 … 1), for the jam time.
+    pub open_min_duty: f32,
 }
 
 /// The motor inputs of `file`.
@@ -104,6 +112,10 @@ pub fn inputs(file: &File, m: &MotorStage) -> Result<MotorInputs, SetupError> {
             jam_speed_rad_s: c.jam_speed.get() as f32,
             jam_time_s: c.jam_time.get() as f32,
             start_blanking_s: c.start_blanking.get() as f32,
+            overload_current_a: c.overload.map(|o| o.current.get() as f32),
+            overload_time_s: c.overload.map_or(0.0, |o| o.time.get() as f32),
+            open_current_a: c.open_winding.map(|o| o.current.get() as f32),
+            open_min_duty: c.open_winding.map_or(1.0, |o| o.min_duty.get() as f32),
         }),
         _ => None,
     };
@@ -116,8 +128,8 @@ pub fn inputs(file: &File, m: &MotorStage) -> Result<MotorInputs, SetupError> {
 
 /// The driver plan for `settings`: the bridge guard's limits hold at the highest supply and
 /// the coldest winding of the description, with its load torque; the speed estimator is
-/// planned at `temp_c` without a filter; no overload or open-winding check (the jam check
-/// only). A restart while the rotor coasts resumes at the back-EMF's duty less the coasting
+/// planned at `temp_c` without a filter; the jam detector with the settings' overload and
+/// open-winding checks where they are given. A restart while the rotor coasts resumes at the back-EMF's duty less the coasting
 /// estimate's error (`system::motor_resume`).
 ///
 /// # Errors
@@ -161,10 +173,10 @@ pub fn driver_params(
             jam_speed_rad_s: settings.jam_speed_rad_s,
             persistence_s: settings.jam_time_s,
             blanking_s: settings.start_blanking_s,
-            overload_current_a: None,
-            overload_s: 0.0,
-            open_current_a: None,
-            open_min_duty: 1.0,
+            overload_current_a: settings.overload_current_a,
+            overload_s: settings.overload_time_s,
+            open_current_a: settings.open_current_a,
+            open_min_duty: settings.open_min_duty,
             tick_s,
         },
         current_sense: inputs.sense.current,
@@ -245,7 +257,8 @@ fn corner(c: &MotorCorner) -> String {
 /// the driver's current limit); the bus voltage when the motor coasts from its steady speed
 /// into a supply that cannot sink against the bus rating; the load torque against the stall
 /// torque; with `[controller.motor]`, its reversal and jam speeds against the speed
-/// estimator's error at stall ([`super::motor_stall`]).
+/// estimator's error at stall ([`super::motor_stall`]), and its overload and open-winding
+/// currents against the running current read (`system::motor_currents`).
 ///
 /// # Errors
 ///
@@ -393,6 +406,7 @@ pub fn plan(f: &File, m: &MotorStage) -> Result<Report, SetupError> {
             c.reverse_speed.get(),
             c.jam_speed.get(),
         ));
+        verdicts.extend(super::motor_currents::verdicts(f, m, c)?);
     }
     if let Some(c) = match &f.controller {
         Controller::Motor(c) => Some(c),
