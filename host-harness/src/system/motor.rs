@@ -22,7 +22,8 @@ use super::plan::{Figure, Report, Verdict};
 use super::{SetupError, coil};
 use crate::closed_loop::MotorBridge;
 use crate::plant::{Decay, MotorPlant, MotorSpec, Thermal};
-use crate::scenario::run::{Params, lenz_err};
+use crate::scenario::run::{Params, lenz_err, tolerance_half_width};
+use crate::scenario::schema::RelTolerance;
 use crate::scenario::{Controller, File, MotorStage, PwmDecay};
 use crate::si::format as si;
 
@@ -239,6 +240,39 @@ pub fn plant(
     Ok(MotorBridge::new(plant, decay))
 }
 
+/// The plan's spread of the motor at load `load_nm`: from the open-circuit supply (the
+/// source resistance in the loop, module docs), over the supply and temperature ranges and the
+/// `inductance`, `resistance` and `torque_constant` spreads of `[tolerances]` (each ± its
+/// half-width: a uniform `rel`, or 3σ of a normal one).
+///
+/// # Errors
+///
+/// The motor model or a spread rejects a value (named).
+pub(super) fn plan_spread(
+    f: &File,
+    m: &MotorStage,
+    load_nm: f64,
+) -> Result<MotorSpread, SetupError> {
+    let s = &f.system;
+    let t = &f.tolerances;
+    let half = |x: Option<RelTolerance>| x.map_or(0.0, tolerance_half_width) as f32;
+    MotorSpread::new(
+        motor_params(f, m).with_bridge_resistance_ohm(
+            (bridge_resistance_ohm(f) + s.supply.source_resistance.get()) as f32,
+        ),
+        coil::supply_range(f)?,
+        coil::temperature_range(f)?,
+        load_nm as f32,
+        [
+            half(t.inductance),
+            half(t.resistance),
+            half(t.torque_constant),
+            0.0,
+        ],
+    )
+    .map_err(lenz_err(f, "system.motor", None))
+}
+
 fn corner(c: &MotorCorner) -> String {
     format!(
         "{}, {:.0} °C, {}, {}, {}",
@@ -250,8 +284,8 @@ fn corner(c: &MotorCorner) -> String {
     )
 }
 
-/// The worst-case plan of a motor bridge over the supply and temperature ranges (the part
-/// tolerances of the description's sweep are not part of the plan: a motor states none), with
+/// The worst-case plan of a motor bridge over the supply and temperature ranges and the part
+/// spreads of `[tolerances]` ([`plan_spread`]), with
 /// verdicts against the ratings: the stall current against the switch current rating, and
 /// the unguarded start, reversal and brake peaks too without `[controller.motor]` (with it,
 /// the driver's current limit); the bus voltage when the motor coasts from its steady speed
@@ -265,17 +299,7 @@ fn corner(c: &MotorCorner) -> String {
 /// A plan routine rejects a value of the file (named), or the motor stalls at a corner.
 pub fn plan(f: &File, m: &MotorStage) -> Result<Report, SetupError> {
     let s = &f.system;
-    // From the open-circuit supply: the source resistance is in the loop (module docs).
-    let spread = MotorSpread::new(
-        motor_params(f, m).with_bridge_resistance_ohm(
-            (bridge_resistance_ohm(f) + s.supply.source_resistance.get()) as f32,
-        ),
-        coil::supply_range(f)?,
-        coil::temperature_range(f)?,
-        m.load_torque.get() as f32,
-        [0.0; 4],
-    )
-    .map_err(lenz_err(f, "system.motor", None))?;
+    let spread = plan_spread(f, m, m.load_torque.get())?;
     let mut figures = Vec::new();
     let mut add = |name: &'static str,
                    unit: &'static str,

@@ -39,12 +39,12 @@
 //! inductance and resistance and at nine points each of the temperature range and the torque
 //! constant's spread.
 
-use lenz::motor::{MotorCorner, MotorSpread};
+use lenz::motor::MotorCorner;
 
 use super::SetupError;
 use super::motor_stall::NOISE_SIGMAS;
 use super::plan::Verdict;
-use crate::scenario::run::{lenz_err, tolerance_half_width};
+use crate::scenario::run::tolerance_half_width;
 use crate::scenario::schema::RelTolerance;
 use crate::scenario::{File, MotorController, MotorStage};
 
@@ -73,29 +73,6 @@ impl ReadingError {
     fn at(&self, i_a: f64, ripple_a: f64) -> f64 {
         self.gain * i_a + self.offset_a + ripple_a + self.noise_a
     }
-}
-
-/// The spread of the plan's motor (source resistance in the loop) with the description's
-/// part spreads, at load `load_nm`.
-fn spread(f: &File, m: &MotorStage, load_nm: f64) -> Result<MotorSpread, SetupError> {
-    let s = &f.system;
-    let t = &f.tolerances;
-    let half = |x: Option<RelTolerance>| x.map_or(0.0, tolerance_half_width) as f32;
-    MotorSpread::new(
-        super::motor::motor_params(f, m).with_bridge_resistance_ohm(
-            (2.0 * s.switch.on_resistance.get() + s.supply.source_resistance.get()) as f32,
-        ),
-        super::coil::supply_range(f)?,
-        super::coil::temperature_range(f)?,
-        load_nm as f32,
-        [
-            half(t.inductance),
-            half(t.resistance),
-            half(t.torque_constant),
-            0.0,
-        ],
-    )
-    .map_err(lenz_err(f, "tolerances", None))
 }
 
 /// The open-winding figures of the module docs.
@@ -253,7 +230,7 @@ pub fn verdicts(f: &File, m: &MotorStage, c: &MotorController) -> Result<Vec<Ver
     let mut out = Vec::new();
     if let Some(o) = c.overload {
         let rated = m.rated_torque.map_or(m.load_torque.get(), |r| r.get());
-        let b = spread(f, m, rated)?
+        let b = super::motor::plan_spread(f, m, rated)?
             .steady_current_a()
             .map_err(key_err("overload.current"))?;
         let reading = f64::from(b.max) + err.at(f64::from(b.max), 0.0);
