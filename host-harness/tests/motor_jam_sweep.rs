@@ -9,13 +9,11 @@
 //! jam detector's start blanking ends at 150 ms) to keep
 //! the debug-build time down. Run with `--nocapture` to see the latencies.
 
+#[path = "common/demo_motor.rs"]
+mod demo_motor;
+use demo_motor::{driver, text};
 use lenz_harness::System;
 use lenz_harness::system::SweepOptions;
-
-fn text() -> String {
-    std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/motor.toml"))
-        .expect("the demo motor file")
-}
 
 /// `motor.toml` with its scenarios replaced by one jam scenario (the shipped checks).
 fn jam_only(text: &str) -> String {
@@ -28,22 +26,6 @@ fn jam_only(text: &str) -> String {
          [[scenario.check]]\nproperty = \"trip-latency\"\nmax = \"30ms\"\n\
          [[scenario.check]]\nproperty = \"peak-current\"\nmax = \"12A\"\n"
     )
-}
-
-/// The built-in bridge driver of `sys` as the firmware inputs plan it.
-fn driver(
-    sys: &System,
-    fw: &lenz_harness::system::FirmwareInputs,
-) -> lenz_harness::controllers::BridgeMotorDriver {
-    let m = fw.motor().unwrap();
-    let params = fw
-        .motor_driver_params(sys.description(), &m.settings.unwrap())
-        .unwrap();
-    lenz_harness::controllers::BridgeMotorDriver::new(
-        lenz::drive::MotorDriverConfig::new(&params).unwrap(),
-        1000,
-    )
-    .unwrap()
 }
 
 fn with(text: &str, old: &str, new: &str) -> String {

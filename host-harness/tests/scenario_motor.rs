@@ -4,34 +4,16 @@
 //!
 //! Run with `--nocapture` to see the measured figures.
 
+#[path = "common/demo_motor.rs"]
+mod demo_motor;
+use demo_motor::{driver, show, text};
 use lenz_harness::System;
-use lenz_harness::closed_loop::{
-    Actuation, Controller, Direction, Drive, MotorCommand, RunResult, Sensed,
-};
+use lenz_harness::closed_loop::{Actuation, Controller, Direction, Drive, MotorCommand, Sensed};
 use lenz_harness::scenario::run::{Params, Record};
 use lenz_harness::system::SweepOptions;
 
-fn text() -> String {
-    std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/motor.toml"))
-        .expect("the demo motor file")
-}
-
 fn motor() -> System {
     System::from_toml("motor.toml", &text()).unwrap_or_else(|e| panic!("{e}"))
-}
-
-fn show(name: &str, r: &RunResult) {
-    println!("{name}:");
-    for p in &r.properties {
-        println!(
-            "  {:<28} {:>12.6} {} (limit {}) {}",
-            p.name,
-            p.value,
-            p.unit,
-            p.limit,
-            if p.pass { "pass" } else { "FAIL" }
-        );
-    }
 }
 
 /// A user's firmware without any guard or jam detector: drives as commanded, at once.
@@ -171,17 +153,7 @@ fn own_firmware_without_guards_fails_the_reversal_and_the_jam() {
 fn a_small_sweep_replays_run_for_run() {
     let sys = motor();
     let opts = SweepOptions::runs(4).seed(7);
-    let make = |fw: &lenz_harness::system::FirmwareInputs| {
-        let m = fw.motor().unwrap();
-        let params = fw
-            .motor_driver_params(sys.description(), &m.settings.unwrap())
-            .unwrap();
-        lenz_harness::controllers::BridgeMotorDriver::new(
-            lenz::drive::MotorDriverConfig::new(&params).unwrap(),
-            1000,
-        )
-        .unwrap()
-    };
+    let make = |fw: &lenz_harness::system::FirmwareInputs| driver(&sys, fw);
     let rep = sys.sweep(&opts, make).unwrap_or_else(|e| panic!("{e}"));
     // What the sweep finds is printed; motor.toml's comments say what a longer sweep finds.
     println!("sweep failures: {:?}", rep.failures());

@@ -6,15 +6,13 @@
 //!
 //! Run with `--nocapture` to see the measured figures.
 
+#[path = "common/demo_motor.rs"]
+mod demo_motor;
+use demo_motor::{show, text};
 use lenz_harness::System as System_;
 use lenz_harness::closed_loop::RunResult;
 use lenz_harness::scenario::run::{Params, Record};
 use ode_solvers::{Dop853, System, Vector2};
-
-fn text() -> String {
-    std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/motor.toml"))
-        .expect("the demo motor file")
-}
 
 /// Runs scenario `name` of `text` with the built-in driver at nominal values.
 fn run(text: &str, name: &str) -> RunResult {
@@ -26,17 +24,7 @@ fn run(text: &str, name: &str) -> RunResult {
         .unwrap_or_else(|| panic!("scenario {name}"));
     let r = lenz_harness::scenario::run::run(&f, k, &Params::NOMINAL, Record::None)
         .unwrap_or_else(|e| panic!("{name}: {e}"));
-    println!("{name}:");
-    for p in &r.properties {
-        println!(
-            "  {:<28} {:>12.6} {} (limit {}) {}",
-            p.name,
-            p.value,
-            p.unit,
-            p.limit,
-            if p.pass { "pass" } else { "FAIL" }
-        );
-    }
+    show(name, &r);
     for e in &r.events {
         println!("  {:>9.3} ms  {}", e.t_s * 1e3, e.what);
     }

@@ -285,7 +285,7 @@ fn corner(c: &MotorCorner) -> String {
 }
 
 /// The worst-case plan of a motor bridge over the supply and temperature ranges and the part
-/// spreads of `[tolerances]` ([`plan_spread`]), with
+/// spreads of `[tolerances]` (`plan_spread`), with
 /// verdicts against the ratings: the stall current against the switch current rating, and
 /// the unguarded start, reversal and brake peaks too without `[controller.motor]` (with it,
 /// the driver's current limit); the bus voltage when the motor coasts from its steady speed
