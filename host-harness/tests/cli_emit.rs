@@ -5,6 +5,8 @@
 //! for bit in `examples/emitted`.)
 
 mod common;
+#[path = "common/demo_valve.rs"]
+mod demo_valve;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -35,16 +37,10 @@ fn scratch(name: &str) -> PathBuf {
 /// (`the_c_header_refuses_a_coil_with_an_armature`); the other constants are the same.
 fn without_armature(file: &str, dir: &Path) -> String {
     let text = std::fs::read_to_string(scenario_path(file)).expect("read");
-    let (head, _) = text
-        .split_once("# -------")
-        .expect("the scenario separator");
-    let (a, b) = head
-        .split_once("[system.coil.armature]")
-        .expect("the armature section");
-    let plain = format!(
-        "{a}{}\n[[scenario]]\nname = \"on\"\nduration = \"10ms\"\n[[scenario.event]]\nat = \"1ms\"\n\
+    let plain = demo_valve::without_armature(
+        &text,
+        "[[scenario]]\nname = \"on\"\nduration = \"10ms\"\n[[scenario.event]]\nat = \"1ms\"\n\
          command = \"on\"\n[[scenario.check]]\nproperty = \"peak-current\"\nmax = \"10A\"\n",
-        &b[b.find("\n[").expect("a table after it")..]
     );
     let path = dir.join(file);
     std::fs::write(&path, plain).expect("write");

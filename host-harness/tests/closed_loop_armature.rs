@@ -11,16 +11,8 @@ use lenz_harness::scenario::{self, run};
 mod demo_valve;
 use demo_valve::{valve_with as file_text, valve_without_armature};
 
-const CYCLE: &str = r#"
-[[scenario]]
-name = "open and close"
-duration = "150ms"
-[[scenario.event]]
-at = "5ms"
-command = "on"
-[[scenario.event]]
-at = "90ms"
-command = "off"
+/// The checks of the open-close cycle (`demo_valve::open_close_cycle`).
+const CHECKS: &str = r#"
 [[scenario.check]]
 property = "seat-time"
 max = "20ms"
@@ -38,6 +30,10 @@ property = "release-time"
 max = "20ms"
 "#;
 
+fn cycle() -> String {
+    demo_valve::open_close_cycle(CHECKS)
+}
+
 fn value(r: &lenz_harness::closed_loop::RunResult, name: &str) -> f64 {
     r.property(name)
         .unwrap_or_else(|| panic!("{name} listed"))
@@ -46,7 +42,7 @@ fn value(r: &lenz_harness::closed_loop::RunResult, name: &str) -> f64 {
 
 #[test]
 fn the_valve_seats_and_opens_within_its_limits() {
-    let f = scenario::parse("arm.toml", &file_text(CYCLE)).unwrap_or_else(|e| panic!("{e}"));
+    let f = scenario::parse("arm.toml", &file_text(&cycle())).unwrap_or_else(|e| panic!("{e}"));
     let r = run::run(&f, 0, &run::Params::NOMINAL, run::Record::None).unwrap();
     for p in &r.properties {
         println!("{} = {} {} (limit {})", p.name, p.value, p.unit, p.limit);
@@ -69,7 +65,7 @@ fn the_valve_seats_and_opens_within_its_limits() {
 
 #[test]
 fn a_stuck_armature_never_seats_and_fails_its_checks() {
-    let stuck = CYCLE.replace(
+    let stuck = cycle().replace(
         "[[scenario.event]]\nat = \"90ms\"",
         "[[scenario.event]]\nat = \"1ms\"\nfault = \"stuck-armature\"\n[[scenario.event]]\nat = \"90ms\"",
     );
@@ -82,7 +78,7 @@ fn a_stuck_armature_never_seats_and_fails_its_checks() {
 
 #[test]
 fn sluggish_armature_and_excess_load_slow_the_seating() {
-    let nominal = scenario::parse("arm.toml", &file_text(CYCLE)).unwrap();
+    let nominal = scenario::parse("arm.toml", &file_text(&cycle())).unwrap();
     let base = value(
         &run::run(&nominal, 0, &run::Params::NOMINAL, run::Record::None).unwrap(),
         "seat_time",
@@ -91,7 +87,7 @@ fn sluggish_armature_and_excess_load_slow_the_seating() {
         ("sluggish-armature", "damping = \"20N·s/m\""),
         ("excess-load", "force = \"3N\""),
     ] {
-        let text = CYCLE.replace(
+        let text = cycle().replace(
             "[[scenario.event]]\nat = \"90ms\"",
             &format!(
                 "[[scenario.event]]\nat = \"1ms\"\nfault = \"{fault}\"\n{key}\n[[scenario.event]]\nat = \"90ms\""
@@ -110,25 +106,25 @@ fn sluggish_armature_and_excess_load_slow_the_seating() {
 
 #[test]
 fn bad_armature_values_and_misplaced_keys_are_named() {
-    let text = file_text(CYCLE).replace("mass = \"8g\"", "mass = \"8q\"");
+    let text = file_text(&cycle()).replace("mass = \"8g\"", "mass = \"8q\"");
     let e = scenario::parse("bad.toml", &text).unwrap_err();
     assert_eq!(e.key, "system.coil.armature.mass", "{e}");
     assert!(e.problem.contains("expected a value in kg"), "{e}");
-    let text = file_text(CYCLE).replace("open_gap = \"1.2mm\"", "open_gap = \"-1.2mm\"");
+    let text = file_text(&cycle()).replace("open_gap = \"1.2mm\"", "open_gap = \"-1.2mm\"");
     let e = scenario::parse("bad.toml", &text).unwrap_err();
     assert_eq!(e.key, "system.coil.armature.open_gap", "{e}");
     // An open gap below the closed one: the plant names it when the run is set up.
-    let text = file_text(CYCLE).replace("open_gap = \"1.2mm\"", "open_gap = \"0.01mm\"");
+    let text = file_text(&cycle()).replace("open_gap = \"1.2mm\"", "open_gap = \"0.01mm\"");
     let f = scenario::parse("bad.toml", &text).unwrap();
     let e = run::run(&f, 0, &run::Params::NOMINAL, run::Record::None).unwrap_err();
     assert!(e.0.contains("system.coil.armature.closed_gap"), "{e}");
     // Armature checks and faults need an armature.
-    let plain = valve_without_armature(CYCLE);
+    let plain = valve_without_armature(&cycle());
     let e = scenario::parse("bad.toml", &plain).unwrap_err();
     assert!(e.problem.contains("[system.coil.armature]"), "{e}");
     assert_eq!(e.key, "scenario[0].check[0].property");
     // A sluggish armature needs its damping.
-    let text = CYCLE.replace(
+    let text = cycle().replace(
         "[[scenario.event]]\nat = \"90ms\"",
         "[[scenario.event]]\nat = \"1ms\"\nfault = \"sluggish-armature\"\n[[scenario.event]]\nat = \"90ms\"",
     );
@@ -138,8 +134,8 @@ fn bad_armature_values_and_misplaced_keys_are_named() {
 
 #[test]
 fn armature_tolerances_are_drawn_after_the_existing_ones() {
-    let f = scenario::parse("arm.toml", &file_text(CYCLE)).unwrap();
-    let with = file_text(CYCLE).replace(
+    let f = scenario::parse("arm.toml", &file_text(&cycle())).unwrap();
+    let with = file_text(&cycle()).replace(
         "temperature = { dist = \"uniform\" }",
         "temperature = { dist = \"uniform\" }\nopen_gap = { dist = \"uniform\", rel = 0.1 }\nspring = { dist = \"normal\", rel = 0.03 }\narmature_load = { dist = \"uniform\", rel = 0.2 }",
     );
@@ -181,7 +177,7 @@ fn the_plan_checks_the_pull_in_and_hold_settings_against_the_armature() {
             .unwrap_or_else(|| panic!("{start}: {:#?}", report.verdicts))
             .clone_fields()
     };
-    let f = scenario::parse("arm.toml", &file_text(CYCLE)).unwrap();
+    let f = scenario::parse("arm.toml", &file_text(&cycle())).unwrap();
     let report = lenz_harness::system::plan::plan(&f).unwrap();
     // The nominal plunger's pull-in and must-hold currents (f32 plan, `lenz::armature`); the
     // coil's ±10 % inductance tolerance scales the pull force `½·i²·|dL/dx|` by the same factor
@@ -199,7 +195,7 @@ fn the_plan_checks_the_pull_in_and_hold_settings_against_the_armature() {
     assert!((f64::from(limit) / want_hold - 1.0).abs() < 1e-4);
     assert!(pass);
     // A setting below the worst-case pull-in current fails.
-    let low = file_text(CYCLE).replacen(
+    let low = file_text(&cycle()).replacen(
         "pull_in_current = \"0.48A\"",
         "pull_in_current = \"0.45A\"",
         1,

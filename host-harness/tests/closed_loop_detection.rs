@@ -14,16 +14,8 @@ use lenz_harness::scenario::{self, run};
 mod demo_valve;
 use demo_valve::valve_with as file_text;
 
-const CYCLE: &str = r#"
-[[scenario]]
-name = "open and close"
-duration = "150ms"
-[[scenario.event]]
-at = "5ms"
-command = "on"
-[[scenario.event]]
-at = "90ms"
-command = "off"
+/// The checks of the open-close cycle (`demo_valve::open_close_cycle`).
+const CHECKS: &str = r#"
 [[scenario.check]]
 property = "seat-time"
 max = "20ms"
@@ -39,6 +31,10 @@ property = "false-detections"
 property = "hold-current"
 min = "0.2A"
 "#;
+
+fn cycle() -> String {
+    demo_valve::open_close_cycle(CHECKS)
+}
 
 fn value(r: &lenz_harness::closed_loop::RunResult, name: &str) -> f64 {
     r.property(name)
@@ -61,7 +57,7 @@ fn show(r: &lenz_harness::closed_loop::RunResult) {
 /// after the release.
 #[test]
 fn the_detector_driven_valve_seats_holds_and_reports() {
-    let f = scenario::parse("det.toml", &file_text(CYCLE)).unwrap_or_else(|e| panic!("{e}"));
+    let f = scenario::parse("det.toml", &file_text(&cycle())).unwrap_or_else(|e| panic!("{e}"));
     let r = run::run(&f, 0, &run::Params::NOMINAL, run::Record::None).unwrap();
     show(&r);
     assert!(r.passed(), "{:?}", r.violations());
@@ -131,7 +127,7 @@ property = "false-detections"
 
 /// An economical hold (duty `duty`) of the same valve, and the same cycle.
 fn economy(duty: f64) -> lenz_harness::scenario::File {
-    let text = file_text(CYCLE).replacen("hold_duty = 0.45", &format!("hold_duty = {duty}"), 1);
+    let text = file_text(&cycle()).replacen("hold_duty = 0.45", &format!("hold_duty = {duty}"), 1);
     scenario::parse("economy.toml", &text).unwrap_or_else(|e| panic!("{e}"))
 }
 
@@ -196,7 +192,7 @@ fn a_timer_only_driver_fails_where_the_detector_passes() {
 /// with its 0.7 LSB RMS noise. No false detection; the latencies are printed.
 #[test]
 fn a_detection_sweep_has_no_false_detection() {
-    let text = file_text(CYCLE).replacen(
+    let text = file_text(&cycle()).replacen(
         "\n[tolerances]\n",
         "\n[tolerances]\nopen_gap = { dist = \"uniform\", rel = 0.05 }\nspring = { dist = \"uniform\", rel = 0.1 }\narmature_load = { dist = \"uniform\", rel = 0.2 }\n",
         1,

@@ -13,20 +13,16 @@ use lenz_harness::closed_loop::{Actuation, Controller, RunResult, Sensed, Teleme
 use lenz_harness::controllers::ValveDriver;
 use lenz_harness::scenario::{self, File, run};
 
-const CYCLE: &str = r#"
-[[scenario]]
-name = "open and close"
-duration = "150ms"
-[[scenario.event]]
-at = "5ms"
-command = "on"
-[[scenario.event]]
-at = "90ms"
-command = "off"
+/// The checks of the open-close cycle (`demo_valve::open_close_cycle`).
+const CHECKS: &str = r#"
 [[scenario.check]]
 property = "estimator-error"
 max = "50mA"
 "#;
+
+fn cycle() -> String {
+    demo_valve::open_close_cycle(CHECKS)
+}
 
 /// When the wrapped driver's estimate is falsified.
 #[derive(Clone, Copy)]
@@ -73,7 +69,7 @@ impl Controller for Falsified {
 }
 
 fn file() -> File {
-    scenario::parse("scope.toml", &valve_with(CYCLE)).unwrap_or_else(|e| panic!("{e}"))
+    scenario::parse("scope.toml", &valve_with(&cycle())).unwrap_or_else(|e| panic!("{e}"))
 }
 
 fn with(f: &File, wrong: Wrong) -> RunResult {
@@ -133,7 +129,7 @@ fn a_controller_that_never_reports_the_seating_checks_nothing_and_fails() {
 fn without_an_armature_every_tick_counts() {
     // The same valve without its plunger: the pull-in is in scope again, so a wrong estimate
     // during the pull-in fails there.
-    let text = demo_valve::valve_without_armature(CYCLE);
+    let text = demo_valve::valve_without_armature(&cycle());
     let f = scenario::parse("plain.toml", &text).unwrap_or_else(|e| panic!("{e}"));
     let (v, pass, detail) = estimator_error(&with(&f, Wrong::DuringPullIn));
     println!("no armature, wrong during the pull-in: {v} A ({detail})");

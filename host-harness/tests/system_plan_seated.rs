@@ -6,6 +6,8 @@
 //! (one set of invented values).
 //! Label: computed (closed forms here; closed loop).
 
+#[path = "common/demo_valve.rs"]
+mod demo_valve;
 use lenz_harness::demo::armature::{DemoArmature, RELAY, VALVE as PLUNGER};
 use lenz_harness::scenario::{self, File, run};
 
@@ -29,16 +31,11 @@ fn release_bound(f: &File) -> f64 {
 /// The file's system and controller without the armature section (and without its
 /// scenarios, whose armature checks need one).
 fn without_armature(text: &str) -> String {
-    let (head, _) = text
-        .split_once("# -------")
-        .expect("the scenario separator");
-    let (a, b) = head
-        .split_once("[system.coil.armature]")
-        .expect("the armature section");
-    let plain = format!("{a}{}", &b[b.find("\n[").expect("a table after it")..]);
-    plain
-        + "\n[[scenario]]\nname = \"on\"\nduration = \"1ms\"\n\
-           [[scenario.check]]\nproperty = \"peak-current\"\nmax = \"10A\"\n"
+    demo_valve::without_armature(
+        text,
+        "[[scenario]]\nname = \"on\"\nduration = \"1ms\"\n\
+         [[scenario.check]]\nproperty = \"peak-current\"\nmax = \"10A\"\n",
+    )
 }
 
 /// The freewheel release from the steady current of the cold (−20 °C, R −5 %), high-supply

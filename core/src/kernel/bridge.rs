@@ -603,13 +603,7 @@ mod tests {
     use proptest::prelude::*;
     use proptest::test_runner::RngSeed;
 
-    fn vent() -> Motor {
-        MotorParams::new(2e-3, 1.5, 0.03)
-            .with_inertia_kg_m2(2e-5)
-            .with_friction_nm_s_per_rad(1e-6)
-            .validate()
-            .unwrap()
-    }
+    use crate::motor::test_vent::vent;
 
     fn guard(limit: f32, dead: f32) -> BridgeGuardConfig {
         BridgeGuardConfig::new(
@@ -770,23 +764,24 @@ mod tests {
         assert_eq!(c.signed_duty_q16(), -g.slew_q16());
     }
 
+    /// The vent's guard at 13.2 V and −20 °C with the resume margin `margin`.
+    fn resuming_params(margin: Option<f32>) -> BridgeGuardParams {
+        BridgeGuardParams {
+            supply_v: 13.2,
+            temp_c: -20.0,
+            max_temp_c: 60.0,
+            load_torque_nm: 0.02,
+            current_limit_a: 4.0,
+            tick_s: 100e-6,
+            dead_time_s: 200e-6,
+            reverse_speed_rad_s: 50.0,
+            probe_interval_s: 5e-3,
+            resume_margin_rad_s: margin,
+        }
+    }
+
     fn resuming_guard(margin: Option<f32>) -> BridgeGuardConfig {
-        BridgeGuardConfig::new(
-            &vent(),
-            &BridgeGuardParams {
-                supply_v: 13.2,
-                temp_c: -20.0,
-                max_temp_c: 60.0,
-                load_torque_nm: 0.02,
-                current_limit_a: 4.0,
-                tick_s: 100e-6,
-                dead_time_s: 200e-6,
-                reverse_speed_rad_s: 50.0,
-                probe_interval_s: 5e-3,
-                resume_margin_rad_s: margin,
-            },
-        )
-        .unwrap()
+        BridgeGuardConfig::new(&vent(), &resuming_params(margin)).unwrap()
     }
 
     #[test]
@@ -842,19 +837,7 @@ mod tests {
         assert_eq!(g.resume_duty_q16(i32::MIN), 0);
         // A margin that is negative or not finite is refused, by name.
         for bad in [-1.0, f32::NAN, f32::INFINITY] {
-            let mut p = BridgeGuardParams {
-                supply_v: 13.2,
-                temp_c: -20.0,
-                max_temp_c: 60.0,
-                load_torque_nm: 0.02,
-                current_limit_a: 4.0,
-                tick_s: 100e-6,
-                dead_time_s: 200e-6,
-                reverse_speed_rad_s: 50.0,
-                probe_interval_s: 5e-3,
-                resume_margin_rad_s: None,
-            };
-            p.resume_margin_rad_s = Some(bad);
+            let p = resuming_params(Some(bad));
             assert_eq!(
                 BridgeGuardConfig::new(&vent(), &p).unwrap_err().param(),
                 "resume_margin_rad_s"

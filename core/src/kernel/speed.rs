@@ -432,13 +432,7 @@ mod tests {
     use proptest::prelude::*;
     use proptest::test_runner::RngSeed;
 
-    fn vent() -> Motor {
-        MotorParams::new(2e-3, 1.5, 0.03)
-            .with_inertia_kg_m2(2e-5)
-            .with_friction_nm_s_per_rad(1e-6)
-            .validate()
-            .unwrap()
-    }
+    use crate::motor::test_vent::vent;
 
     /// The exact two-state update of the motor over one tick at constant applied voltage
     /// (f64, closed form of the second-order system via the plan's transient routine).

@@ -166,9 +166,7 @@ mod tests {
     use super::*;
 
     fn vent() -> Motor {
-        MotorParams::new(2e-3, 1.5, 0.03)
-            .with_inertia_kg_m2(2e-5)
-            .with_friction_nm_s_per_rad(1e-6)
+        crate::motor::test_vent::vent_params()
             .with_bridge_resistance_ohm(0.1)
             .validate()
             .unwrap()

@@ -121,6 +121,8 @@ mod response;
 mod spread;
 mod steady;
 #[cfg(test)]
+pub(crate) mod test_vent;
+#[cfg(test)]
 mod tests;
 
 pub use params::{

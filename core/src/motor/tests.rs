@@ -10,11 +10,7 @@ use proptest::test_runner::RngSeed;
 
 /// CHECKS C5.1 motor (values of the reference sheet, invented for the greenhouse vent motor).
 fn c51() -> Motor {
-    MotorParams::new(2e-3, 1.5, 0.03)
-        .with_inertia_kg_m2(2e-5)
-        .with_friction_nm_s_per_rad(1e-6)
-        .validate()
-        .unwrap()
+    super::test_vent::vent()
 }
 
 #[test]

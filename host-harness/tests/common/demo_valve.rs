@@ -25,9 +25,32 @@ pub fn valve_with(scenarios: &str) -> String {
 /// The same without the armature section (a coil that does not move).
 #[must_use]
 pub fn valve_without_armature(scenarios: &str) -> String {
-    let text = valve_with(scenarios);
-    let (a, b) = text
+    without_armature(VALVE, scenarios)
+}
+
+/// The system, controller and tolerances of the shipped coil file `text` (everything before
+/// its scenarios) without its `[system.coil.armature]` section, followed by `scenarios`.
+#[must_use]
+pub fn without_armature(text: &str, scenarios: &str) -> String {
+    let (head, _) = text
+        .split_once("# -------")
+        .expect("the scenario separator");
+    let (a, b) = head
         .split_once("[system.coil.armature]")
         .expect("the armature section");
-    format!("{a}{}", &b[b.find("\n[").expect("a table after it")..])
+    format!(
+        "{a}{}\n{scenarios}",
+        &b[b.find("\n[").expect("a table after it")..]
+    )
+}
+
+/// One open-close cycle of the valve (on at 5 ms, off at 90 ms, 150 ms in all) followed by
+/// `checks` (its `[[scenario.check]]` tables).
+#[must_use]
+pub fn open_close_cycle(checks: &str) -> String {
+    format!(
+        "\n[[scenario]]\nname = \"open and close\"\nduration = \"150ms\"\n\
+         [[scenario.event]]\nat = \"5ms\"\ncommand = \"on\"\n\
+         [[scenario.event]]\nat = \"90ms\"\ncommand = \"off\"\n{checks}"
+    )
 }

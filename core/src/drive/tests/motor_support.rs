@@ -23,11 +23,7 @@ pub const SUPPLY_V_PER_COUNT: f64 = 0.01;
 
 /// The demo vent motor (invented): 2 mH, 1.5 Ω, 0.03 N·m/A, 2·10⁻⁵ kg·m², 10⁻⁶ N·m·s/rad.
 pub fn vent() -> Motor {
-    MotorParams::new(2e-3, 1.5, 0.03)
-        .with_inertia_kg_m2(2e-5)
-        .with_friction_nm_s_per_rad(1e-6)
-        .validate()
-        .unwrap()
+    crate::motor::test_vent::vent()
 }
 
 /// Its driver on a 12 V bridge at a 10 kHz tick: peaks within 4 A at 12 V and 20 °C, two
