@@ -599,7 +599,6 @@ impl BridgeGuardConfig {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::motor::MotorParams;
     use proptest::prelude::*;
     use proptest::test_runner::RngSeed;
 

@@ -12,7 +12,7 @@ use embedded_hal::pwm::{self, SetDutyCycle};
 
 use crate::drive::{MotorDriverConfig, MotorDriverParams};
 use crate::kernel::{BridgeGuardParams, JamParams, SenseScale};
-use crate::motor::{Motor, MotorParams};
+use crate::motor::Motor;
 
 pub const TICK_S: f32 = 100e-6;
 /// Current sense: 4 mA per count, zero at 2048 counts (±8 A), 12-bit ADC.
