@@ -21,6 +21,13 @@
 //!   coasting estimate's error ([`vent_resume_margin_rad_s`]), jam at 3 A below 60 rad/s
 //!   (above the speed estimate's error at stall over the resistance tolerance) for 20 ms after
 //!   150 ms start blanking.
+//!
+//! The motor, bridge, supply, bus, thermal path and timing are those of the shipped
+//! `scenarios/motor.toml` (`tests/demo_vent_file.rs` holds them equal). The sense chain and
+//! the driver settings are this fixture's own, for the nominal winding: the file plans its
+//! driver over its part spreads as well (`lenz plan`), hence its reversal below 140 rad/s
+//! (the estimate's error at the instant a jam locks a winding of low inductance), jam speed
+//! 90 rad/s, and its overload and open-winding checks.
 
 use lenz::Error;
 use lenz::drive::{MotorDriverConfig, MotorDriverParams};
