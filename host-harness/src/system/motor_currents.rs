@@ -95,13 +95,33 @@ fn points(lo: f64, hi: f64, n: usize) -> impl Iterator<Item = f64> {
     (0..n).map(move |j| lo + (hi - lo) * j as f64 / (n - 1) as f64)
 }
 
-fn open_winding(
-    f: &File,
-    m: &MotorStage,
-    min_duty: f64,
-    open_a: f64,
-    err: &ReadingError,
-) -> Result<OpenWinding, SetupError> {
+/// One evaluation point of the open-winding figures: mean winding voltage, temperature,
+/// inductance, winding resistance at 20 °C and in the loop at the temperature (plus bridge
+/// and source), torque constant.
+struct Point {
+    u: f64,
+    temp: f64,
+    l: f64,
+    r20: f64,
+    r: f64,
+    k: f64,
+}
+
+impl Point {
+    fn text(&self) -> String {
+        format!(
+            "{:.2} V mean, {:.0} °C, L {:.3} mH, R at 20 °C {:.3} Ω, k {:.4} N·m/A",
+            self.u,
+            self.temp,
+            self.l * 1e3,
+            self.r20,
+            self.k
+        )
+    }
+}
+
+/// The evaluation points of the module docs.
+fn open_winding_points(f: &File, m: &MotorStage, min_duty: f64) -> Vec<Point> {
     let s = &f.system;
     let t = &f.tolerances;
     let half = |x: Option<RelTolerance>| x.map_or(0.0, tolerance_half_width);
@@ -112,6 +132,70 @@ fn open_winding(
     );
     let alpha = super::coil::copper_alpha20_per_k();
     let bridge = 2.0 * s.switch.on_resistance.get() + s.supply.source_resistance.get();
+    let (l0, r0, k0) = (
+        m.inductance.get(),
+        m.resistance.get(),
+        m.torque_constant.get(),
+    );
+    let mut out = Vec::new();
+    for u in [min_duty * s.supply.min.get(), s.supply.max.get()] {
+        for temp in points(s.temperature.min.get(), s.temperature.max.get(), 9) {
+            for (l, r20) in [
+                (l0 * (1.0 - dl), r0 * (1.0 - dr)),
+                (l0 * (1.0 - dl), r0 * (1.0 + dr)),
+                (l0 * (1.0 + dl), r0 * (1.0 - dr)),
+                (l0 * (1.0 + dl), r0 * (1.0 + dr)),
+            ] {
+                let r = r20 * (1.0 + alpha * (temp - 20.0)) + bridge;
+                out.extend(points(k0 * (1.0 - dk), k0 * (1.0 + dk), 9).map(|k| Point {
+                    u,
+                    temp,
+                    l,
+                    r20,
+                    r,
+                    k,
+                }));
+            }
+        }
+    }
+    out
+}
+
+/// The time the aided direction's current takes to cross `±a` at `p` (module docs), s, and
+/// why it is not bounded where it is infinite.
+fn crossing(p: &Point, b: f64, j: f64, i_r: f64, a: f64) -> (f64, &'static str) {
+    let sum = p.r / p.l + b / j;
+    let prod = (p.k * p.k + p.r * b) / (p.l * j);
+    let disc = sum * sum - 4.0 * prod;
+    if disc <= 0.0 {
+        return (f64::INFINITY, "underdamped: the crossing is not bounded");
+    }
+    let slow = (sum - disc.sqrt()) / 2.0;
+    let fast = (sum + disc.sqrt()) / 2.0;
+    if fast < 10.0 * slow {
+        (
+            f64::INFINITY,
+            "the electrical mode is not ten times faster than the mechanical one: not bounded",
+        )
+    } else if i_r <= a {
+        (
+            f64::INFINITY,
+            "the aided running current lies inside the band",
+        )
+    } else {
+        (((i_r + a) / (i_r - a)).ln() / slow, "")
+    }
+}
+
+fn open_winding(
+    f: &File,
+    m: &MotorStage,
+    min_duty: f64,
+    open_a: f64,
+    err: &ReadingError,
+) -> OpenWinding {
+    let s = &f.system;
+    let dl = f.tolerances.inductance.map_or(0.0, tolerance_half_width);
     let (b, j, load) = (m.friction.get(), m.inertia.get(), m.load_torque.get());
     // d·(1 − d) is largest at d = 1/2 over the judged duties d ≥ min_duty.
     let dd = if min_duty <= 0.5 {
@@ -128,86 +212,35 @@ fn open_winding(
         running_at: String::new(),
         ripple_a,
         reading_a: 0.0,
-        dwell_s: 0.0,
+        dwell_s: f64::NEG_INFINITY,
         dwell_note: String::new(),
     };
-    let mut worst_dwell = None;
-    for u in [min_duty * s.supply.min.get(), s.supply.max.get()] {
-        for temp in points(s.temperature.min.get(), s.temperature.max.get(), 9) {
-            for l in [
-                m.inductance.get() * (1.0 - dl),
-                m.inductance.get() * (1.0 + dl),
-            ] {
-                for r20 in [
-                    m.resistance.get() * (1.0 - dr),
-                    m.resistance.get() * (1.0 + dr),
-                ] {
-                    let r = r20 * (1.0 + alpha * (temp - 20.0)) + bridge;
-                    for k in points(
-                        m.torque_constant.get() * (1.0 - dk),
-                        m.torque_constant.get() * (1.0 + dk),
-                        9,
-                    ) {
-                        let den = k * k + r * b;
-                        let at = || {
-                            format!(
-                                "{u:.2} V mean, {temp:.0} °C, L {:.3} mH, R at 20 °C {r20:.3} Ω, k {k:.4} N·m/A",
-                                l * 1e3
-                            )
-                        };
-                        for (dir, i) in [
-                            ("forward", (b * u + k * load) / den),
-                            ("reverse (aided)", (k * load - b * u) / den),
-                        ] {
-                            if i.abs() < ow.running_a {
-                                ow.running_a = i.abs();
-                                ow.direction = dir;
-                                ow.running_at = at();
-                            }
-                        }
-                        // The crossing in the aided direction (module docs).
-                        let i_r = (k * load - b * u) / den;
-                        let p = r / l + b / j;
-                        let q = den / (l * j);
-                        let disc = p * p - 4.0 * q;
-                        let dwell = if disc <= 0.0 {
-                            (f64::INFINITY, "underdamped: the crossing is not bounded")
-                        } else {
-                            let slow = (p - disc.sqrt()) / 2.0;
-                            let fast = (p + disc.sqrt()) / 2.0;
-                            if fast < 10.0 * slow {
-                                (
-                                    f64::INFINITY,
-                                    "the electrical mode is not ten times faster than the mechanical one: not bounded",
-                                )
-                            } else if i_r <= a {
-                                (
-                                    f64::INFINITY,
-                                    "the aided running current lies inside the band",
-                                )
-                            } else {
-                                (((i_r + a) / (i_r - a)).ln() / slow, "")
-                            }
-                        };
-                        if worst_dwell.is_none_or(|w: f64| dwell.0 > w) {
-                            worst_dwell = Some(dwell.0);
-                            ow.dwell_s = dwell.0;
-                            ow.dwell_note = format!(
-                                "band ±{:.0} mA (threshold with sense error, ripple, {NOISE_SIGMAS}σ noise), aided running current {:.3} A at {}{}{}",
-                                a * 1e3,
-                                i_r,
-                                at(),
-                                if dwell.1.is_empty() { "" } else { ": " },
-                                dwell.1
-                            );
-                        }
-                    }
-                }
+    for p in open_winding_points(f, m, min_duty) {
+        let den = p.k * p.k + p.r * b;
+        let forward = (b * p.u + p.k * load) / den;
+        // The aided direction: the load torque drives, the motor holds it back.
+        let aided = (p.k * load - b * p.u) / den;
+        for (dir, i) in [("forward", forward), ("reverse (aided)", aided)] {
+            if i.abs() < ow.running_a {
+                ow.running_a = i.abs();
+                ow.direction = dir;
+                ow.running_at = p.text();
             }
+        }
+        let (dwell, why) = crossing(&p, b, j, aided, a);
+        if dwell > ow.dwell_s {
+            ow.dwell_s = dwell;
+            ow.dwell_note = format!(
+                "band ±{:.0} mA (threshold with sense error, ripple, {NOISE_SIGMAS}σ noise), \
+                 aided running current {aided:.3} A at {}{}{why}",
+                a * 1e3,
+                p.text(),
+                if why.is_empty() { "" } else { ": " },
+            );
         }
     }
     ow.reading_a = ow.running_a - err.at(ow.running_a, ripple_a);
-    Ok(ow)
+    ow
 }
 
 fn corner(c: &MotorCorner) -> String {
@@ -250,7 +283,7 @@ pub fn verdicts(f: &File, m: &MotorStage, c: &MotorController) -> Result<Vec<Ver
         });
     }
     if let Some(o) = c.open_winding {
-        let ow = open_winding(f, m, o.min_duty.get(), o.current.get(), &err)?;
+        let ow = open_winding(f, m, o.min_duty.get(), o.current.get(), &err);
         out.push(Verdict {
             check: "lowest running current read at the smallest judged duty, either direction \
                     > open-winding current (else a sound winding trips)"
