@@ -130,8 +130,8 @@ pub fn inputs(file: &File, m: &MotorStage) -> Result<MotorInputs, SetupError> {
 /// The driver plan for `settings`: the bridge guard's limits hold at the highest supply and
 /// the coldest winding of the description, with its load torque; the speed estimator is
 /// planned at `temp_c` without a filter; the jam detector with the settings' overload and
-/// open-winding checks where they are given. A restart while the rotor coasts resumes at the back-EMF's duty less the coasting
-/// estimate's error (`system::motor_resume`).
+/// open-winding checks where they are given. A restart while the rotor coasts resumes at the
+/// back-EMF's duty less the coasting estimate's error (`system::motor_resume`).
 ///
 /// # Errors
 ///

@@ -60,13 +60,12 @@ struct ReadingError {
 
 impl ReadingError {
     fn of(f: &File) -> Self {
-        let sense = &f.system.sense;
+        let rb = super::sense::reading_bounds(f);
         let nominal = super::sense::nominal(f);
         Self {
-            gain: sense.gain_error.get().abs()
-                + f.tolerances.sense_gain.map_or(0.0, tolerance_half_width),
-            offset_a: sense.offset.get().abs() / nominal.current.volts_per_unit,
-            noise_a: NOISE_SIGMAS * sense.noise.get() * nominal.current.units_per_count(),
+            gain: rb.gain_error + rb.current_gain_spread,
+            offset_a: rb.current_offset_a,
+            noise_a: NOISE_SIGMAS * f.system.sense.noise.get() * nominal.current.units_per_count(),
         }
     }
 

@@ -41,12 +41,9 @@ pub fn resume_margin_rad_s(
     let sense = &s.sense;
     let t = &f.tolerances;
     let nominal = super::sense::nominal(f);
-    let amps_per_adc_v = 1.0 / nominal.current.volts_per_unit;
-    let bus_per_adc_v = 1.0 / nominal.supply.volts_per_unit;
-    let g_e = sense.gain_error.get().abs();
-    let dg = t.sense_gain.map_or(0.0, tolerance_half_width);
-    let o_i = sense.offset.get().abs() * amps_per_adc_v;
-    let o_v = sense.offset.get().abs() * bus_per_adc_v;
+    let rb = super::sense::reading_bounds(f);
+    let (g_e, dg) = (rb.gain_error, rb.current_gain_spread);
+    let (o_i, o_v) = (rb.current_offset_a, rb.supply_offset_v);
     let v = s.supply.max.get();
     let err = lenz_err(f, "controller.motor", None);
     let r_p = f64::from(motor.loop_resistance_ohm(temp_c).map_err(&err)?);
